@@ -1,0 +1,49 @@
+"""Exception and warning classes of thinfilm."""
+
+__all__ = [
+    "ThinFilmError",
+    "ScenarioError",
+    "InputError",
+    "StabilityError",
+    "ThinFilmWarning",
+]
+
+
+class ThinFilmError(Exception):
+    """Base class of every error thinfilm raises on purpose (shown to users as one paragraph)."""
+
+
+class ScenarioError(ThinFilmError, ValueError):
+    """A scenario file or dictionary is invalid.
+
+    Parameters
+    ----------
+    message : str
+        What is wrong, the rule and the value.
+    path : str, optional
+        File the scenario came from (``"<dict>"`` when built in Python).
+    key : str, optional
+        Dotted key path inside the scenario, e.g. ``"material.anisotropy.axis"``.
+    """
+
+    def __init__(self, message, *, path=None, key=None):
+        self.path = path
+        self.key = key
+        where = ": ".join(p for p in (path, key) if p)
+        super().__init__(f"{where}: {message}" if where else message)
+
+
+class InputError(ThinFilmError, ValueError):
+    """A command-line value, image or run folder is invalid."""
+
+
+class StabilityError(ThinFilmError, RuntimeError):
+    """The integration blew up; carries the suggested largest time step in fs."""
+
+    def __init__(self, message, *, suggested_time_step_fs=None):
+        self.suggested_time_step_fs = suggested_time_step_fs
+        super().__init__(message)
+
+
+class ThinFilmWarning(UserWarning):
+    """Warnings about statistics (too few independent samples) or physics (time step)."""
