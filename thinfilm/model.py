@@ -1,0 +1,100 @@
+"""Energy terms -> an immutable Model of plain arrays and scalars the kernels read.
+
+Energy (each nearest-neighbour bond counted once):
+
+    E = -J sum_<ij> S_i.S_j - K sum_i (S_i.n)^2 - mu_s sum_i B.S_i
+
+Effective field (tesla): B_eff,i = -(1/mu_s) dE/dS_i = (J/mu_s) sum_j S_j + (2K/mu_s)(S_i.n) n + B.
+"""
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .lattice import Lattice
+from .units import MEV_J
+
+__all__ = ["Model", "build_model"]
+
+
+@dataclass(frozen=True)
+class Model:
+    """Finalised spin model. Build it with :func:`build_model`.
+
+    Attributes
+    ----------
+    lattice : Lattice
+    moment_J_per_T : float
+        Moment per site mu_s (J/T).
+    exchange_J : float
+        J per bond (J); E = -J S_i.S_j.
+    anisotropy_J : float
+        K per site (J); E = -K (S.n)^2, K > 0 easy axis, K < 0 easy plane.
+    axis : ndarray, shape (3,)
+        Unit anisotropy axis n.
+    field_T : ndarray, shape (3,)
+        Uniform Zeeman field B (T).
+    """
+
+    lattice: Lattice
+    moment_J_per_T: float
+    exchange_J: float
+    anisotropy_J: float
+    axis: np.ndarray = field(default_factory=lambda: np.array([0.0, 0.0, 1.0]))
+    field_T: np.ndarray = field(default_factory=lambda: np.zeros(3))
+
+    def __post_init__(self):
+        axis = np.asarray(self.axis, dtype=np.float64)
+        norm = np.linalg.norm(axis)
+        if axis.shape != (3,) or not norm > 0:
+            raise ValueError(f"anisotropy axis must be a non-zero 3-vector; got {axis!r}")
+        axis = axis / norm
+        fld = np.asarray(self.field_T, dtype=np.float64).reshape(3)
+        axis.setflags(write=False)
+        fld.setflags(write=False)
+        object.__setattr__(self, "axis", axis)
+        object.__setattr__(self, "field_T", fld)
+        if not self.moment_J_per_T > 0:
+            raise ValueError("the moment per site must be positive")
+
+    # reduced quantities: fields in tesla, as the kernels read them
+    @property
+    def exchange_T(self):
+        """J / mu_s in tesla."""
+        return self.exchange_J / self.moment_J_per_T
+
+    @property
+    def anisotropy_T(self):
+        """2K / mu_s in tesla (the anisotropy field when S is along n)."""
+        return 2.0 * self.anisotropy_J / self.moment_J_per_T
+
+    @property
+    def exchange_meV(self):
+        return self.exchange_J / MEV_J
+
+    @property
+    def anisotropy_meV(self):
+        return self.anisotropy_J / MEV_J
+
+    def with_field(self, field_T):
+        """Copy of the model with another Zeeman field (T)."""
+        return Model(self.lattice, self.moment_J_per_T, self.exchange_J, self.anisotropy_J,
+                     self.axis, np.asarray(field_T, dtype=np.float64))
+
+    def kernel_args(self):
+        """Tuple (code, periodic, exchange_T, anisotropy_T, axis) for the field kernels."""
+        lat = self.lattice
+        return (lat.code, lat.periodic, self.exchange_T, self.anisotropy_T, self.axis)
+
+
+def build_model(scenario):
+    """Build a :class:`Model` from a validated Scenario (see :mod:`thinfilm.scenario`)."""
+    from .scenario import Scenario
+
+    if not isinstance(scenario, Scenario):
+        raise TypeError("build_model needs a Scenario: call load_scenario(path_or_dict) first")
+    lat = Lattice(scenario.lattice.shape, scenario.lattice.nx, scenario.lattice.ny,
+                  scenario.lattice.spacing_nm, scenario.lattice.periodic)
+    m = scenario.material
+    return Model(lat, m.moment_J_per_T, m.exchange_J, m.anisotropy_J, m.axis,
+                 np.asarray(scenario.field_T, dtype=np.float64))
