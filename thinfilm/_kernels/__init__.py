@@ -1,0 +1,1 @@
+"""numba kernels on plain arrays: no validation, no allocation inside step loops."""
