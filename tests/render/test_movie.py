@@ -1,0 +1,154 @@
+"""Tests of thinfilm.render.movie: movies of tiny fake run folders read back with imageio."""
+
+import json
+
+import imageio.v3 as iio3
+import imageio_ffmpeg
+import numpy as np
+import pytest
+
+from thinfilm.errors import InputError
+from thinfilm.lattice import Lattice
+from thinfilm.render.movie import write_movie
+
+
+def save_snapshot(path, spins, lat, *, time_ps=0.0, temperature_K=10.0):
+    path.parent.mkdir(parents=True, exist_ok=True)
+    np.savez(path, spins=spins, positions_nm=lat.positions_nm, time_ps=time_ps,
+             temperature_K=temperature_K, field_T=np.zeros(3), spacing_nm=lat.spacing_nm,
+             box_nm=np.array(lat.box_nm), shape=lat.shape, periodic=lat.periodic)
+
+
+def fake_dynamics_run(root, lat, n=5):
+    """Run folder in which a down domain grows from the left edge, one column per frame."""
+    (root / "snapshots").mkdir(parents=True)
+    (root / "manifest.json").write_text(json.dumps({"kind": "dynamics", "lattice": lat.describe()}))
+    for k in range(n):
+        s = np.zeros((lat.ny, lat.nx, 3))
+        s[..., 2] = 1.0
+        s[:, : 2 * k, 2] = -1.0
+        save_snapshot(root / "snapshots" / f"snap_{k:06d}.npz", s, lat, time_ps=0.5 * k)
+    return root
+
+
+def read_mp4(path):
+    """(metadata, list of RGB frames) decoded by imageio-ffmpeg, the reference reader."""
+    n, _ = imageio_ffmpeg.count_frames_and_secs(str(path))  # decodes the whole stream
+    gen = imageio_ffmpeg.read_frames(str(path))
+    try:
+        meta = next(gen)
+        w, h = meta["size"]
+        # read exactly n frames and close: running the generator to exhaustion leaks its pipes
+        frames = [np.frombuffer(next(gen), np.uint8).reshape(h, w, 3) for _ in range(n)]
+    finally:
+        gen.close()
+    return meta, frames
+
+
+def test_movie_of_short_run(tmp_path):
+    lat = Lattice("square", 16, 16, 0.5)
+    run = fake_dynamics_run(tmp_path / "run", lat)
+    info = write_movie(run, tmp_path / "m.mp4", fps=12)
+    meta, frames = read_mp4(tmp_path / "m.mp4")
+    assert info.n_frames == len(frames) == 5
+    assert meta["fps"] == pytest.approx(12.0)
+    # 16 sites upscaled to the 256 px default width: 16 px per site
+    assert frames[0].shape == (256, 256, 3) == (info.height, info.width, 3)
+    first, last = frames[0].astype(int), frames[-1].astype(int)
+    # column 3 of sites (pixels 48..63) flipped up -> down; column 12 never changed
+    assert first[128, 56, 0] > first[128, 56, 2] + 60  # red
+    assert last[128, 56, 2] > last[128, 56, 0] + 60  # blue
+    assert np.abs(first[128, 200] - last[128, 200]).max() < 20
+    assert not list(tmp_path.glob("*.tmp*"))  # temp file renamed away
+
+
+def test_gif_frames_and_duration(tmp_path):
+    lat = Lattice("square", 8, 8, 1.0)
+    run = fake_dynamics_run(tmp_path / "run", lat, n=4)
+    info = write_movie(run, tmp_path / "m.gif", fps=10, gif=True, size=64)
+    frames = iio3.imread(tmp_path / "m.gif", index=None)
+    assert frames.shape[:3] == (4, 64, 64) == (info.n_frames, info.height, info.width)
+    # GIF delays are stored in 1/100 s; Pillow reports them in ms
+    assert iio3.immeta(tmp_path / "m.gif")["duration"] == pytest.approx(100)
+    assert not np.array_equal(frames[0], frames[-1])
+
+
+def test_sweep_movie_sorted_by_temperature(tmp_path):
+    lat = Lattice("square", 8, 8, 1.0)
+    run = tmp_path / "sweep"
+    # name order (T10 before T2) differs from temperature order
+    for t, mz in ((10.0, -1.0), (2.0, 1.0), (5.0, 0.0)):
+        s = np.zeros((8, 8, 3))
+        s[..., 2] = mz
+        s[..., 0] = 1.0 - abs(mz)
+        save_snapshot(run / "points" / f"L8_T{t:.3f}K" / "final.npz", s, lat, temperature_K=t)
+    s4 = np.zeros((4, 4, 3))
+    s4[..., 2] = 1
+    save_snapshot(run / "points" / "L4_T1.000K" / "final.npz", s4, Lattice("square", 4, 4, 1.0))
+    write_movie(run, tmp_path / "s.mp4")
+    _, frames = read_mp4(tmp_path / "s.mp4")
+    assert len(frames) == 3  # only the largest size, L = 8
+    assert frames[0][128, 128, 0] > frames[0][128, 128, 2] + 60  # T = 2 K, up, red
+    assert frames[-1][128, 128, 2] > frames[-1][128, 128, 0] + 60  # T = 10 K, down, blue
+    write_movie(run, tmp_path / "s4.mp4", lattice_size=4)
+    assert len(read_mp4(tmp_path / "s4.mp4")[1]) == 1
+
+
+def test_honeycomb_movie_even_size_and_instrument_panel(tmp_path):
+    lat = Lattice("honeycomb", 10, 10, 1.0)
+    run = fake_dynamics_run(tmp_path / "run", lat, n=3)
+    info = write_movie(run, tmp_path / "h.mp4", size=101, colour="angle")
+    assert info.width % 2 == 0 and info.height % 2 == 0
+    assert info.width == 102  # 101 px map padded to even
+    both = write_movie(run, tmp_path / "i.mp4", size=100,
+                       instrument={"fwhm_nm": 2.0, "pixel_nm": 0.5, "noise": 0.05, "seed": 1})
+    assert both.width > 2 * 100 and both.width % 2 == 0 and both.height % 2 == 0
+    _, frames = read_mp4(tmp_path / "i.mp4")
+    assert frames[0].shape == (both.height, both.width, 3)
+
+
+def test_frames_from_iterable_are_streamed(tmp_path):
+    produced = []
+
+    def frames():
+        for k in range(6):
+            produced.append(k)
+            s = np.zeros((32, 32, 3))
+            s[..., 2] = np.cos(0.3 * k)
+            s[..., 0] = np.sin(0.3 * k)
+            yield s
+
+    seen = []
+    info = write_movie(frames(), tmp_path / "g.mp4", progress=lambda n: seen.append((n, len(produced))))
+    assert info.n_frames == 6
+    # when frame n is written, at most one frame beyond it has been generated
+    assert all(p <= n + 1 for n, p in seen)
+
+
+def test_bad_inputs(tmp_path):
+    lat = Lattice("square", 4, 4, 1.0)
+    with pytest.raises(InputError, match="does not exist"):
+        write_movie(tmp_path / "nope", tmp_path / "a.mp4")
+    (tmp_path / "empty").mkdir()
+    with pytest.raises(InputError, match="neither snapshots"):
+        write_movie(tmp_path / "empty", tmp_path / "a.mp4")
+    run = fake_dynamics_run(tmp_path / "run", lat, n=2)
+    with pytest.raises(InputError, match=r"\.gif"):
+        write_movie(run, tmp_path / "a.mp4", gif=True)
+    with pytest.raises(InputError, match="fps"):
+        write_movie(run, tmp_path / "a.mp4", fps=0)
+    with pytest.raises(InputError, match="colour"):
+        write_movie(run, tmp_path / "a.mp4", colour="rainbow")
+    with pytest.raises(InputError, match="instrument"):
+        write_movie(run, tmp_path / "a.mp4", instrument={"noise": 0.1})
+    (run / "snapshots" / "snap_000009.npz").write_bytes(b"not a zip")
+    with pytest.raises(InputError, match="snap_000009.npz"):
+        write_movie(run, tmp_path / "a.mp4")
+    np.savez(run / "snapshots" / "snap_000009.npz", other=np.zeros(3))
+    with pytest.raises(InputError, match="no 'spins'"):
+        write_movie(run, tmp_path / "a.mp4")
+    save_snapshot(run / "snapshots" / "snap_000009.npz", np.zeros((2, 2, 3)), Lattice("square", 2, 2, 1.0))
+    with pytest.raises(InputError, match="same lattice"):
+        write_movie(run, tmp_path / "a.mp4")
+    assert not (tmp_path / "a.mp4").exists()
+    assert not list(tmp_path.glob(".*tmp*"))  # no temp file left behind after a failure
