@@ -113,7 +113,8 @@ def structure_factor(field, positions_nm, box_nm, period=(1, 1), *, subtract_mea
     -------
     kx, ky : ndarray, shape (ny, nx)
         Wavevector components in rad/nm, ``kx = 2 pi m / Lx``, ``ky = 2 pi n / Ly`` with m, n in
-        numpy FFT order (a complete set of distinct wavevectors of the torus).
+        numpy FFT order (for Bravais lattices a complete orthogonal set on the sites, so
+        Parseval holds; for the honeycomb basis the set spans two Brillouin zones).
     s_k : ndarray, shape (ny, nx)
         ``S(k) = |F(k)|^2 / N``, dimensionless.
     """

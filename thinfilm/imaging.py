@@ -1,0 +1,357 @@
+"""Instrument views of spin fields (rasterise, PSF blur, pixel binning) and analysis of measured images."""
+
+from pathlib import Path
+
+import numpy as np
+from scipy import ndimage
+from scipy.spatial import cKDTree
+
+from thinfilm import _io
+from thinfilm.analysis.correlation import correlation_function, correlation_length, ornstein_zernike_fit
+from thinfilm.analysis.domains import domain_statistics, label_domains
+from thinfilm.errors import InputError
+from thinfilm.units import parse_quantity
+
+__all__ = ["rasterise", "instrument_view", "load_image", "analyse_image"]
+
+FWHM_PER_SIGMA = 2.0 * np.sqrt(2.0 * np.log(2.0))
+BACKGROUNDS = ("none", "mean", "plane", "highpass")
+
+
+def rasterise(values, positions_nm, box_nm, pixel_nm, *, periodic=True, origin_nm=(0.0, 0.0)):
+    """Nearest-site raster of per-site values.
+
+    The box (Lx, Ly) is covered by ``nx = max(1, round(Lx / pixel_nm))`` by ``ny`` pixels of size
+    ``(Lx / nx, Ly / ny)``; pixel (i, j) is centred at ``origin + (j Lx / nx, i Ly / ny)`` and takes
+    the value of the site nearest to its centre (``scipy.spatial.cKDTree``, periodic distances when
+    ``periodic``; ties go to whichever site the tree returns). A square lattice rasterised at its
+    own spacing is returned unchanged.
+
+    Parameters
+    ----------
+    values : ndarray, shape (ny_sites, nx_sites) or (ny_sites, nx_sites, k)
+        Per-site scalars or vectors.
+    positions_nm : ndarray, shape (ny_sites, nx_sites, 2)
+        Site positions in nm.
+    box_nm : (float, float)
+        Box (Lx, Ly) in nm.
+    pixel_nm : float
+        Requested pixel size in nm.
+    periodic : bool
+        Use periodic (torus) distances.
+    origin_nm : (float, float)
+        Centre of pixel (0, 0) in nm.
+
+    Returns
+    -------
+    ndarray, shape (ny, nx) or (ny, nx, k)
+    """
+    vals = np.asarray(values)
+    pos = np.asarray(positions_nm, dtype=float)
+    box = np.asarray(box_nm, dtype=float)
+    if pos.ndim != 3 or pos.shape[2] != 2 or vals.shape[:2] != pos.shape[:2]:
+        raise InputError(
+            f"rasterise: values {vals.shape} and positions_nm {pos.shape} must share the (ny, nx) grid"
+        )
+    if not (np.isfinite(pixel_nm) and pixel_nm > 0) or box.shape != (2,) or np.any(box <= 0):
+        raise InputError(f"rasterise: pixel_nm ({pixel_nm!r}) and box_nm ({box_nm!r}) must be positive")
+    nx, ny = (max(1, int(round(b / pixel_nm))) for b in box)
+    px, py = box[0] / nx, box[1] / ny
+    gx, gy = np.meshgrid(origin_nm[0] + px * np.arange(nx), origin_nm[1] + py * np.arange(ny))
+    return _nearest(vals, pos, box, gx, gy, periodic)
+
+
+def _nearest(vals, pos, box, gx, gy, periodic):
+    """Values of the sites nearest to the points (gx, gy); result has gx.shape + vals.shape[2:]."""
+    centres = np.stack([gx.ravel(), gy.ravel()], axis=1)
+    xy = pos.reshape(-1, 2)
+    if periodic:
+        tree = cKDTree(np.mod(xy, box), boxsize=box)
+        centres = np.mod(centres, box)
+    else:
+        tree = cKDTree(xy)
+    _, idx = tree.query(centres)
+    flat = vals.reshape((xy.shape[0],) + vals.shape[2:])
+    return flat[idx].reshape(gx.shape + vals.shape[2:])
+
+
+def instrument_view(field, positions_nm, box_nm, *, pixel_nm, fwhm_nm, noise=0.0, rng=None, periodic=True):
+    """Image of a per-site scalar as a microscope with a Gaussian PSF would record it.
+
+    Steps: rasterise (:func:`rasterise`) on a fine grid of ``n_sub`` x ``n_sub`` sub-pixels per
+    instrument pixel (sub-pixel at most fwhm/4 and half the smallest site spacing, n_sub <= 16);
+    blur with a Gaussian of ``sigma = fwhm / (2 sqrt(2 ln 2))`` (``scipy.ndimage.gaussian_filter``,
+    wrapped when periodic, reflected at open edges); average each block of sub-pixels; add
+    Gaussian noise of standard deviation ``noise``. Instrument pixel (i, j) is centred at
+    ``(j px, i py)``, like the sites of a square lattice.
+
+    Parameters
+    ----------
+    field : ndarray, shape (ny, nx)
+        Per-site signal (e.g. m_z for Kerr or XMCD contrast), dimensionless.
+    positions_nm, box_nm
+        Site positions (ny, nx, 2) and box (Lx, Ly), nm.
+    pixel_nm : float
+        Instrument pixel size, nm.
+    fwhm_nm : float
+        Full width at half maximum of the PSF, nm (0 for none).
+    noise : float
+        Standard deviation of additive Gaussian noise, field units.
+    rng : numpy.random.Generator, optional
+        Source of the noise (a fresh unseeded generator when None).
+    periodic : bool
+        The film is a torus (periodic raster and blur).
+
+    Returns
+    -------
+    image : ndarray, shape (ny_px, nx_px)
+    pixel_nm : (float, float)
+        Actual pixel size (px, py) in nm (the box is covered by a whole number of pixels).
+    """
+    for name, val in (("pixel_nm", pixel_nm), ("fwhm_nm", fwhm_nm), ("noise", noise)):
+        if not (np.isfinite(val) and val >= 0) or (name == "pixel_nm" and val == 0):
+            raise InputError(f"instrument_view: {name} must be a finite number >= 0 (pixel_nm > 0); got {val!r}")
+    pos = np.asarray(positions_nm, dtype=float)
+    f = np.asarray(field, dtype=float)
+    if pos.ndim != 3 or pos.shape[2] != 2 or f.shape != pos.shape[:2]:
+        raise InputError(f"instrument_view: field {f.shape} and positions_nm {pos.shape} must share the (ny, nx) grid")
+    d = np.diff(pos.reshape(-1, 2)[: min(pos.shape[1], 2) + 1], axis=0)
+    spacing = float(np.min(np.hypot(d[:, 0], d[:, 1]))) if d.size else pixel_nm
+    target = min(fwhm_nm / 4.0 if fwhm_nm > 0 else np.inf, 0.5 * spacing)
+    n_sub = int(min(16, max(1, np.ceil(pixel_nm / target))))
+    box = np.asarray(box_nm, dtype=float)
+    nx, ny = (max(1, int(round(b / pixel_nm))) for b in box)
+    px, py = box[0] / nx, box[1] / ny
+    fx, fy = px / n_sub, py / n_sub
+    origin = (-0.5 * px + 0.5 * fx, -0.5 * py + 0.5 * fy)
+    gx, gy = np.meshgrid(origin[0] + fx * np.arange(nx * n_sub), origin[1] + fy * np.arange(ny * n_sub))
+    fine = _nearest(f, pos, box, gx, gy, periodic)
+    if fwhm_nm > 0:
+        sigma = fwhm_nm / FWHM_PER_SIGMA
+        fine = ndimage.gaussian_filter(fine, (sigma / fy, sigma / fx), mode="wrap" if periodic else "reflect")
+    image = fine.reshape(ny, n_sub, nx, n_sub).mean(axis=(1, 3))
+    if noise > 0:
+        rng = np.random.default_rng() if rng is None else rng
+        image = image + rng.normal(0.0, noise, image.shape)
+    return image, (px, py)
+
+
+def _length_nm(text, what, path):
+    """Parse a length string such as "5 nm" into nm, or raise InputError naming it."""
+    try:
+        value = parse_quantity(text, "length") * 1e9
+    except ValueError as exc:
+        raise InputError(f"image {path}: {what} {text!r} is not a length: {exc}") from None
+    if not value > 0:
+        raise InputError(f"image {path}: {what} must be a positive length; got {text!r}")
+    return value
+
+
+def _read_grey(path, what):
+    """Read a PNG/TIFF as a 2D float array; colour, stacks and missing files raise InputError."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(f"{what} {path}: no such file; give the path of a greyscale PNG or TIFF image")
+    try:
+        if path.suffix.lower() in (".tif", ".tiff"):
+            import tifffile
+
+            data = tifffile.imread(path)
+        else:
+            import imageio.v3 as iio
+
+            data = iio.imread(path)
+    except Exception as exc:  # readers raise many unrelated types for corrupt files
+        raise InputError(f"{what} {path}: cannot be read as an image ({type(exc).__name__}: {exc})") from None
+    data = np.asarray(data)
+    if data.ndim == 3 and data.shape[-1] in (1, 2, 3, 4):
+        channels = data[..., : 1 if data.shape[-1] <= 2 else 3].astype(float)
+        if not np.all(channels == channels[..., :1]):
+            raise InputError(
+                f"{what} {path}: is a colour image (shape {data.shape}) with different channels; "
+                f"thinfilm analyses greyscale intensity only, so convert it to greyscale first"
+            )
+        data = channels[..., 0]
+    if data.ndim != 2:
+        raise InputError(
+            f"{what} {path}: has shape {data.shape}; a single 2D greyscale image (rows, columns) is "
+            f"needed (split multi-page stacks into single frames)"
+        )
+    if not np.issubdtype(data.dtype, np.number) or np.iscomplexobj(data):
+        raise InputError(f"{what} {path}: pixel type {data.dtype} is not a real number type")
+    return data.astype(np.float64)
+
+
+def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=None):
+    """Read a greyscale PNG/TIFF and normalise its contrast.
+
+    Parameters
+    ----------
+    path : str or Path
+        Image file (PNG, TIFF or any format imageio reads). Identical RGB(A) channels are accepted.
+    pixel_size : str
+        Pixel size with a length unit, e.g. ``"5 nm"`` or ``"0.02 um"``.
+    mask : str or Path, optional
+        Image of the same shape; nonzero pixels are invalid (excluded everywhere).
+    background : {"none", "mean", "plane", "highpass"}, optional
+        Removed before normalising: nothing, the mean, a least-squares plane a + b x + c y, or a
+        Gaussian low-pass of standard deviation ``highpass_length`` (high-pass filter).
+    highpass_length : str, optional
+        Length with unit for ``background="highpass"``.
+
+    Returns
+    -------
+    image : ndarray, shape (ny, nx)
+        Contrast with the median of valid pixels at 0 and scaled into [-1, 1]; 0 on invalid
+        pixels.
+    valid : ndarray of bool
+        True on valid pixels.
+    pixel_nm : float
+        Pixel size in nm.
+    """
+    background = "none" if background is None else str(background).lower()
+    if background not in BACKGROUNDS:
+        raise InputError(f"image {path}: background {background!r} is unknown; allowed: {', '.join(BACKGROUNDS)}")
+    pixel_nm = _length_nm(pixel_size, "pixel_size", path)
+    img = _read_grey(path, "image")
+    if min(img.shape) < 8:
+        raise InputError(f"image {path}: is only {img.shape[1]} x {img.shape[0]} pixels; at least 8 x 8 are needed")
+    valid = np.ones(img.shape, dtype=bool)
+    if mask is not None:
+        m = _read_grey(mask, "mask image")
+        if m.shape != img.shape:
+            raise InputError(f"mask image {mask}: has shape {m.shape} but the image {path} has {img.shape}")
+        valid = m == 0
+    bad = ~np.isfinite(img) & valid
+    if bad.any():
+        raise InputError(
+            f"image {path}: {int(bad.sum())} pixels are NaN or infinite; mark them invalid with a "
+            f"mask image (nonzero = invalid)"
+        )
+    if valid.sum() < 16:
+        raise InputError(f"image {path}: fewer than 16 valid pixels remain after applying the mask {mask}")
+    img = np.where(valid, img, 0.0)
+    if background == "mean":
+        img = img - img[valid].mean()
+    elif background == "plane":
+        yy, xx = np.nonzero(valid)
+        design = np.stack([np.ones(xx.size), xx, yy], axis=1).astype(float)
+        coef, *_ = np.linalg.lstsq(design, img[valid], rcond=None)
+        gy, gx = np.indices(img.shape)
+        img = img - (coef[0] + coef[1] * gx + coef[2] * gy)
+    elif background == "highpass":
+        if highpass_length is None:
+            raise InputError(f"image {path}: background 'highpass' needs highpass_length, e.g. '200 nm'")
+        sigma = _length_nm(highpass_length, "highpass_length", path) / pixel_nm
+        num = ndimage.gaussian_filter(np.where(valid, img, 0.0), sigma, mode="reflect")
+        den = ndimage.gaussian_filter(valid.astype(float), sigma, mode="reflect")
+        img = img - num / np.maximum(den, 1e-12)
+    img = img - np.median(img[valid])
+    scale = np.max(np.abs(img[valid]))
+    if not scale > 1e-12 * max(1.0, float(np.max(np.abs(img)))):
+        raise InputError(
+            f"image {path}: has no contrast (all valid pixels equal after background '{background}' "
+            f"removal); there is nothing to analyse"
+        )
+    return np.where(valid, img / scale, 0.0), valid, pixel_nm
+
+
+def _finite(x):
+    """JSON-friendly float: nan/inf become None."""
+    x = float(x)
+    return x if np.isfinite(x) else None
+
+
+def analyse_image(path, *, pixel_size, out_dir, level=0.0, smoothing=None, background="plane",
+                  mask=None, highpass_length=None):
+    """Correlation length and domain sizes of one measured (or rendered) image.
+
+    Writes ``image_analysis.json``, ``correlation.csv`` (``r_nm, C, pair_count``) and
+    ``domain_sizes.csv`` (``domain_id, sign, area_nm2, equivalent_diameter_nm``) to ``out_dir``.
+    The image is treated with open edges. ``correlation_length_nm`` is the second-moment estimator
+    for open fields and ``correlation_length_fit_nm`` the OZ fit of C(r) (see
+    :mod:`thinfilm.analysis.correlation`); the error of the former is a jackknife over the four
+    image quadrants, that of the latter the fit covariance.
+
+    Parameters
+    ----------
+    path, pixel_size, mask, background, highpass_length
+        As in :func:`load_image`.
+    out_dir : str or Path
+        Output folder (created).
+    level : float
+        Domain threshold on the normalised contrast [-1, 1].
+    smoothing : str, optional
+        Gaussian smoothing (standard deviation, with unit) before thresholding.
+
+    Returns
+    -------
+    dict
+        The JSON content.
+    """
+    img, valid, pixel_nm = load_image(path, pixel_size=pixel_size, mask=mask, background=background,
+                                      highpass_length=highpass_length)
+    smoothing_nm = None if smoothing is None else _length_nm(smoothing, "smoothing", path)
+    ny, nx = img.shape
+    gy, gx = np.indices(img.shape)
+    pos = np.stack([gx * pixel_nm, gy * pixel_nm], axis=-1).astype(float)
+    box = (nx * pixel_nm, ny * pixel_nm)
+    r, c, counts = correlation_function(img, pos, box, periodic=False, valid=valid)
+    fit = ornstein_zernike_fit(img, pos, box, periodic=False, valid=valid)
+    hy, hx = ny // 2, nx // 2
+    quads = [(slice(0, hy), slice(0, hx)), (slice(0, hy), slice(hx, 2 * hx)),
+             (slice(hy, 2 * hy), slice(0, hx)), (slice(hy, 2 * hy), slice(hx, 2 * hx))]
+    full = correlation_length([img], pos, box, periodic=False, valid=valid, n_blocks=1)
+    qvalid = [valid[q] for q in quads]
+    err, method = np.nan, "jackknife over the four image quadrants"
+    if all(v.sum() >= 16 for v in qvalid) and min(hy, hx) >= 8:
+        # quadrants share one geometry only when they share one validity mask
+        if all(np.array_equal(qvalid[0], v) for v in qvalid):
+            qres = correlation_length([img[q] for q in quads], pos[:hy, :hx], (hx * pixel_nm, hy * pixel_nm),
+                                      periodic=False, valid=qvalid[0], n_blocks=4)
+            err = qres["second_moment_err_nm"]
+        else:
+            vals = [correlation_length([img[q]], pos[:hy, :hx], (hx * pixel_nm, hy * pixel_nm), periodic=False,
+                                       valid=v, n_blocks=1)["second_moment_nm"] for q, v in zip(quads, qvalid)]
+            err = float(np.std(vals, ddof=1) / 2.0)
+            method = "standard error of the four image quadrants' estimates"
+    else:
+        method = "none (image too small to split into quadrants)"
+    labels, signs = label_domains(img, level=level, smoothing_nm=smoothing_nm, pixel_nm=pixel_nm, valid=valid)
+    stats = domain_statistics(labels, pixel_nm**2, signs=signs)
+    edge = np.unique(np.concatenate([labels[0], labels[-1], labels[:, 0], labels[:, -1]]))
+    result = {
+        "image_path": str(path),
+        "image_shape_px": [ny, nx],
+        "pixel_size_nm": pixel_nm,
+        "background": background,
+        "valid_fraction": float(valid.mean()),
+        "level": float(level),
+        "smoothing_nm": smoothing_nm,
+        "correlation_length_nm": _finite(full["second_moment_nm"]),
+        "correlation_length_nm_err": _finite(err),
+        "xi_error_method": method,
+        "correlation_length_fit_nm": _finite(fit["xi_nm"]),
+        "correlation_length_fit_nm_err": _finite(fit["xi_err_nm"]),
+        "correlation_fit_range_nm": [_finite(fit["r_min_nm"]), _finite(fit["r_max_nm"])],
+        "correlation_fit_model": "C(r) = A K0(r / xi) + B (2D Ornstein-Zernike)",
+        "domain_count": stats["all"]["count"],
+        "up_domain_count": stats["up"]["count"],
+        "down_domain_count": stats["down"]["count"],
+        "domains_touching_edge_count": int(np.count_nonzero(edge)),
+        "mean_domain_area_nm2": _finite(stats["all"]["mean_area_nm2"]),
+        "median_domain_area_nm2": _finite(stats["all"]["median_area_nm2"]),
+        "area_weighted_mean_domain_area_nm2": _finite(stats["all"]["area_weighted_mean_area_nm2"]),
+        "mean_equivalent_diameter_nm": _finite(stats["all"]["mean_equivalent_diameter_nm"]),
+        "largest_domain_fraction": _finite(stats["all"]["largest_fraction"]),
+        "up_area_fraction": _finite(stats["up_area_fraction"]),
+    }
+    out = Path(out_dir)
+    _io.write_csv(out / "correlation.csv", ["r_nm", "C", "pair_count"],
+                  [(float(a), float(b), int(k)) for a, b, k in zip(r, c, counts)])
+    areas = stats["area_by_label_nm2"]
+    _io.write_csv(out / "domain_sizes.csv", ["domain_id", "sign", "area_nm2", "equivalent_diameter_nm"],
+                  [(k, int(signs[k]), float(areas[k]), float(2 * np.sqrt(areas[k] / np.pi)))
+                   for k in range(1, signs.size)])
+    _io.write_json(out / "image_analysis.json", result)
+    return result
