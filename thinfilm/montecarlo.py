@@ -1,0 +1,277 @@
+"""Equilibrium Metropolis Monte Carlo of a Model at fixed temperature: sweeps, samples, runs.
+
+Units: spins are unit vectors; the sampled distribution is exp(-E/(kB T)) with E the Model
+energy in joules. A model with moment 1 muB and J = 1 meV has kB T/J = t at
+T = t * 11.6045 K (J/kB = 11.6045 K for 1 meV).
+
+One sweep visits every site once, in the row colouring of
+:mod:`thinfilm._kernels.metropolis`; each visit makes a Gaussian trial step, an optional
+axis reflection S -> S - 2(S.n)n and ``over_relaxation`` over-relaxation moves. The Gaussian
+width sigma is tuned toward acceptance 0.5 only inside :meth:`MonteCarlo.warmup`; it is frozen
+during sampling so detailed balance holds.
+"""
+
+import numpy as np
+
+from ._kernels.metropolis import (
+    N_COUNTS,
+    metropolis_samples,
+    metropolis_sweeps,
+    metropolis_sweeps_serial,
+    row_colouring,
+    row_sums,
+    row_sums_serial,
+)
+from .model import Model
+from .units import KB_J_PER_K, MEV_J
+
+__all__ = ["MonteCarlo"]
+
+SIGMA_MIN = 1e-4
+SIGMA_MAX = 5.0  # beyond this the trial direction is nearly uniform on the sphere
+TARGET_ACCEPTANCE = 0.5
+PARALLEL_MIN_SITES = 4096  # smaller lattices run single-threaded (thread wake-ups dominate)
+
+
+class MonteCarlo:
+    """Metropolis sampler of one Model at one temperature.
+
+    Parameters
+    ----------
+    model : Model
+    temperature_K : float
+        Temperature (K), > 0.
+    seed : int
+        Generator seed; a run is a deterministic function of (seed, initial spins, calls).
+    initial_spins : ndarray (ny, nx, 3), "random", "ordered" or None
+        Starting configuration; None and "random" draw uniform directions from ``seed``;
+        "ordered" puts every spin along the anisotropy axis.
+    sigma : float, optional
+        Initial Gaussian step width (default 0.5); tuned in :meth:`warmup`.
+    reflection : bool or "auto"
+        Axis-reflection move; "auto" turns it on when K > 0 (easy axis).
+    over_relaxation : int
+        Over-relaxation moves per site and sweep (default 1).
+    stream : int
+        Random stream (>= 1; stream 0 belongs to the LLG noise).
+    parallel : bool or None
+        Threaded kernels; None (default) uses them for lattices of >= 4096 sites. Results are
+        bitwise identical either way.
+    """
+
+    def __init__(self, model, temperature_K, *, seed, initial_spins=None, sigma=0.5,
+                 reflection="auto", over_relaxation=1, stream=1, parallel=None):
+        if not isinstance(model, Model):
+            raise TypeError("MonteCarlo needs a thinfilm.model.Model")
+        if not temperature_K > 0:
+            raise ValueError(f"temperature must be positive (K); got {temperature_K!r}")
+        lat = model.lattice
+        if lat.periodic and (lat.nx < 2 or lat.ny < 2):
+            raise ValueError("periodic Monte Carlo needs at least 2 rows and 2 columns "
+                             "(a single periodic row or column bonds a site to itself)")
+        if int(stream) < 1:
+            raise ValueError("Monte Carlo uses random streams >= 1 (0 is the LLG noise)")
+        if int(over_relaxation) < 0:
+            raise ValueError("over_relaxation must be >= 0")
+        self.model = model
+        self.temperature_K = float(temperature_K)
+        self.seed = int(seed)
+        self.stream = int(stream)
+        self.n_or = int(over_relaxation)
+        self.reflection = bool(model.anisotropy_J > 0) if reflection == "auto" else bool(reflection)
+        self.parallel = lat.n_sites >= PARALLEL_MIN_SITES if parallel is None else bool(parallel)
+        self._order, self._bounds = row_colouring(lat.ny, lat.periodic)
+        self._code, self._periodic, self._jt, self._kt, self._axis = model.kernel_args()
+        self._b = np.ascontiguousarray(model.field_T, dtype=np.float64)
+        self._axis = np.ascontiguousarray(self._axis, dtype=np.float64)
+        self._beta = model.moment_J_per_T / (KB_J_PER_K * self.temperature_K)
+        self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
+        self._rows = np.empty((lat.ny, 4))
+        self.sweep_count = 0
+        self.sigma = float(sigma)
+        self.spins = self._initial(initial_spins)
+
+    # ---------------------------------------------------------------- state
+    def _initial(self, init):
+        lat = self.model.lattice
+        shape = (lat.ny, lat.nx, 3)
+        if init is None or (isinstance(init, str) and init == "random"):
+            g = np.random.default_rng(self.seed).normal(size=shape)
+            return np.ascontiguousarray(g / np.linalg.norm(g, axis=-1, keepdims=True))
+        if isinstance(init, str) and init == "ordered":
+            return np.ascontiguousarray(np.broadcast_to(self._axis, shape), dtype=np.float64)
+        if isinstance(init, str):
+            raise ValueError(f"initial_spins must be an array, 'random' or 'ordered'; got {init!r}")
+        return self._checked(init)
+
+    def _checked(self, spins):
+        lat = self.model.lattice
+        a = np.array(spins, dtype=np.float64, order="C")
+        if a.shape != (lat.ny, lat.nx, 3):
+            raise ValueError(f"spins must have shape {(lat.ny, lat.nx, 3)}; got {a.shape}")
+        norm = np.linalg.norm(a, axis=-1, keepdims=True)
+        if not np.all(norm > 0) or not np.all(np.isfinite(a)):
+            raise ValueError("spins must be finite and non-zero")
+        return a / norm
+
+    @property
+    def spins(self):
+        """Current spins (ny, nx, 3), the live array (copy before keeping it)."""
+        return self._spins
+
+    @spins.setter
+    def spins(self, value):
+        self._spins = self._checked(value)
+
+    @property
+    def state(self):
+        """Resumable state: dict with spins (copy), sweep (int), sigma (float)."""
+        return {"spins": self._spins.copy(), "sweep": int(self.sweep_count),
+                "sigma": float(self.sigma)}
+
+    @state.setter
+    def state(self, value):
+        self.spins = value["spins"]
+        self.sweep_count = int(value["sweep"])
+        self.sigma = float(value["sigma"])
+
+    # ---------------------------------------------------------------- moves
+    def sweep(self, n=1):
+        """Make n sweeps at the current (frozen) sigma.
+
+        Returns
+        -------
+        dict
+            Acceptance ratios over these sweeps: "gaussian", "reflection", "over_relaxation".
+        """
+        n = int(n)
+        self._counts[:] = 0
+        if n > 0:
+            kernel = metropolis_sweeps if self.parallel else metropolis_sweeps_serial
+            kernel(self._spins, self._order, self._bounds, self._code, self._periodic,
+                   self._jt, self._kt, self._axis, self._b, self._beta, self.sigma, self.seed,
+                   self.stream, self.sweep_count, n, self.reflection, self.n_or, self._counts)
+            self.sweep_count += n
+        visits = max(n, 1) * self.model.lattice.n_sites
+        acc = self._counts.sum(axis=0)
+        return {"gaussian": acc[0] / visits,
+                "reflection": acc[1] / visits if self.reflection else float("nan"),
+                "over_relaxation": acc[2] / (visits * self.n_or) if self.n_or else float("nan")}
+
+    def warmup(self, n, *, tune=True, chunk=10):
+        """Make n sweeps; with tune, adjust sigma after every chunk toward acceptance 0.5.
+
+        Returns the Gaussian acceptance ratio of the last chunk.
+        """
+        done = 0
+        acc = float("nan")
+        while done < n:
+            m = min(chunk, n - done)
+            acc = self.sweep(m)["gaussian"]
+            done += m
+            if tune:
+                # multiplicative update, factor exp(2 (a - 0.5)) in [0.37, 2.7]
+                s = self.sigma * np.exp(2.0 * (acc - TARGET_ACCEPTANCE))
+                self.sigma = float(min(max(s, SIGMA_MIN), SIGMA_MAX))
+        return acc
+
+    # ---------------------------------------------------------------- measurements
+    def measure(self):
+        """Per-spin observables of the current spins.
+
+        Returns
+        -------
+        dict
+            energy_J (per spin, J), m_vector (3,) (mean spin), m_order (component along the
+            anisotropy axis if K > 0, else abs(m_vector)).
+        """
+        sums = row_sums if self.parallel else row_sums_serial
+        sums(self._spins, self._code, self._periodic, self._jt, self._kt, self._axis, self._b,
+             self._rows)
+        tot = self._rows.sum(axis=0)
+        return self._per_spin(tot[None, :])[0]
+
+    def _per_spin(self, tot):
+        """(n, 4) totals (mx, my, mz, energy in mu_s T) -> list of per-spin measurement dicts."""
+        n = self.model.lattice.n_sites
+        m = tot[:, :3] / n
+        e = self.model.moment_J_per_T * tot[:, 3] / n
+        if self.model.anisotropy_J > 0:
+            order = m @ self._axis
+        else:
+            order = np.linalg.norm(m, axis=1)
+        return [{"energy_J": float(e[k]), "m_vector": m[k], "m_order": float(order[k])}
+                for k in range(tot.shape[0])]
+
+    def _series(self, n_samples, sample_every):
+        """Kernel loop: n_samples x (sample_every sweeps + totals); returns (n, 4) totals."""
+        out = np.empty((n_samples, 4))
+        self._counts[:] = 0
+        if n_samples > 0:
+            metropolis_samples(self._spins, self._order, self._bounds, self._code,
+                               self._periodic, self._jt, self._kt, self._axis, self._b,
+                               self._beta, self.sigma, self.seed, self.stream, self.sweep_count,
+                               n_samples, sample_every, self.reflection, self.n_or,
+                               self._counts, self._rows, out, self.parallel)
+            self.sweep_count += n_samples * sample_every
+        return out
+
+    def samples(self, n_samples, sample_every=1):
+        """Generator: make sample_every sweeps, then yield :meth:`measure`, n_samples times."""
+        for _ in range(int(n_samples)):
+            self.sweep(sample_every)
+            yield self.measure()
+
+    def run(self, n_warmup, n_samples, sample_every=1, *, tune=True, progress=None):
+        """Warm up (tuning sigma), then record a time series.
+
+        Parameters
+        ----------
+        n_warmup : int
+            Warm-up sweeps (sigma tuned when ``tune``; frozen afterwards).
+        n_samples : int
+            Number of measurements.
+        sample_every : int
+            Sweeps between measurements.
+        progress : callable, optional
+            Called as progress(done, total) after each chunk of measurements.
+
+        Returns
+        -------
+        dict of arrays
+            energy_J, energy_meV (n_samples,) per spin; m_vector (n_samples, 3); m_order
+            (n_samples,); sweep (n_samples,) sweep count at each sample; plus scalars
+            temperature_K, n_sites, sigma, acceptance (dict, over the sampling sweeps).
+        """
+        self.warmup(n_warmup, tune=tune)
+        n_samples = int(n_samples)
+        sample_every = int(sample_every)
+        if sample_every < 1:
+            raise ValueError("sample_every must be >= 1")
+        tot = np.empty((n_samples, 4))
+        acc_sum = np.zeros(N_COUNTS, dtype=np.int64)
+        # chunks of about 2e6 site visits between progress calls
+        per_sample = sample_every * self.model.lattice.n_sites
+        chunk = max(1, min(n_samples, 2_000_000 // per_sample))
+        done = 0
+        while done < n_samples:
+            m = min(chunk, n_samples - done)
+            tot[done:done + m] = self._series(m, sample_every)
+            acc_sum += self._counts.sum(axis=0)
+            done += m
+            if progress is not None:
+                progress(done, n_samples)
+        n = self.model.lattice.n_sites
+        mv = tot[:, :3] / n
+        e = self.model.moment_J_per_T * tot[:, 3] / n
+        mo = mv @ self._axis if self.model.anisotropy_J > 0 else np.linalg.norm(mv, axis=1)
+        sw = self.sweep_count - (n_samples - 1 - np.arange(n_samples)) * sample_every
+        visits = max(n_samples * int(sample_every), 1) * self.model.lattice.n_sites
+        acceptance = {"gaussian": acc_sum[0] / visits,
+                      "reflection": acc_sum[1] / visits if self.reflection else float("nan"),
+                      "over_relaxation": (acc_sum[2] / (visits * self.n_or) if self.n_or
+                                          else float("nan"))}
+        return {"energy_J": e, "energy_meV": e / MEV_J, "m_vector": mv, "m_order": mo,
+                "sweep": sw, "temperature_K": self.temperature_K,
+                "n_sites": self.model.lattice.n_sites, "sigma": self.sigma,
+                "acceptance": acceptance}
