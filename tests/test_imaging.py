@@ -61,7 +61,9 @@ def test_delta_blur_fwhm():
     x = np.arange(64) - 32.0
     var = np.sum(img.sum(axis=0) * x**2) / img.sum()
     measured = FWHM_PER_SIGMA * np.sqrt(var)
-    assert measured == pytest.approx(FWHM_PER_SIGMA * np.sqrt((fwhm / FWHM_PER_SIGMA) ** 2 + 2 / 12), abs=0.05)
+    assert measured == pytest.approx(
+        FWHM_PER_SIGMA * np.sqrt((fwhm / FWHM_PER_SIGMA) ** 2 + 2 / 12), abs=0.05
+    )
     assert abs(measured - fwhm) < 1.0
 
 
@@ -98,10 +100,24 @@ def test_blurring_never_lowers_xi(seed):
 def test_noise_is_seeded():
     lat = Lattice("square", 8, 8, 1.0)
     f = np.zeros((8, 8))
-    a, _ = instrument_view(f, lat.positions_nm, lat.box_nm, pixel_nm=1.0, fwhm_nm=1.0, noise=0.1,
-                           rng=np.random.default_rng(5))
-    b, _ = instrument_view(f, lat.positions_nm, lat.box_nm, pixel_nm=1.0, fwhm_nm=1.0, noise=0.1,
-                           rng=np.random.default_rng(5))
+    a, _ = instrument_view(
+        f,
+        lat.positions_nm,
+        lat.box_nm,
+        pixel_nm=1.0,
+        fwhm_nm=1.0,
+        noise=0.1,
+        rng=np.random.default_rng(5),
+    )
+    b, _ = instrument_view(
+        f,
+        lat.positions_nm,
+        lat.box_nm,
+        pixel_nm=1.0,
+        fwhm_nm=1.0,
+        noise=0.1,
+        rng=np.random.default_rng(5),
+    )
     np.testing.assert_array_equal(a, b)
     # sample std of 64 N(0, 0.1) values: within 5 standard errors (0.1 / sqrt(2 * 63))
     assert abs(a.std(ddof=1) - 0.1) < 5 * 0.1 / np.sqrt(126)
@@ -146,8 +162,15 @@ def test_analyse_image_writes_outputs(tmp_path):
     res = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "out", smoothing="5 nm")
     saved = json.loads((tmp_path / "out" / "image_analysis.json").read_text())
     assert saved == res
-    for key in ("correlation_length_nm", "correlation_length_nm_err", "correlation_length_fit_nm",
-                "mean_domain_area_nm2", "domain_count", "pixel_size_nm", "xi_error_method"):
+    for key in (
+        "correlation_length_nm",
+        "correlation_length_nm_err",
+        "correlation_length_fit_nm",
+        "mean_domain_area_nm2",
+        "domain_count",
+        "pixel_size_nm",
+        "xi_error_method",
+    ):
         assert res[key] is not None, key
     assert res["pixel_size_nm"] == 5.0 and res["domain_count"] >= 2
     assert 2 * 5.0 < res["correlation_length_nm"] < 96 * 5.0 / 2
@@ -163,19 +186,57 @@ def test_analyse_image_writes_outputs(tmp_path):
 @pytest.mark.parametrize(
     "make,kwargs,match",
     [
-        (lambda d: write_png(d / "c.png", np.dstack([np.zeros((16, 16), np.uint8), np.full((16, 16), 9, np.uint8),
-                                                      np.zeros((16, 16), np.uint8)])), {}, "colour"),
+        (
+            lambda d: write_png(
+                d / "c.png",
+                np.dstack(
+                    [
+                        np.zeros((16, 16), np.uint8),
+                        np.full((16, 16), 9, np.uint8),
+                        np.zeros((16, 16), np.uint8),
+                    ]
+                ),
+            ),
+            {},
+            "colour",
+        ),
         (lambda d: write_png(d / "k.png", np.full((16, 16), 7, np.uint8)), {}, "no contrast"),
         (lambda d: d / "missing.png", {}, "no such file"),
-        (lambda d: write_png(d / "u.png", np.arange(256, dtype=np.uint8).reshape(16, 16)),
-         {"pixel_size": "5 parsec/s"}, "pixel_size"),
-        (lambda d: write_png(d / "u2.png", np.arange(256, dtype=np.uint8).reshape(16, 16)),
-         {"pixel_size": "5 furlongs_of_nothing"}, "pixel_size"),
-        (lambda d: (tifffile.imwrite(d / "n.tif", np.where(np.eye(16) > 0, np.nan, 1.0)), d / "n.tif")[1], {}, "NaN"),
-        (lambda d: (tifffile.imwrite(d / "s.tif", np.random.default_rng(0).random((5, 16, 16)).astype(np.float32), photometric="minisblack"), d / "s.tif")[1], {},
-         "2D greyscale"),
-        (lambda d: write_png(d / "t.png", np.arange(256, dtype=np.uint8).reshape(16, 16)),
-         {"background": "wavelet"}, "background"),
+        (
+            lambda d: write_png(d / "u.png", np.arange(256, dtype=np.uint8).reshape(16, 16)),
+            {"pixel_size": "5 parsec/s"},
+            "pixel_size",
+        ),
+        (
+            lambda d: write_png(d / "u2.png", np.arange(256, dtype=np.uint8).reshape(16, 16)),
+            {"pixel_size": "5 furlongs_of_nothing"},
+            "pixel_size",
+        ),
+        (
+            lambda d: (
+                tifffile.imwrite(d / "n.tif", np.where(np.eye(16) > 0, np.nan, 1.0)),
+                d / "n.tif",
+            )[1],
+            {},
+            "NaN",
+        ),
+        (
+            lambda d: (
+                tifffile.imwrite(
+                    d / "s.tif",
+                    np.random.default_rng(0).random((5, 16, 16)).astype(np.float32),
+                    photometric="minisblack",
+                ),
+                d / "s.tif",
+            )[1],
+            {},
+            "2D greyscale",
+        ),
+        (
+            lambda d: write_png(d / "t.png", np.arange(256, dtype=np.uint8).reshape(16, 16)),
+            {"background": "wavelet"},
+            "background",
+        ),
     ],
 )
 def test_bad_images_raise_input_error(tmp_path, make, kwargs, match):

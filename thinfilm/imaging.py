@@ -7,7 +7,11 @@ from scipy import ndimage
 from scipy.spatial import cKDTree
 
 from thinfilm import _io
-from thinfilm.analysis.correlation import correlation_function, correlation_length, ornstein_zernike_fit
+from thinfilm.analysis.correlation import (
+    correlation_function,
+    correlation_length,
+    ornstein_zernike_fit,
+)
 from thinfilm.analysis.domains import domain_statistics, label_domains
 from thinfilm.errors import InputError
 from thinfilm.units import parse_quantity
@@ -54,7 +58,9 @@ def rasterise(values, positions_nm, box_nm, pixel_nm, *, periodic=True, origin_n
             f"rasterise: values {vals.shape} and positions_nm {pos.shape} must share the (ny, nx) grid"
         )
     if not (np.isfinite(pixel_nm) and pixel_nm > 0) or box.shape != (2,) or np.any(box <= 0):
-        raise InputError(f"rasterise: pixel_nm ({pixel_nm!r}) and box_nm ({box_nm!r}) must be positive")
+        raise InputError(
+            f"rasterise: pixel_nm ({pixel_nm!r}) and box_nm ({box_nm!r}) must be positive"
+        )
     nx, ny = (max(1, int(round(b / pixel_nm))) for b in box)
     px, py = box[0] / nx, box[1] / ny
     gx, gy = np.meshgrid(origin_nm[0] + px * np.arange(nx), origin_nm[1] + py * np.arange(ny))
@@ -75,7 +81,9 @@ def _nearest(vals, pos, box, gx, gy, periodic):
     return flat[idx].reshape(gx.shape + vals.shape[2:])
 
 
-def instrument_view(field, positions_nm, box_nm, *, pixel_nm, fwhm_nm, noise=0.0, rng=None, periodic=True):
+def instrument_view(
+    field, positions_nm, box_nm, *, pixel_nm, fwhm_nm, noise=0.0, rng=None, periodic=True
+):
     """Image of a per-site scalar as a microscope with a Gaussian PSF would record it.
 
     Steps: rasterise (:func:`rasterise`) on a fine grid of ``n_sub`` x ``n_sub`` sub-pixels per
@@ -110,11 +118,15 @@ def instrument_view(field, positions_nm, box_nm, *, pixel_nm, fwhm_nm, noise=0.0
     """
     for name, val in (("pixel_nm", pixel_nm), ("fwhm_nm", fwhm_nm), ("noise", noise)):
         if not (np.isfinite(val) and val >= 0) or (name == "pixel_nm" and val == 0):
-            raise InputError(f"instrument_view: {name} must be a finite number >= 0 (pixel_nm > 0); got {val!r}")
+            raise InputError(
+                f"instrument_view: {name} must be a finite number >= 0 (pixel_nm > 0); got {val!r}"
+            )
     pos = np.asarray(positions_nm, dtype=float)
     f = np.asarray(field, dtype=float)
     if pos.ndim != 3 or pos.shape[2] != 2 or f.shape != pos.shape[:2]:
-        raise InputError(f"instrument_view: field {f.shape} and positions_nm {pos.shape} must share the (ny, nx) grid")
+        raise InputError(
+            f"instrument_view: field {f.shape} and positions_nm {pos.shape} must share the (ny, nx) grid"
+        )
     d = np.diff(pos.reshape(-1, 2)[: min(pos.shape[1], 2) + 1], axis=0)
     spacing = float(np.min(np.hypot(d[:, 0], d[:, 1]))) if d.size else pixel_nm
     target = min(fwhm_nm / 4.0 if fwhm_nm > 0 else np.inf, 0.5 * spacing)
@@ -124,11 +136,15 @@ def instrument_view(field, positions_nm, box_nm, *, pixel_nm, fwhm_nm, noise=0.0
     px, py = box[0] / nx, box[1] / ny
     fx, fy = px / n_sub, py / n_sub
     origin = (-0.5 * px + 0.5 * fx, -0.5 * py + 0.5 * fy)
-    gx, gy = np.meshgrid(origin[0] + fx * np.arange(nx * n_sub), origin[1] + fy * np.arange(ny * n_sub))
+    gx, gy = np.meshgrid(
+        origin[0] + fx * np.arange(nx * n_sub), origin[1] + fy * np.arange(ny * n_sub)
+    )
     fine = _nearest(f, pos, box, gx, gy, periodic)
     if fwhm_nm > 0:
         sigma = fwhm_nm / FWHM_PER_SIGMA
-        fine = ndimage.gaussian_filter(fine, (sigma / fy, sigma / fx), mode="wrap" if periodic else "reflect")
+        fine = ndimage.gaussian_filter(
+            fine, (sigma / fy, sigma / fx), mode="wrap" if periodic else "reflect"
+        )
     image = fine.reshape(ny, n_sub, nx, n_sub).mean(axis=(1, 3))
     if noise > 0:
         rng = np.random.default_rng() if rng is None else rng
@@ -151,7 +167,9 @@ def _read_grey(path, what):
     """Read a PNG/TIFF as a 2D float array; colour, stacks and missing files raise InputError."""
     path = Path(path)
     if not path.is_file():
-        raise InputError(f"{what} {path}: no such file; give the path of a greyscale PNG or TIFF image")
+        raise InputError(
+            f"{what} {path}: no such file; give the path of a greyscale PNG or TIFF image"
+        )
     try:
         if path.suffix.lower() in (".tif", ".tiff"):
             import tifffile
@@ -162,7 +180,9 @@ def _read_grey(path, what):
 
             data = iio.imread(path)
     except Exception as exc:  # readers raise many unrelated types for corrupt files
-        raise InputError(f"{what} {path}: cannot be read as an image ({type(exc).__name__}: {exc})") from None
+        raise InputError(
+            f"{what} {path}: cannot be read as an image ({type(exc).__name__}: {exc})"
+        ) from None
     data = np.asarray(data)
     if data.ndim == 3 and data.shape[-1] in (1, 2, 3, 4):
         channels = data[..., : 1 if data.shape[-1] <= 2 else 3].astype(float)
@@ -211,16 +231,22 @@ def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=
     """
     background = "none" if background is None else str(background).lower()
     if background not in BACKGROUNDS:
-        raise InputError(f"image {path}: background {background!r} is unknown; allowed: {', '.join(BACKGROUNDS)}")
+        raise InputError(
+            f"image {path}: background {background!r} is unknown; allowed: {', '.join(BACKGROUNDS)}"
+        )
     pixel_nm = _length_nm(pixel_size, "pixel_size", path)
     img = _read_grey(path, "image")
     if min(img.shape) < 8:
-        raise InputError(f"image {path}: is only {img.shape[1]} x {img.shape[0]} pixels; at least 8 x 8 are needed")
+        raise InputError(
+            f"image {path}: is only {img.shape[1]} x {img.shape[0]} pixels; at least 8 x 8 are needed"
+        )
     valid = np.ones(img.shape, dtype=bool)
     if mask is not None:
         m = _read_grey(mask, "mask image")
         if m.shape != img.shape:
-            raise InputError(f"mask image {mask}: has shape {m.shape} but the image {path} has {img.shape}")
+            raise InputError(
+                f"mask image {mask}: has shape {m.shape} but the image {path} has {img.shape}"
+            )
         valid = m == 0
     bad = ~np.isfinite(img) & valid
     if bad.any():
@@ -229,7 +255,9 @@ def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=
             f"mask image (nonzero = invalid)"
         )
     if valid.sum() < 16:
-        raise InputError(f"image {path}: fewer than 16 valid pixels remain after applying the mask {mask}")
+        raise InputError(
+            f"image {path}: fewer than 16 valid pixels remain after applying the mask {mask}"
+        )
     img = np.where(valid, img, 0.0)
     if background == "mean":
         img = img - img[valid].mean()
@@ -241,7 +269,9 @@ def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=
         img = img - (coef[0] + coef[1] * gx + coef[2] * gy)
     elif background == "highpass":
         if highpass_length is None:
-            raise InputError(f"image {path}: background 'highpass' needs highpass_length, e.g. '200 nm'")
+            raise InputError(
+                f"image {path}: background 'highpass' needs highpass_length, e.g. '200 nm'"
+            )
         sigma = _length_nm(highpass_length, "highpass_length", path) / pixel_nm
         num = ndimage.gaussian_filter(np.where(valid, img, 0.0), sigma, mode="reflect")
         den = ndimage.gaussian_filter(valid.astype(float), sigma, mode="reflect")
@@ -262,8 +292,17 @@ def _finite(x):
     return x if np.isfinite(x) else None
 
 
-def analyse_image(path, *, pixel_size, out_dir, level=0.0, smoothing=None, background="plane",
-                  mask=None, highpass_length=None):
+def analyse_image(
+    path,
+    *,
+    pixel_size,
+    out_dir,
+    level=0.0,
+    smoothing=None,
+    background="plane",
+    mask=None,
+    highpass_length=None,
+):
     """Correlation length and domain sizes of one measured (or rendered) image.
 
     Writes ``image_analysis.json``, ``correlation.csv`` (``r_nm, C, pair_count``) and
@@ -289,8 +328,13 @@ def analyse_image(path, *, pixel_size, out_dir, level=0.0, smoothing=None, backg
     dict
         The JSON content.
     """
-    img, valid, pixel_nm = load_image(path, pixel_size=pixel_size, mask=mask, background=background,
-                                      highpass_length=highpass_length)
+    img, valid, pixel_nm = load_image(
+        path,
+        pixel_size=pixel_size,
+        mask=mask,
+        background=background,
+        highpass_length=highpass_length,
+    )
     smoothing_nm = None if smoothing is None else _length_nm(smoothing, "smoothing", path)
     ny, nx = img.shape
     gy, gx = np.indices(img.shape)
@@ -299,25 +343,46 @@ def analyse_image(path, *, pixel_size, out_dir, level=0.0, smoothing=None, backg
     r, c, counts = correlation_function(img, pos, box, periodic=False, valid=valid)
     fit = ornstein_zernike_fit(img, pos, box, periodic=False, valid=valid)
     hy, hx = ny // 2, nx // 2
-    quads = [(slice(0, hy), slice(0, hx)), (slice(0, hy), slice(hx, 2 * hx)),
-             (slice(hy, 2 * hy), slice(0, hx)), (slice(hy, 2 * hy), slice(hx, 2 * hx))]
+    quads = [
+        (slice(0, hy), slice(0, hx)),
+        (slice(0, hy), slice(hx, 2 * hx)),
+        (slice(hy, 2 * hy), slice(0, hx)),
+        (slice(hy, 2 * hy), slice(hx, 2 * hx)),
+    ]
     full = correlation_length([img], pos, box, periodic=False, valid=valid, n_blocks=1)
     qvalid = [valid[q] for q in quads]
     err, method = np.nan, "jackknife over the four image quadrants"
     if all(v.sum() >= 16 for v in qvalid) and min(hy, hx) >= 8:
         # quadrants share one geometry only when they share one validity mask
         if all(np.array_equal(qvalid[0], v) for v in qvalid):
-            qres = correlation_length([img[q] for q in quads], pos[:hy, :hx], (hx * pixel_nm, hy * pixel_nm),
-                                      periodic=False, valid=qvalid[0], n_blocks=4)
+            qres = correlation_length(
+                [img[q] for q in quads],
+                pos[:hy, :hx],
+                (hx * pixel_nm, hy * pixel_nm),
+                periodic=False,
+                valid=qvalid[0],
+                n_blocks=4,
+            )
             err = qres["second_moment_err_nm"]
         else:
-            vals = [correlation_length([img[q]], pos[:hy, :hx], (hx * pixel_nm, hy * pixel_nm), periodic=False,
-                                       valid=v, n_blocks=1)["second_moment_nm"] for q, v in zip(quads, qvalid)]
+            vals = [
+                correlation_length(
+                    [img[q]],
+                    pos[:hy, :hx],
+                    (hx * pixel_nm, hy * pixel_nm),
+                    periodic=False,
+                    valid=v,
+                    n_blocks=1,
+                )["second_moment_nm"]
+                for q, v in zip(quads, qvalid)
+            ]
             err = float(np.std(vals, ddof=1) / 2.0)
             method = "standard error of the four image quadrants' estimates"
     else:
         method = "none (image too small to split into quadrants)"
-    labels, signs = label_domains(img, level=level, smoothing_nm=smoothing_nm, pixel_nm=pixel_nm, valid=valid)
+    labels, signs = label_domains(
+        img, level=level, smoothing_nm=smoothing_nm, pixel_nm=pixel_nm, valid=valid
+    )
     stats = domain_statistics(labels, pixel_nm**2, signs=signs)
     edge = np.unique(np.concatenate([labels[0], labels[-1], labels[:, 0], labels[:, -1]]))
     result = {
@@ -347,11 +412,19 @@ def analyse_image(path, *, pixel_size, out_dir, level=0.0, smoothing=None, backg
         "up_area_fraction": _finite(stats["up_area_fraction"]),
     }
     out = Path(out_dir)
-    _io.write_csv(out / "correlation.csv", ["r_nm", "C", "pair_count"],
-                  [(float(a), float(b), int(k)) for a, b, k in zip(r, c, counts)])
+    _io.write_csv(
+        out / "correlation.csv",
+        ["r_nm", "C", "pair_count"],
+        [(float(a), float(b), int(k)) for a, b, k in zip(r, c, counts)],
+    )
     areas = stats["area_by_label_nm2"]
-    _io.write_csv(out / "domain_sizes.csv", ["domain_id", "sign", "area_nm2", "equivalent_diameter_nm"],
-                  [(k, int(signs[k]), float(areas[k]), float(2 * np.sqrt(areas[k] / np.pi)))
-                   for k in range(1, signs.size)])
+    _io.write_csv(
+        out / "domain_sizes.csv",
+        ["domain_id", "sign", "area_nm2", "equivalent_diameter_nm"],
+        [
+            (k, int(signs[k]), float(areas[k]), float(2 * np.sqrt(areas[k] / np.pi)))
+            for k in range(1, signs.size)
+        ],
+    )
     _io.write_json(out / "image_analysis.json", result)
     return result

@@ -47,7 +47,9 @@ def oz_lattice_fields(lat, xi, m, seed):
     return out
 
 
-@pytest.mark.parametrize("shape,nx,ny", [("square", 6, 4), ("triangular", 5, 6), ("honeycomb", 6, 4)])
+@pytest.mark.parametrize(
+    "shape,nx,ny", [("square", 6, 4), ("triangular", 5, 6), ("honeycomb", 6, 4)]
+)
 def test_structure_factor_equals_direct_sum(shape, nx, ny):
     # exact: definition S(k) = |sum_r s(r) exp(-i k.r)|^2 / N evaluated by brute force
     lat = Lattice(shape, nx, ny, 0.7)
@@ -73,7 +75,7 @@ def test_correlation_function_matches_brute_force(shape):
     d -= np.asarray(lat.box_nm) * np.round(d / np.asarray(lat.box_nm))
     dist = np.hypot(d[..., 0], d[..., 1])
     prod = g[:, None] * g[None]
-    for ri, ci, ki in zip(r, c, counts):
+    for ri, ci, ki in zip(r, c, counts, strict=True):
         sel = np.abs(dist - ri) < 0.025
         assert sel.sum() == ki
         assert ci == pytest.approx(prod[sel].mean(), abs=1e-12)
@@ -86,8 +88,9 @@ def test_open_correlation_uses_overlap_counts_and_mask():
     valid = rng.random((7, 9)) > 0.2
     gy, gx = np.indices(f.shape)
     pos = np.stack([gx, gy], -1).astype(float)
-    r, c, counts = correlation_function(f, pos, (9.0, 7.0), periodic=False, valid=valid, bin_nm=0.01,
-                                        r_max_nm=1.01)
+    r, c, counts = correlation_function(
+        f, pos, (9.0, 7.0), periodic=False, valid=valid, bin_nm=0.01, r_max_nm=1.01
+    )
     g = np.where(valid, f - f[valid].mean(), 0.0)
     horiz = (g[:, :-1] * g[:, 1:]).sum() * 2 + (g[:-1] * g[1:]).sum() * 2
     n_h = (valid[:, :-1] & valid[:, 1:]).sum() * 2 + (valid[:-1] & valid[1:]).sum() * 2

@@ -75,7 +75,9 @@ def test_triangular_checkerboard_follows_lattice_bonds():
 
 def test_lattice_route_equals_grid_route_on_square_lattice():
     # consistency: square-lattice neighbour table (periodic) == grid labelling with edge joining
-    f = ndimage.gaussian_filter(np.random.default_rng(7).standard_normal((24, 30)), 2.0, mode="wrap")
+    f = ndimage.gaussian_filter(
+        np.random.default_rng(7).standard_normal((24, 30)), 2.0, mode="wrap"
+    )
     lat = Lattice("square", 30, 24, 1.0)
     a, _ = label_domains(f, neighbours=lat.neighbours)
     b, _ = label_domains(f, periodic=True)
@@ -92,8 +94,10 @@ def test_mask_and_smoothing():
     labels, _ = label_domains(f, smoothing_nm=2.0, pixel_nm=0.5, valid=valid)
     assert np.all(labels[:, 15] == 0)
     assert not set(np.unique(labels[:, :15])) & set(np.unique(labels[:, 16:])) - {0}
-    plain, _ = label_domains(ndimage.gaussian_filter(f, 4.0, mode="constant")
-                             / ndimage.gaussian_filter(np.ones_like(f), 4.0, mode="constant"))
+    plain, _ = label_domains(
+        ndimage.gaussian_filter(f, 4.0, mode="constant")
+        / ndimage.gaussian_filter(np.ones_like(f), 4.0, mode="constant")
+    )
     smoothed, _ = label_domains(f, smoothing_nm=2.0, pixel_nm=0.5)
     assert same_partition(plain, smoothed)
 

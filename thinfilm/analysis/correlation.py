@@ -23,7 +23,9 @@ def _geometry(field, positions_nm, box_nm, period, periodic, valid=None, stack=F
     try:
         f = np.asarray(field, dtype=np.float64)
     except (TypeError, ValueError) as exc:
-        raise InputError(f"correlation analysis: the field must be a numeric array; {exc}") from None
+        raise InputError(
+            f"correlation analysis: the field must be a numeric array; {exc}"
+        ) from None
     if not stack:
         if f.ndim != 2:
             raise InputError(
@@ -45,7 +47,9 @@ def _geometry(field, positions_nm, box_nm, period, periodic, valid=None, stack=F
         )
     box = np.asarray(box_nm, dtype=np.float64).reshape(-1)
     if box.shape != (2,) or not np.all(np.isfinite(box)) or np.any(box <= 0):
-        raise InputError(f"correlation analysis: box_nm must be two positive lengths in nm; got {box_nm!r}")
+        raise InputError(
+            f"correlation analysis: box_nm must be two positive lengths in nm; got {box_nm!r}"
+        )
     pr, pc = (int(p) for p in period)
     if pr < 1 or pc < 1 or ny % pr or nx % pc:
         raise InputError(
@@ -141,8 +145,8 @@ def _pair_entries(f, valid, pos, box, period, cell, periodic):
     my, mx = f.shape[1] // pr, f.shape[2] // pc
     shape = (my, mx) if periodic else (2 * my, 2 * mx)
     subs = [(a, b) for a in range(pr) for b in range(pc)]
-    ff = {s: np.fft.rfft2(f[:, s[0]::pr, s[1]::pc], s=shape) for s in subs}
-    vv = {s: np.fft.rfft2(valid[s[0]::pr, s[1]::pc].astype(float), s=shape) for s in subs}
+    ff = {s: np.fft.rfft2(f[:, s[0] :: pr, s[1] :: pc], s=shape) for s in subs}
+    vv = {s: np.fft.rfft2(valid[s[0] :: pr, s[1] :: pc].astype(float), s=shape) for s in subs}
     u = np.arange(shape[0])
     v = np.arange(shape[1])
     if not periodic:
@@ -184,8 +188,16 @@ def _radial(binmat, dist, sums_mean, counts):
 
 
 def correlation_function(
-    field, positions_nm, box_nm, period=(1, 1), *, periodic=True, subtract_mean=True,
-    valid=None, bin_nm=None, r_max_nm=None,
+    field,
+    positions_nm,
+    box_nm,
+    period=(1, 1),
+    *,
+    periodic=True,
+    subtract_mean=True,
+    valid=None,
+    bin_nm=None,
+    r_max_nm=None,
 ):
     """Radially averaged pair correlation C(r) = <s(x) s(x + r)> - <s>^2 computed by FFT.
 
@@ -222,13 +234,17 @@ def correlation_function(
     counts : ndarray
         Number of ordered site pairs in each bin.
     """
-    f, valid, pos, box, period, cell = _geometry(field, positions_nm, box_nm, period, periodic, valid)
+    f, valid, pos, box, period, cell = _geometry(
+        field, positions_nm, box_nm, period, periodic, valid
+    )
     if subtract_mean:
         f = np.where(valid, f - f[0][valid].mean(), 0.0)
     bin_nm = 0.5 * _spacing(cell, period) if bin_nm is None else float(bin_nm)
     r_max_nm = 0.5 * float(box.min()) if r_max_nm is None else float(r_max_nm)
     if not (bin_nm > 0 and r_max_nm > 0):
-        raise InputError(f"correlation_function: bin_nm and r_max_nm must be positive; got {bin_nm}, {r_max_nm}")
+        raise InputError(
+            f"correlation_function: bin_nm and r_max_nm must be positive; got {bin_nm}, {r_max_nm}"
+        )
     dist, sums, counts = _pair_entries(f, valid, pos, box, period, cell, periodic)
     binmat = _binning(dist, bin_nm, r_max_nm)
     return _radial(binmat, dist, sums[0], counts)
@@ -283,7 +299,8 @@ def _sm_open(dist, c_entries, site_area, fit):
     t = r_c / xi
     m0 = np.sum(ce) + 2 * np.pi * amp * xi**2 * t * special.k1(t)
     m2 = np.sum(dist[sel] ** 2 * ce) + 2 * np.pi * amp * xi**4 * (
-        t**3 * special.k1(t) + 2 * t**2 * special.kn(2, t))
+        t**3 * special.k1(t) + 2 * t**2 * special.kn(2, t)
+    )
     return float(np.sqrt(m2 / (4.0 * m0))) if m0 > 0 and m2 > 0 else np.nan
 
 
@@ -315,7 +332,10 @@ def _fit_oz(r, c, spacing, r_lim, r_min_nm=None, r_max_nm=None, xi_guess_nm=None
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
                 popt, pcov = optimize.curve_fit(
-                    _oz_model, rs, cs, p0=(amp0, xi, 0.0),
+                    _oz_model,
+                    rs,
+                    cs,
+                    p0=(amp0, xi, 0.0),
                     bounds=([-np.inf, 0.05 * spacing, -np.inf], [np.inf, 20.0 * r_lim, np.inf]),
                 )
         except (RuntimeError, ValueError, optimize.OptimizeWarning):
@@ -345,7 +365,6 @@ def _analyse(fields, valid, pos, box, period, cell, periodic, subtract_mean, n_b
         def sm(idx):
             return _sm_periodic(s5[idx].mean(axis=0), kh, subtract_mean)
     else:
-
         site_area = float(box[0] * box[1]) / valid.size
 
         def sm(idx):
@@ -426,8 +445,12 @@ def second_moment_length(
         xi in nm; nan when the estimate is undefined (S(k1) >= S(0) from noise).
     """
     if periodic and valid is not None and not np.all(valid):
-        raise InputError("second_moment_length: a validity mask is only supported with periodic=False")
-    f, valid, pos, box, period, cell = _geometry(field, positions_nm, box_nm, period, periodic, valid)
+        raise InputError(
+            "second_moment_length: a validity mask is only supported with periodic=False"
+        )
+    f, valid, pos, box, period, cell = _geometry(
+        field, positions_nm, box_nm, period, periodic, valid
+    )
     if periodic:
         phases, kh = _sm_plan(pos, box, cell, period, f.shape[1:])
         g = f - f.mean() if subtract_mean else f
@@ -442,8 +465,16 @@ def second_moment_length(
 
 
 def ornstein_zernike_fit(
-    field, positions_nm, box_nm, period=(1, 1), *, periodic=True, valid=None,
-    r_min_nm=None, r_max_nm=None, xi_guess_nm=None,
+    field,
+    positions_nm,
+    box_nm,
+    period=(1, 1),
+    *,
+    periodic=True,
+    valid=None,
+    r_min_nm=None,
+    r_max_nm=None,
+    xi_guess_nm=None,
 ):
     """Correlation length from a fit of the 2D Ornstein-Zernike form to the connected C(r).
 
@@ -470,19 +501,37 @@ def ornstein_zernike_fit(
         ``amplitude``, ``offset`` (field units squared), ``r_min_nm``, ``r_max_nm``.
         Values are nan when the fit fails.
     """
-    f, valid, pos, box, period, cell = _geometry(field, positions_nm, box_nm, period, periodic, valid)
+    f, valid, pos, box, period, cell = _geometry(
+        field, positions_nm, box_nm, period, periodic, valid
+    )
     f = np.where(valid, f - f[0][valid].mean(), 0.0)
     spacing = _spacing(cell, period)
     r_lim = 0.5 * float(box.min())
     dist, sums, counts = _pair_entries(f, valid, pos, box, period, cell, periodic)
     r, c, _ = _radial(_binning(dist, 0.5 * spacing, r_lim), dist, sums[0], counts)
     xi, err, amp, off, lo, hi = _fit_oz(r, c, spacing, r_lim, r_min_nm, r_max_nm, xi_guess_nm)
-    return {"xi_nm": xi, "xi_err_nm": err, "amplitude": amp, "offset": off, "r_min_nm": lo, "r_max_nm": hi}
+    return {
+        "xi_nm": xi,
+        "xi_err_nm": err,
+        "amplitude": amp,
+        "offset": off,
+        "r_min_nm": lo,
+        "r_max_nm": hi,
+    }
 
 
 def correlation_length(
-    snapshots, positions_nm, box_nm, period=(1, 1), *, periodic=True, subtract_mean=False,
-    valid=None, n_blocks=20, r_min_nm=None, r_max_nm=None,
+    snapshots,
+    positions_nm,
+    box_nm,
+    period=(1, 1),
+    *,
+    periodic=True,
+    subtract_mean=False,
+    valid=None,
+    n_blocks=20,
+    r_min_nm=None,
+    r_max_nm=None,
 ):
     """Both correlation-length estimators over a set of snapshots, with standard errors.
 
@@ -516,9 +565,15 @@ def correlation_length(
     try:
         stack = np.stack([np.asarray(s, dtype=np.float64) for s in snapshots])
     except (TypeError, ValueError) as exc:
-        raise InputError(f"correlation_length: snapshots must be 2D arrays of one shape; {exc}") from None
-    f, valid, pos, box, period, cell = _geometry(stack, positions_nm, box_nm, period, periodic, valid, True)
+        raise InputError(
+            f"correlation_length: snapshots must be 2D arrays of one shape; {exc}"
+        ) from None
+    f, valid, pos, box, period, cell = _geometry(
+        stack, positions_nm, box_nm, period, periodic, valid, True
+    )
     if periodic and not np.all(valid):
-        raise InputError("correlation_length: a validity mask is only supported with periodic=False")
+        raise InputError(
+            "correlation_length: a validity mask is only supported with periodic=False"
+        )
     fit = {"r_min_nm": r_min_nm, "r_max_nm": r_max_nm, "xi_guess_nm": None}
     return _analyse(f, valid, pos, box, period, cell, periodic, subtract_mean, n_blocks, fit)

@@ -47,8 +47,16 @@ def _first_appearance(comp, valid):
 
 
 def label_domains(
-    field, *, level=0.0, smoothing_nm=None, pixel_nm=None, positions_nm=None, box_nm=None,
-    neighbours=None, periodic=False, valid=None,
+    field,
+    *,
+    level=0.0,
+    smoothing_nm=None,
+    pixel_nm=None,
+    positions_nm=None,
+    box_nm=None,
+    neighbours=None,
+    periodic=False,
+    valid=None,
 ):
     """Label connected up and down domains of a scalar field.
 
@@ -91,7 +99,9 @@ def label_domains(
     """
     f = np.asarray(field, dtype=np.float64)
     if f.ndim != 2 or min(f.shape) < 1:
-        raise InputError(f"label_domains: the field must be a 2D array (ny, nx); got shape {f.shape}")
+        raise InputError(
+            f"label_domains: the field must be a 2D array (ny, nx); got shape {f.shape}"
+        )
     valid = np.ones(f.shape, bool) if valid is None else np.asarray(valid, dtype=bool)
     if valid.shape != f.shape:
         raise InputError(f"label_domains: valid has shape {valid.shape}, the field {f.shape}")
@@ -104,7 +114,9 @@ def label_domains(
             f = _smooth_grid(f, valid, smoothing_nm / pixel_nm, periodic)
         else:
             if positions_nm is None or (periodic and box_nm is None):
-                raise InputError("label_domains: smoothing on a lattice needs positions_nm (and box_nm if periodic)")
+                raise InputError(
+                    "label_domains: smoothing on a lattice needs positions_nm (and box_nm if periodic)"
+                )
             f = _smooth_sites(f, valid, positions_nm, box_nm, float(smoothing_nm), periodic)
     up = (f > level) & valid
     down = (~up) & valid
@@ -120,7 +132,9 @@ def label_domains(
             # both ends are in the same phase exactly when their ids lie in the same range
             same = (pairs[:, 0] <= n_up) == (pairs[:, 1] <= n_up)
             pairs = pairs[same]
-            graph = sparse.coo_matrix((np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])), shape=(n_nodes,) * 2)
+            graph = sparse.coo_matrix(
+                (np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])), shape=(n_nodes,) * 2
+            )
             _, root = csgraph.connected_components(graph, directed=False)
             comp = root[comp]
     else:
@@ -135,7 +149,9 @@ def label_domains(
         keep = dst >= 0
         src, dst = src[keep], dst[keep]
         keep = flat_ok[src] & flat_ok[dst] & (flat_up[src] == flat_up[dst])
-        graph = sparse.coo_matrix((np.ones(keep.sum()), (src[keep], dst[keep])), shape=(f.size,) * 2)
+        graph = sparse.coo_matrix(
+            (np.ones(keep.sum()), (src[keep], dst[keep])), shape=(f.size,) * 2
+        )
         _, comp = csgraph.connected_components(graph, directed=False)
         comp = comp.reshape(f.shape)
     labels = _first_appearance(comp, valid)
@@ -155,9 +171,15 @@ def _summary(areas, total_area, n_bins):
     }
     if areas.size == 0:
         nan = float("nan")
-        out.update(mean_area_nm2=nan, median_area_nm2=nan, area_weighted_mean_area_nm2=nan,
-                   mean_equivalent_diameter_nm=nan, largest_area_nm2=nan, largest_fraction=nan,
-                   histogram={"edges_nm2": np.array([]), "counts": np.array([], dtype=int)})
+        out.update(
+            mean_area_nm2=nan,
+            median_area_nm2=nan,
+            area_weighted_mean_area_nm2=nan,
+            mean_equivalent_diameter_nm=nan,
+            largest_area_nm2=nan,
+            largest_fraction=nan,
+            histogram={"edges_nm2": np.array([]), "counts": np.array([], dtype=int)},
+        )
         return out
     lo, hi = areas.min(), areas.max()
     if hi <= lo * (1 + 1e-9):
@@ -208,15 +230,21 @@ def domain_statistics(labels, site_area_nm2, *, signs=None, n_bins=20, **label_o
     if np.issubdtype(arr.dtype, np.floating):
         arr, signs = label_domains(arr, **label_options)
     elif signs is None:
-        raise InputError("domain_statistics: integer labels need the signs array from label_domains")
+        raise InputError(
+            "domain_statistics: integer labels need the signs array from label_domains"
+        )
     if arr.ndim != 2:
         raise InputError(f"domain_statistics: labels must be a 2D array; got shape {arr.shape}")
     signs = np.asarray(signs)
     if arr.size and (arr.min() < 0 or arr.max() >= signs.size):
-        raise InputError("domain_statistics: labels and signs do not match (label outside the signs array)")
+        raise InputError(
+            "domain_statistics: labels and signs do not match (label outside the signs array)"
+        )
     site_area = np.broadcast_to(np.asarray(site_area_nm2, dtype=float), arr.shape)
     if not np.all(site_area > 0):
-        raise InputError(f"domain_statistics: site_area_nm2 must be positive; got {site_area_nm2!r}")
+        raise InputError(
+            f"domain_statistics: site_area_nm2 must be positive; got {site_area_nm2!r}"
+        )
     per_label = np.bincount(arr.ravel(), weights=site_area.ravel(), minlength=signs.size)
     per_label[0] = 0.0
     ids = np.arange(1, signs.size)
