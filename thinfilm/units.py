@@ -24,6 +24,8 @@ MU0 = 1.25663706212e-6  # vacuum permeability, N/A^2 (CODATA 2018)
 ureg = pint.UnitRegistry()
 ureg.define("muB = bohr_magneton")
 ureg.define("mu_B = bohr_magneton")
+# the Bohr magneton exactly as the unit parser converts it, so "3 muB" reads back as 3
+MU_B_J_PER_T = float(ureg.Quantity(1, "bohr_magneton").to("J/T").magnitude)
 
 # pint dimensionality strings of the quantities a scenario may hold.
 DIMENSIONS = {

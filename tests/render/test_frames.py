@@ -7,6 +7,7 @@ from matplotlib import colormaps
 from thinfilm.errors import InputError
 from thinfilm.lattice import Lattice
 from thinfilm.render.frames import (
+    _nearest_site_raster,
     colour_frame,
     draw_label,
     draw_scale_bar,
@@ -64,8 +65,10 @@ def test_angle_colours():
     assert (colour_frame(uniform(3, 3, (0, 0, 1)), colour="angle") == 255).all()  # white
     assert (colour_frame(uniform(3, 3, (0, 0, -1)), colour="angle") == 0).all()  # black
     # opposite in-plane directions get different colours
-    assert not np.array_equal(colour_frame(uniform(2, 2, (1, 0, 0)), colour="angle"),
-                              colour_frame(uniform(2, 2, (-1, 0.001, 0)), colour="angle"))
+    assert not np.array_equal(
+        colour_frame(uniform(2, 2, (1, 0, 0)), colour="angle"),
+        colour_frame(uniform(2, 2, (-1, 0.001, 0)), colour="angle"),
+    )
 
 
 def test_order_axis_projection():
@@ -88,17 +91,21 @@ def test_true_position_wall_and_uniform(shape):
     assert (img[:, 3 * w // 4] == BLUE).all()
 
 
+@pytest.mark.parametrize("own", [False, True])
 @pytest.mark.parametrize("shape", ["triangular", "honeycomb"])
-def test_each_pixel_takes_nearest_site(shape, rng):
+def test_each_pixel_takes_nearest_site(shape, own, rng):
     lat = Lattice(shape, 8, 6, 1.0)
     pos, (lx, ly) = lat.positions_nm, lat.box_nm
     pix = 0.3
-    idx = site_index_map(pos, (lx, ly), pix, periodic=True)
+    if own:  # the built-in fallback used when thinfilm.imaging is not importable
+        idx = _nearest_site_raster(pos, (lx, ly), pix, True)
+    else:
+        idx = site_index_map(pos, (lx, ly), pix, periodic=True)
     h, w = idx.shape
     flat = pos.reshape(-1, 2)
     x0 = flat[:, 0].min() - 0.5 * lx / 8
     y0 = flat[:, 1].min() - 0.5 * ly / 6
-    for r, c in zip(rng.integers(0, h, 40), rng.integers(0, w, 40)):
+    for r, c in zip(rng.integers(0, h, 40), rng.integers(0, w, 40), strict=True):
         centre = np.array([x0 + (c + 0.5) * lx / w, y0 + (r + 0.5) * ly / h])
         d = flat - centre
         d -= np.rint(d / (lx, ly)) * (lx, ly)  # minimum image on the torus
@@ -144,7 +151,7 @@ def test_label_changes_only_its_box():
     img = np.zeros((64, 64, 3), np.uint8)
     w, h = draw_label(img, "T = 300.0 K", (2, 2), height_px=12)
     assert img.max() > 200  # white (anti-aliased) text drawn
-    assert not img[2 + h + 1:].any() and not img[:, 2 + w + 1:].any()
+    assert not img[2 + h + 1 :].any() and not img[:, 2 + w + 1 :].any()
     # text off the edge is clipped, not an error
     draw_label(img, "long text beyond the border", (50, 58), height_px=12)
 

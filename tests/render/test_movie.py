@@ -14,9 +14,18 @@ from thinfilm.render.movie import write_movie
 
 def save_snapshot(path, spins, lat, *, time_ps=0.0, temperature_K=10.0):
     path.parent.mkdir(parents=True, exist_ok=True)
-    np.savez(path, spins=spins, positions_nm=lat.positions_nm, time_ps=time_ps,
-             temperature_K=temperature_K, field_T=np.zeros(3), spacing_nm=lat.spacing_nm,
-             box_nm=np.array(lat.box_nm), shape=lat.shape, periodic=lat.periodic)
+    np.savez(
+        path,
+        spins=spins,
+        positions_nm=lat.positions_nm,
+        time_ps=time_ps,
+        temperature_K=temperature_K,
+        field_T=np.zeros(3),
+        spacing_nm=lat.spacing_nm,
+        box_nm=np.array(lat.box_nm),
+        shape=lat.shape,
+        periodic=lat.periodic,
+    )
 
 
 def fake_dynamics_run(root, lat, n=5):
@@ -100,8 +109,12 @@ def test_honeycomb_movie_even_size_and_instrument_panel(tmp_path):
     info = write_movie(run, tmp_path / "h.mp4", size=101, colour="angle")
     assert info.width % 2 == 0 and info.height % 2 == 0
     assert info.width == 102  # 101 px map padded to even
-    both = write_movie(run, tmp_path / "i.mp4", size=100,
-                       instrument={"fwhm_nm": 2.0, "pixel_nm": 0.5, "noise": 0.05, "seed": 1})
+    both = write_movie(
+        run,
+        tmp_path / "i.mp4",
+        size=100,
+        instrument={"fwhm_nm": 2.0, "pixel_nm": 0.5, "noise": 0.05, "seed": 1},
+    )
     assert both.width > 2 * 100 and both.width % 2 == 0 and both.height % 2 == 0
     _, frames = read_mp4(tmp_path / "i.mp4")
     assert frames[0].shape == (both.height, both.width, 3)
@@ -119,7 +132,9 @@ def test_frames_from_iterable_are_streamed(tmp_path):
             yield s
 
     seen = []
-    info = write_movie(frames(), tmp_path / "g.mp4", progress=lambda n: seen.append((n, len(produced))))
+    info = write_movie(
+        frames(), tmp_path / "g.mp4", progress=lambda n: seen.append((n, len(produced)))
+    )
     assert info.n_frames == 6
     # when frame n is written, at most one frame beyond it has been generated
     assert all(p <= n + 1 for n, p in seen)
@@ -147,7 +162,9 @@ def test_bad_inputs(tmp_path):
     np.savez(run / "snapshots" / "snap_000009.npz", other=np.zeros(3))
     with pytest.raises(InputError, match="no 'spins'"):
         write_movie(run, tmp_path / "a.mp4")
-    save_snapshot(run / "snapshots" / "snap_000009.npz", np.zeros((2, 2, 3)), Lattice("square", 2, 2, 1.0))
+    save_snapshot(
+        run / "snapshots" / "snap_000009.npz", np.zeros((2, 2, 3)), Lattice("square", 2, 2, 1.0)
+    )
     with pytest.raises(InputError, match="same lattice"):
         write_movie(run, tmp_path / "a.mp4")
     assert not (tmp_path / "a.mp4").exists()

@@ -34,21 +34,31 @@ def _lut(name):
     return lut
 
 
-def _nearest_site_raster(positions_nm, box_nm, pixel_nm, periodic):
-    """Own nearest-site rasteriser: (H, W) flat site index, row 0 = smallest y."""
-    from scipy.spatial import cKDTree
+def _grid(positions_nm, box_nm, pixel_nm):
+    """(w, h, x0, y0): pixel counts and the centre (nm) of pixel (0, 0).
 
+    The image starts half a column/row pitch before the first site, so a square lattice with
+    pixel_nm = spacing puts every pixel centre exactly on a site.
+    """
     ny, nx = positions_nm.shape[:2]
     lx, ly = float(box_nm[0]), float(box_nm[1])
     w = max(1, int(round(lx / pixel_nm)))
     h = max(1, int(round(ly / pixel_nm)))
     pts = positions_nm.reshape(-1, 2)
-    # grid origin half a row/column pitch before the first site, so a square lattice with
-    # pixel_nm = spacing puts every pixel centre exactly on a site
-    x0 = pts[:, 0].min() - 0.5 * lx / nx
-    y0 = pts[:, 1].min() - 0.5 * ly / ny
-    xc = x0 + (np.arange(w) + 0.5) * lx / w
-    yc = y0 + (np.arange(h) + 0.5) * ly / h
+    x0 = pts[:, 0].min() - 0.5 * lx / nx + 0.5 * lx / w
+    y0 = pts[:, 1].min() - 0.5 * ly / ny + 0.5 * ly / h
+    return w, h, x0, y0
+
+
+def _nearest_site_raster(positions_nm, box_nm, pixel_nm, periodic):
+    """Own nearest-site rasteriser: (H, W) flat site index, row 0 = smallest y."""
+    from scipy.spatial import cKDTree
+
+    lx, ly = float(box_nm[0]), float(box_nm[1])
+    w, h, x0, y0 = _grid(positions_nm, box_nm, pixel_nm)
+    pts = positions_nm.reshape(-1, 2)
+    xc = x0 + np.arange(w) * lx / w
+    yc = y0 + np.arange(h) * ly / h
     gx, gy = np.meshgrid(xc, yc)
     query = np.stack([gx.ravel(), gy.ravel()], axis=1)
     if periodic:
@@ -82,8 +92,10 @@ def site_index_map(positions_nm, box_nm, pixel_nm, *, periodic=True):
 
     Notes
     -----
-    Uses ``thinfilm.imaging.rasterise`` when that module exists (on a map of site indices, so
-    the nearest-site rule is kept), otherwise a k-d tree query of the pixel centres.
+    Pixel (r, c) is centred at ``(x_min - Lx / (2 nx) + (c + 1/2) Lx / W, y_min - Ly / (2 ny)
+    + (r + 1/2) Ly / H)``, i.e. the image starts half a site pitch before the first site.
+    Uses ``thinfilm.imaging.rasterise`` (on a map of site indices, so the nearest-site rule is
+    kept) when available, otherwise its own k-d tree query of the pixel centres.
     """
     pos = np.asarray(positions_nm, dtype=np.float64)
     if pos.ndim != 3 or pos.shape[2] != 2:
@@ -95,7 +107,8 @@ def site_index_map(positions_nm, box_nm, pixel_nm, *, periodic=True):
     except ImportError:
         return _nearest_site_raster(pos, box_nm, float(pixel_nm), bool(periodic))
     ids = np.arange(pos.shape[0] * pos.shape[1], dtype=np.float64).reshape(pos.shape[:2])
-    img = rasterise(ids, pos, box_nm, float(pixel_nm), periodic=bool(periodic))
+    _, _, x0, y0 = _grid(pos, box_nm, float(pixel_nm))
+    img = rasterise(ids, pos, box_nm, float(pixel_nm), periodic=bool(periodic), origin_nm=(x0, y0))
     return np.rint(np.asarray(img)).astype(np.int64)
 
 
@@ -126,8 +139,18 @@ def _check_spins(spins):
     return s
 
 
-def colour_frame(spins, *, colour="mz", shape="square", positions_nm=None, box_nm=None,
-                 pixel_nm=None, periodic=True, axis=(0.0, 0.0, 1.0), index_map=None):
+def colour_frame(
+    spins,
+    *,
+    colour="mz",
+    shape="square",
+    positions_nm=None,
+    box_nm=None,
+    pixel_nm=None,
+    periodic=True,
+    axis=(0.0, 0.0, 1.0),
+    index_map=None,
+):
     """Colour a spin state as an RGB image, +y pointing up (image row 0 = largest y).
 
     Parameters
@@ -176,8 +199,10 @@ def colour_frame(spins, *, colour="mz", shape="square", positions_nm=None, box_n
         img = rgb if k == 1 else np.repeat(np.repeat(rgb, k, axis=0), k, axis=1)
     elif shape in ("triangular", "honeycomb"):
         if positions_nm is None or box_nm is None:
-            raise InputError(f"drawing a {shape} lattice needs positions_nm and box_nm "
-                             "(stored in every snapshot file).")
+            raise InputError(
+                f"drawing a {shape} lattice needs positions_nm and box_nm "
+                "(stored in every snapshot file)."
+            )
         if pixel_nm is None:
             pixel_nm = 0.5 * float(box_nm[0]) / nx
         img = rgb.reshape(-1, 3)[site_index_map(positions_nm, box_nm, pixel_nm, periodic=periodic)]
@@ -198,7 +223,9 @@ def nice_length(width_nm, fraction=0.2):
     """Round length (1, 2 or 5 times a power of ten) closest to ``fraction * width_nm``, in nm."""
     target = float(width_nm) * fraction
     if not target > 0:
-        raise InputError(f"the image width must be positive to choose a scale bar; got {width_nm!r} nm.")
+        raise InputError(
+            f"the image width must be positive to choose a scale bar; got {width_nm!r} nm."
+        )
     p = 10.0 ** np.floor(np.log10(target))
     cands = np.array([1, 2, 5, 10]) * p
     return float(cands[np.argmin(np.abs(np.log(cands / target)))])
@@ -215,8 +242,16 @@ def _glyph(ch, height):
     fig = Figure(figsize=(width / dpi, height / dpi), dpi=dpi)
     fig.patch.set_alpha(0.0)
     canvas = FigureCanvasAgg(fig)
-    fig.text(0.5, 0.24, ch, fontsize=0.78 * height, family="DejaVu Sans Mono",
-             ha="center", va="baseline", color="white")
+    fig.text(
+        0.5,
+        0.24,
+        ch,
+        fontsize=0.78 * height,
+        family="DejaVu Sans Mono",
+        ha="center",
+        va="baseline",
+        color="white",
+    )
     canvas.draw()
     mask = np.asarray(canvas.buffer_rgba())[..., 3].copy()
     mask.setflags(write=False)
@@ -226,7 +261,11 @@ def _glyph(ch, height):
 def text_mask(text, height):
     """Coverage mask (uint8, shape (height, n * width)) of a one-line string."""
     height = max(6, int(height))
-    return np.hstack([_glyph(c, height) for c in str(text)]) if text else np.zeros((height, 0), np.uint8)
+    return (
+        np.hstack([_glyph(c, height) for c in str(text)])
+        if text
+        else np.zeros((height, 0), np.uint8)
+    )
 
 
 def _blend(img, y, x, mask, colour):
@@ -236,7 +275,7 @@ def _blend(img, y, x, mask, colour):
     y1, x1 = min(img.shape[0], y + h), min(img.shape[1], x + w)
     if y1 <= y0 or x1 <= x0:
         return
-    a = mask[y0 - y:y1 - y, x0 - x:x1 - x, None].astype(np.float32) / 255.0
+    a = mask[y0 - y : y1 - y, x0 - x : x1 - x, None].astype(np.float32) / 255.0
     sub = img[y0:y1, x0:x1].astype(np.float32)
     img[y0:y1, x0:x1] = np.rint(sub * (1 - a) + np.asarray(colour, np.float32) * a).astype(np.uint8)
 
@@ -304,14 +343,16 @@ def draw_scale_bar(img, pixel_nm, *, length_nm=None, margin_px=None, colour=WHIT
     if length_nm is None:
         length_nm = nice_length(w * pixel_nm)
     if not length_nm > 0:
-        raise InputError(f"the scale bar length must be a positive number of nm; got {length_nm!r}.")
+        raise InputError(
+            f"the scale bar length must be a positive number of nm; got {length_nm!r}."
+        )
     n = int(round(length_nm / pixel_nm))
     m = max(3, min(h, w) // 32) if margin_px is None else int(margin_px)
     t = max(2, h // 96)
     x0, y1 = m, h - m
     x1 = min(w - 1, x0 + n)
-    img[max(0, y1 - t - 1):min(h, y1 + 1), max(0, x0 - 1):min(w, x1 + 1)] = BLACK
-    img[max(0, y1 - t):y1, x0:x1] = colour
+    img[max(0, y1 - t - 1) : min(h, y1 + 1), max(0, x0 - 1) : min(w, x1 + 1)] = BLACK
+    img[max(0, y1 - t) : y1, x0:x1] = colour
     label = f"{length_nm:g} nm"
     th = max(10, h // 24)
     draw_label(img, label, (x0, y1 - t - th - max(2, th // 4)), height_px=th, colour=colour)

@@ -1,7 +1,6 @@
 """Stream spin snapshots (over time or over a temperature sweep) into an MP4 or GIF movie."""
 
 import os
-import re
 from collections.abc import Mapping
 from pathlib import Path
 from typing import NamedTuple
@@ -17,11 +16,11 @@ from .frames import (
     grey_frame,
     site_index_map,
 )
+from .rundir import iter_snapshots, load_snapshot
 
-__all__ = ["write_movie", "MovieInfo", "iter_snapshots", "load_snapshot"]
+__all__ = ["write_movie", "MovieInfo"]
 
 SHAPES = ("square", "triangular", "honeycomb")
-_POINT_RE = re.compile(r"^L(\d+)_T([-+0-9.eE]+)K$")
 _MIN_WIDTH_PX = 256  # default smallest map width, so burned-in text stays legible
 _GAP_PX = 4  # black gap between the map and the instrument view
 
@@ -36,96 +35,12 @@ class MovieInfo(NamedTuple):
     fps: float
 
 
-def load_snapshot(path):
-    """Read one snapshot ``.npz`` into a dict (spins, positions_nm, box_nm, shape, ...).
-
-    Raises
-    ------
-    InputError
-        When the file is missing, unreadable or lacks the ``spins`` array.
-    """
-    path = Path(path)
-    try:
-        with np.load(path, allow_pickle=False) as z:
-            data = {k: z[k] for k in z.files}
-    except FileNotFoundError:
-        raise InputError(f"Snapshot file {path} does not exist.") from None
-    except Exception as exc:  # zip/format errors from numpy
-        raise InputError(f"Snapshot file {path} is not a readable .npz file ({exc}); snapshots are "
-                         "NumPy .npz archives with at least a 'spins' array of shape (ny, nx, 3).") from None
-    if "spins" not in data:
-        raise InputError(f"Snapshot file {path} has no 'spins' array (found: {', '.join(data) or 'nothing'}); "
-                         "each snapshot needs 'spins' of shape (ny, nx, 3).")
-    out = {"spins": np.asarray(data["spins"], dtype=np.float64), "source": path}
-    for key in ("positions_nm", "box_nm", "field_T"):
-        if key in data:
-            out[key] = np.asarray(data[key], dtype=np.float64)
-    for key in ("time_ps", "temperature_K", "spacing_nm"):
-        if key in data:
-            out[key] = float(data[key])
-    out["shape"] = str(data["shape"]) if "shape" in data else "square"
-    out["periodic"] = bool(data["periodic"]) if "periodic" in data else True
-    return out
-
-
-def _sweep_points(run_dir, lattice_size):
-    """(temperature, path) of points/L{size}_T{t}K/final.npz for one size, sorted by temperature."""
-    pts = {}
-    for d in sorted((run_dir / "points").glob("L*_T*K")):
-        m = _POINT_RE.match(d.name)
-        if m and (d / "final.npz").is_file():
-            pts.setdefault(int(m.group(1)), []).append((float(m.group(2)), d / "final.npz"))
-    if not pts:
-        return None, []
-    if lattice_size is None:
-        lattice_size = max(pts)
-    if lattice_size not in pts:
-        raise InputError(f"Sweep folder {run_dir / 'points'} has no final.npz for size L={lattice_size}; "
-                         f"sizes present: {', '.join(map(str, sorted(pts)))}.")
-    return lattice_size, sorted(pts[lattice_size])
-
-
-def iter_snapshots(run_dir, *, source="auto", lattice_size=None):
-    """Snapshot paths of a run folder in movie order.
-
-    Parameters
-    ----------
-    run_dir : path
-        Run folder.
-    source : {"auto", "snapshots", "sweep"}
-        ``"snapshots"``: ``snapshots/snap_*.npz`` sorted by name (= time order).
-        ``"sweep"``: ``points/L{size}_T{T}K/final.npz`` sorted by temperature.
-        ``"auto"``: snapshots when present, else the sweep points.
-    lattice_size : int, optional
-        Sweep size L to show (default: the largest).
-
-    Returns
-    -------
-    list of Path
-    """
-    run_dir = Path(run_dir)
-    if not run_dir.is_dir():
-        raise InputError(f"Run folder {run_dir} does not exist or is not a folder; give the folder a "
-                         "simulation wrote (with manifest.json and snapshots/ or points/).")
-    if source not in ("auto", "snapshots", "sweep"):
-        raise InputError(f"source must be 'auto', 'snapshots' or 'sweep'; got {source!r}.")
-    snaps = sorted((run_dir / "snapshots").glob("snap_*.npz"))
-    if source == "snapshots" or (source == "auto" and snaps):
-        if not snaps:
-            raise InputError(f"Run folder {run_dir} has no snapshots/snap_*.npz files; a movie over time "
-                             "needs at least one snapshot.")
-        return snaps
-    _, pts = _sweep_points(run_dir, lattice_size)
-    if not pts:
-        raise InputError(f"Run folder {run_dir} has neither snapshots/snap_*.npz (dynamics run) nor "
-                         "points/L{size}_T{temperature}K/final.npz (sweep); nothing to put in a movie.")
-    return [p for _, p in pts]
-
-
 def _as_frame(item, spacing_nm):
     if isinstance(item, Mapping):
         if "spins" not in item:
-            raise InputError("Each frame given as a mapping needs a 'spins' array of shape (ny, nx, 3).")
+            raise InputError(
+                "Each frame given as a mapping needs a 'spins' array of shape (ny, nx, 3)."
+            )
         fr = dict(item)
         fr["spins"] = np.asarray(fr["spins"], dtype=np.float64)
     else:
@@ -136,7 +51,9 @@ def _as_frame(item, spacing_nm):
     fr.setdefault("shape", "square")
     fr.setdefault("periodic", True)
     if fr["shape"] not in SHAPES:
-        raise InputError(f"Frame lattice shape must be one of {', '.join(SHAPES)}; got {fr['shape']!r}.")
+        raise InputError(
+            f"Frame lattice shape must be one of {', '.join(SHAPES)}; got {fr['shape']!r}."
+        )
     if "box_nm" not in fr:
         if fr["shape"] != "square":
             raise InputError(f"A {fr['shape']} frame needs 'positions_nm' and 'box_nm'.")
@@ -157,31 +74,44 @@ class _Painter:
         self.colour, self.axis, self.labels = colour, axis, labels
         self.scale_bar_nm = scale_bar_nm
         if size is not None and not (isinstance(size, (int, np.integer)) and size > 0):
-            raise InputError(f"size must be a positive whole number of pixels (map width); got {size!r}.")
+            raise InputError(
+                f"size must be a positive whole number of pixels (map width); got {size!r}."
+            )
         self.index_map = None
         if self.shape == "square":
             k = max(1, round(size / nx)) if size else max(1, -(-_MIN_WIDTH_PX // nx))
             self.pixel_nm = self.box[0] / nx / k
         else:
             if "positions_nm" not in first:
-                raise InputError(f"A {self.shape} snapshot needs 'positions_nm' to be drawn at true positions.")
+                raise InputError(
+                    f"A {self.shape} snapshot needs 'positions_nm' to be drawn at true positions."
+                )
             self.pos = np.asarray(first["positions_nm"], dtype=np.float64)
-            self.pixel_nm = self.box[0] / size if size else min(0.5 * self.box[0] / nx,
-                                                                self.box[0] / _MIN_WIDTH_PX)
-            self.index_map = site_index_map(self.pos, self.box, self.pixel_nm, periodic=self.periodic)
+            self.pixel_nm = (
+                self.box[0] / size
+                if size
+                else min(0.5 * self.box[0] / nx, self.box[0] / _MIN_WIDTH_PX)
+            )
+            self.index_map = site_index_map(
+                self.pos, self.box, self.pixel_nm, periodic=self.periodic
+            )
         self.instrument = None
         if instrument is not None:
             self._setup_instrument(first, instrument)
 
     def _setup_instrument(self, first, inst):
         if not isinstance(inst, Mapping) or "fwhm_nm" not in inst:
-            raise InputError("instrument must be a dict with 'fwhm_nm' (resolution, nm) and optionally "
-                             f"'pixel_nm' (nm), 'noise' (std of added noise, m_z units) and 'seed'; got {inst!r}.")
+            raise InputError(
+                "instrument must be a dict with 'fwhm_nm' (resolution, nm) and optionally 'pixel_nm' "
+                f"(nm), 'noise' (std of added noise, m_z units) and 'seed'; got {inst!r}."
+            )
         fwhm = float(inst["fwhm_nm"])
         pix = float(inst.get("pixel_nm", fwhm / 2))
         noise = float(inst.get("noise", 0.0))
         if not (fwhm > 0 and pix > 0 and noise >= 0):
-            raise InputError(f"instrument needs fwhm_nm > 0, pixel_nm > 0 and noise >= 0; got {dict(inst)!r}.")
+            raise InputError(
+                f"instrument needs fwhm_nm > 0, pixel_nm > 0 and noise >= 0; got {dict(inst)!r}."
+            )
         if "positions_nm" in first:
             pos = np.asarray(first["positions_nm"], dtype=np.float64)
         else:
@@ -190,8 +120,12 @@ class _Painter:
             i, j = np.meshgrid(np.arange(ny), np.arange(nx), indexing="ij")
             pos = np.stack([j * a, i * a], axis=-1).astype(np.float64)
         self.inst_pos = pos
-        self.instrument = {"fwhm_nm": fwhm, "pixel_nm": pix, "noise": noise,
-                           "rng": np.random.default_rng(int(inst.get("seed", 0)))}
+        self.instrument = {
+            "fwhm_nm": fwhm,
+            "pixel_nm": pix,
+            "noise": noise,
+            "rng": np.random.default_rng(int(inst.get("seed", 0))),
+        }
         self.inst_map = None
 
     def _instrument_image(self, field):
@@ -201,15 +135,24 @@ class _Painter:
         except ImportError:
             instrument_view = None
         if instrument_view is not None:
-            img, _ = instrument_view(field, self.inst_pos, self.box, pixel_nm=p["pixel_nm"],
-                                     fwhm_nm=p["fwhm_nm"], noise=p["noise"], rng=p["rng"],
-                                     periodic=self.periodic)
+            img, _ = instrument_view(
+                field,
+                self.inst_pos,
+                self.box,
+                pixel_nm=p["pixel_nm"],
+                fwhm_nm=p["fwhm_nm"],
+                noise=p["noise"],
+                rng=p["rng"],
+                periodic=self.periodic,
+            )
             return np.asarray(img, dtype=np.float64)
         # fallback until thinfilm.imaging exists: nearest-site raster, Gaussian blur, noise.
         from scipy.ndimage import gaussian_filter
 
         if self.inst_map is None:
-            self.inst_map = site_index_map(self.inst_pos, self.box, p["pixel_nm"], periodic=self.periodic)
+            self.inst_map = site_index_map(
+                self.inst_pos, self.box, p["pixel_nm"], periodic=self.periodic
+            )
         img = field.ravel()[self.inst_map]
         # Gaussian FWHM = 2 sqrt(2 ln 2) sigma (definition of the normal distribution's FWHM)
         sigma_px = p["fwhm_nm"] / (2.0 * np.sqrt(2.0 * np.log(2.0))) / p["pixel_nm"]
@@ -222,11 +165,19 @@ class _Painter:
         s = fr["spins"]
         if s.shape != self.grid:
             src = fr.get("source", "a frame")
-            raise InputError(f"{src}: spins have shape {s.shape} but the first frame had {self.grid}; "
-                             "all frames of one movie must come from the same lattice.")
-        img = colour_frame(s, colour=self.colour, shape=self.shape, box_nm=self.box,
-                           pixel_nm=self.pixel_nm if self.shape == "square" else None,
-                           index_map=self.index_map, axis=self.axis)
+            raise InputError(
+                f"{src}: spins have shape {s.shape} but the first frame had {self.grid}; "
+                "all frames of one movie must come from the same lattice."
+            )
+        img = colour_frame(
+            s,
+            colour=self.colour,
+            shape=self.shape,
+            box_nm=self.box,
+            pixel_nm=self.pixel_nm if self.shape == "square" else None,
+            index_map=self.index_map,
+            axis=self.axis,
+        )
         if self.scale_bar_nm is not False:
             draw_scale_bar(img, self.pixel_nm, length_nm=self.scale_bar_nm)
         if self.labels:
@@ -246,8 +197,12 @@ class _Painter:
             if self.scale_bar_nm is not False:
                 draw_scale_bar(inst, self.box[0] / w, length_nm=self.scale_bar_nm)
             th = max(10, h // 24)
-            draw_label(inst, f"FWHM {self.instrument['fwhm_nm']:g} nm", (max(2, th // 4), max(2, th // 4)),
-                       height_px=th)
+            draw_label(
+                inst,
+                f"FWHM {self.instrument['fwhm_nm']:g} nm",
+                (max(2, th // 4), max(2, th // 4)),
+                height_px=th,
+            )
             img = np.concatenate([img, np.zeros((h, _GAP_PX, 3), np.uint8), inst], axis=1)
         # H.264 with yuv420p needs even width and height: pad one black row/column if odd
         ph, pw = img.shape[0] % 2, img.shape[1] % 2
@@ -275,15 +230,36 @@ def _encoder(tmp, width, height, fps, gif, quality):
         kw = dict(codec="gif", pix_fmt_out="pal8", quality=None, output_params=["-vf", vf])
     else:
         kw = dict(codec="libx264", pix_fmt_out="yuv420p", quality=quality)
-    gen = imageio_ffmpeg.write_frames(str(tmp), (width, height), fps=float(fps), macro_block_size=2,
-                                      ffmpeg_log_level="error", **kw)
+    gen = imageio_ffmpeg.write_frames(
+        str(tmp),
+        (width, height),
+        fps=float(fps),
+        macro_block_size=2,
+        ffmpeg_log_level="error",
+        **kw,
+    )
     gen.send(None)
     return gen
 
 
-def write_movie(run_dir_or_frames, out_path, *, fps=20, colour="mz", scale_bar_nm=None, size=None,
-                instrument=None, gif=False, source="auto", lattice_size=None, axis=(0.0, 0.0, 1.0),
-                spacing_nm=1.0, labels=True, quality=8, progress=None):
+def write_movie(
+    run_dir_or_frames,
+    out_path,
+    *,
+    fps=20,
+    colour="mz",
+    scale_bar_nm=None,
+    size=None,
+    instrument=None,
+    gif=False,
+    source="auto",
+    lattice_size=None,
+    axis=(0.0, 0.0, 1.0),
+    spacing_nm=1.0,
+    labels=True,
+    quality=8,
+    progress=None,
+):
     """Write a movie of spin states, one frame per snapshot, streamed to the encoder.
 
     Parameters
@@ -332,8 +308,10 @@ def write_movie(run_dir_or_frames, out_path, *, fps=20, colour="mz", scale_bar_n
     out_path = Path(out_path)
     want = ".gif" if gif else ".mp4"
     if out_path.suffix.lower() != want:
-        raise InputError(f"Movie file {out_path} must end in {want} when gif={bool(gif)}; "
-                         "MP4 (H.264) files end in .mp4 and animated GIFs (gif=True) in .gif.")
+        raise InputError(
+            f"Movie file {out_path} must end in {want} when gif={bool(gif)}; "
+            "MP4 (H.264) files end in .mp4 and animated GIFs (gif=True) in .gif."
+        )
     if colour not in COLOURS:
         raise InputError(f"colour must be one of {', '.join(COLOURS)}; got {colour!r}.")
     try:
@@ -341,9 +319,13 @@ def write_movie(run_dir_or_frames, out_path, *, fps=20, colour="mz", scale_bar_n
     except (TypeError, ValueError):
         fps = float("nan")
     if not (0 < fps <= 240):
-        raise InputError(f"fps must be a number of frames per second between 0 and 240; got {fps!r}.")
+        raise InputError(
+            f"fps must be a number of frames per second between 0 and 240; got {fps!r}."
+        )
     if not out_path.parent.is_dir():
-        raise InputError(f"Folder {out_path.parent} for the movie file does not exist; create it first.")
+        raise InputError(
+            f"Folder {out_path.parent} for the movie file does not exist; create it first."
+        )
 
     if isinstance(run_dir_or_frames, (str, os.PathLike)):
         paths = iter_snapshots(run_dir_or_frames, source=source, lattice_size=lattice_size)
@@ -356,8 +338,15 @@ def write_movie(run_dir_or_frames, out_path, *, fps=20, colour="mz", scale_bar_n
     except StopIteration:
         raise InputError("No frames to write: the frame sequence is empty.") from None
 
-    painter = _Painter(first, colour=colour, size=size, axis=axis, scale_bar_nm=scale_bar_nm,
-                       instrument=instrument, labels=labels)
+    painter = _Painter(
+        first,
+        colour=colour,
+        size=size,
+        axis=axis,
+        scale_bar_nm=scale_bar_nm,
+        instrument=instrument,
+        labels=labels,
+    )
     img = painter.paint(first)
     height, width = img.shape[:2]
     tmp = out_path.with_name(f".{out_path.stem}.{os.getpid()}.tmp{want}")

@@ -1,9 +1,6 @@
-"""PNG plots of a temperature sweep (observables, lengths, domain sizes, snapshots) and of a dynamics run."""
+"""PNG plots of a temperature sweep (observables, lengths, domains, snapshots) and of a run."""
 
-import csv
 import io
-import json
-import math
 from pathlib import Path
 
 import numpy as np
@@ -11,9 +8,9 @@ import numpy as np
 from .._io import atomic_write_bytes
 from ..errors import InputError
 from .frames import DIVERGING_CMAP, colour_frame
-from .movie import _POINT_RE, load_snapshot
+from .rundir import load_snapshot, read_json, read_table, sweep_points
 
-__all__ = ["plot_sweep", "plot_timeseries", "read_table", "log_histogram", "OKABE_ITO"]
+__all__ = ["plot_sweep", "plot_timeseries", "log_histogram", "OKABE_ITO"]
 
 # Okabe & Ito (2008), "Color Universal Design": colour-blind-safe line colours (yellow last)
 OKABE_ITO = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000", "#F0E442")
@@ -24,49 +21,6 @@ THERMO = (
     ("specific_heat", r"specific heat $C$"),
     ("binder", r"Binder cumulant $U_4$"),
 )
-
-
-def read_table(path):
-    """Read a CSV file into ``{column: float array}`` (empty cells become NaN).
-
-    Raises
-    ------
-    InputError
-        When the file is missing, empty or has non-numeric cells.
-    """
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"Table {path} does not exist; it is written by the simulation run.")
-    with open(path, newline="", encoding="utf-8") as fh:
-        rows = list(csv.reader(fh))
-    if not rows or not rows[0]:
-        raise InputError(f"Table {path} is empty; it needs a header row of column names and data rows.")
-    head = [h.strip() for h in rows[0]]
-    data = {h: [] for h in head}
-    for n, row in enumerate(rows[1:], start=2):
-        if not row:
-            continue
-        if len(row) != len(head):
-            raise InputError(f"Table {path} line {n} has {len(row)} cells but the header has {len(head)}; "
-                             "every row must have one cell per column.")
-        for h, cell in zip(head, row):
-            cell = cell.strip()
-            try:
-                data[h].append(float(cell) if cell else math.nan)
-            except ValueError:
-                raise InputError(f"Table {path} line {n}, column {h!r}: {cell!r} is not a number; "
-                                 "all cells must be numbers (empty for missing).") from None
-    return {h: np.asarray(v, dtype=np.float64) for h, v in data.items()}
-
-
-def _read_json(path):
-    path = Path(path)
-    if not path.is_file():
-        return None
-    try:
-        return json.loads(path.read_text(encoding="utf-8"))
-    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(f"File {path} is not valid JSON ({exc}); fix or remove it.") from None
 
 
 def _label(col, text, units):
@@ -86,8 +40,19 @@ def _save(fig, path):
 def _figure(nrows, ncols, w=4.2, h=3.2):
     from matplotlib.figure import Figure
 
-    fig = Figure(figsize=(w * ncols, h * nrows), layout="constrained")
+    # fixed margins (in inches, so they hold for any grid) instead of a layout engine: the
+    # constrained layout doubled the drawing time
+    fw, fh = w * ncols, h * nrows
+    fig = Figure(figsize=(fw, fh))
     axes = fig.subplots(nrows, ncols, squeeze=False)
+    fig.subplots_adjust(
+        left=0.85 / fw,
+        right=1 - 0.2 / fw,
+        bottom=0.6 / fh,
+        top=1 - 0.35 / fh,
+        wspace=1.1 / w,
+        hspace=0.85 / h,
+    )
     return fig, axes.ravel()
 
 
@@ -128,9 +93,17 @@ def _curves(ax, table, col, tc, ylabel, transform=None):
         if transform is not None:
             y, err = transform(y, err)
         o = np.argsort(t)
-        ax.errorbar(t[o], y[o], yerr=None if err is None else err[o], color=OKABE_ITO[k % 8],
-                    marker=MARKERS[k % 8], ms=4, lw=1.2, capsize=2,
-                    label=f"L = {size}" if size is not None else None)
+        ax.errorbar(
+            t[o],
+            y[o],
+            yerr=None if err is None else err[o],
+            color=OKABE_ITO[k % 8],
+            marker=MARKERS[k % 8],
+            ms=4,
+            lw=1.2,
+            capsize=2,
+            label=f"L = {size}" if size is not None else None,
+        )
     _mark_tc(ax, tc)
     ax.set_xlabel("temperature T (K)")
     ax.set_ylabel(ylabel)
@@ -178,16 +151,6 @@ def log_histogram(areas, n_bins=None):
     return np.sqrt(edges[:-1] * edges[1:]), dens, counts
 
 
-def _points(run_dir, name):
-    """{size: [(T, path)]} of points/L{size}_T{T}K/<name>, sorted by temperature."""
-    out = {}
-    for d in sorted((run_dir / "points").glob("L*_T*K")):
-        m = _POINT_RE.match(d.name)
-        if m and (d / name).is_file():
-            out.setdefault(int(m.group(1)), []).append((float(m.group(2)), d / name))
-    return {k: sorted(v) for k, v in out.items()}
-
-
 def _pick(items, temperatures, n):
     """Items (T, path) nearest to the requested temperatures, or n spread over the range."""
     if temperatures is None:
@@ -198,7 +161,7 @@ def _pick(items, temperatures, n):
 
 
 def _plot_distributions(run_dir, size, temperatures, path):
-    pts = _points(run_dir, "domain_sizes.csv")
+    pts = sweep_points(run_dir, "domain_sizes.csv")
     if not pts:
         return None
     size = max(pts) if size is None or size not in pts else size
@@ -207,15 +170,24 @@ def _plot_distributions(run_dir, size, temperatures, path):
     for k, (t, p) in enumerate(_pick(pts[size], temperatures, 4)):
         tab = read_table(p)
         if "area_nm2" not in tab:
-            raise InputError(f"Domain-size table {p} has no 'area_nm2' column; it needs one row per domain "
-                             "with the domain area in nm^2.")
+            raise InputError(
+                f"Domain-size table {p} has no 'area_nm2' column; it needs one row per domain "
+                "with the domain area in nm^2."
+            )
         a = tab["area_nm2"][np.isfinite(tab["area_nm2"]) & (tab["area_nm2"] > 0)]
         if a.size == 0:
             continue
         mid, dens, counts = log_histogram(a)
         keep = counts > 0
-        ax.loglog(mid[keep], dens[keep], marker=MARKERS[k % 8], color=OKABE_ITO[k % 8], lw=1,
-                  ms=4, label=f"T = {t:.4g} K ({a.size} domains)")
+        ax.loglog(
+            mid[keep],
+            dens[keep],
+            marker=MARKERS[k % 8],
+            color=OKABE_ITO[k % 8],
+            lw=1,
+            ms=4,
+            label=f"T = {t:.4g} K ({a.size} domains)",
+        )
         drawn += 1
     if not drawn:
         return None
@@ -227,7 +199,7 @@ def _plot_distributions(run_dir, size, temperatures, path):
 
 
 def _plot_snapshots(run_dir, size, temperatures, n_max, path):
-    pts = _points(run_dir, "final.npz")
+    pts = sweep_points(run_dir, "final.npz")
     if not pts:
         return None
     size = max(pts) if size is None or size not in pts else size
@@ -235,29 +207,47 @@ def _plot_snapshots(run_dir, size, temperatures, n_max, path):
     ncols = min(3, len(chosen))
     nrows = -(-len(chosen) // ncols)
     fig, axes = _figure(nrows, ncols, 3.2, 3.0)
-    for ax, (t, p) in zip(axes, chosen):
+    for ax, (t, p) in zip(axes, chosen, strict=False):
         snap = load_snapshot(p)
         box = snap.get("box_nm")
         if box is None:
             box = np.array(snap["spins"].shape[1::-1], float) * snap.get("spacing_nm", 1.0)
-        img = colour_frame(snap["spins"], colour="mz", shape=snap["shape"],
-                           positions_nm=snap.get("positions_nm"), box_nm=box, periodic=snap["periodic"])
+        nx = snap["spins"].shape[1]
+        pix = None if snap["shape"] == "square" else float(box[0]) / min(1024, max(240, 8 * nx))
+        img = colour_frame(
+            snap["spins"],
+            colour="mz",
+            shape=snap["shape"],
+            pixel_nm=pix,
+            positions_nm=snap.get("positions_nm"),
+            box_nm=box,
+            periodic=snap["periodic"],
+        )
         ax.imshow(img, extent=(0, box[0], 0, box[1]), interpolation="nearest")
         ax.set_title(f"T = {t:.4g} K", fontsize=9)
         ax.set_xlabel("x (nm)")
         ax.set_ylabel("y (nm)")
-    for ax in axes[len(chosen):]:
+    for ax in axes[len(chosen) :]:
         ax.set_axis_off()
     from matplotlib.cm import ScalarMappable
     from matplotlib.colors import Normalize
 
     sm = ScalarMappable(norm=Normalize(-1, 1), cmap=DIVERGING_CMAP)
-    fig.colorbar(sm, ax=list(axes[:len(chosen)]), label=r"$m_z$ (order-axis component)", shrink=0.8)
+    fig.colorbar(
+        sm, ax=list(axes[: len(chosen)]), label=r"$m_z$ (order-axis component)", shrink=0.8
+    )
     return _save(fig, path)
 
 
-def plot_sweep(run_dir, out_dir=None, *, resolution_nm=None, temperatures=None, lattice_size=None,
-               max_snapshots=6):
+def plot_sweep(
+    run_dir,
+    out_dir=None,
+    *,
+    resolution_nm=None,
+    temperatures=None,
+    lattice_size=None,
+    max_snapshots=6,
+):
     """Plot a temperature sweep folder into PNG files.
 
     Parameters
@@ -288,44 +278,67 @@ def plot_sweep(run_dir, out_dir=None, *, resolution_nm=None, temperatures=None, 
     """
     run_dir = Path(run_dir)
     if not run_dir.is_dir():
-        raise InputError(f"Sweep folder {run_dir} does not exist or is not a folder; give the folder a "
-                         "temperature sweep wrote (with observables.csv).")
+        raise InputError(
+            f"Sweep folder {run_dir} does not exist or is not a folder; give the folder a "
+            "temperature sweep wrote (with observables.csv)."
+        )
     if not (run_dir / "observables.csv").is_file():
-        raise InputError(f"Sweep folder {run_dir} has no observables.csv; plot_sweep needs that table "
-                         "(columns size, temperature_K, m_abs, ...), written at the end of a sweep.")
+        raise InputError(
+            f"Sweep folder {run_dir} has no observables.csv; plot_sweep needs that table "
+            "(columns size, temperature_K, m_abs, ...), written at the end of a sweep."
+        )
     table = read_table(run_dir / "observables.csv")
     if "temperature_K" not in table or not len(table["temperature_K"]):
-        raise InputError(f"{run_dir / 'observables.csv'} has no 'temperature_K' column or no rows; "
-                         "a sweep table needs one row per (size, temperature).")
-    units = _read_json(run_dir / "columns.json") or {}
-    tc = _read_json(run_dir / "tc.json")
-    manifest = _read_json(run_dir / "manifest.json") or {}
+        raise InputError(
+            f"{run_dir / 'observables.csv'} has no 'temperature_K' column or no rows; "
+            "a sweep table needs one row per (size, temperature)."
+        )
+    units = read_json(run_dir / "columns.json") or {}
+    tc = read_json(run_dir / "tc.json")
+    manifest = read_json(run_dir / "manifest.json") or {}
     if resolution_nm is None:
         resolution_nm = (manifest.get("instrument") or {}).get("resolution_nm")
     out_dir = Path(out_dir) if out_dir is not None else run_dir / "plots"
     out = []
 
     fig, axes = _figure(2, 2)
-    if sum(_curves(ax, table, col, tc, _label(col, lab, units)) for ax, (col, lab) in zip(axes, THERMO)):
+    drawn = [
+        _curves(ax, table, c, tc, _label(c, lab, units))
+        for ax, (c, lab) in zip(axes, THERMO, strict=True)
+    ]
+    if any(drawn):
         out.append(_save(fig, out_dir / "sweep_thermodynamics.png"))
 
     fig, axes = _figure(1, 2)
     ok = _curves(axes[0], table, "correlation_length_nm", tc, r"correlation length $\xi$ (nm)")
-    ok += _curves(axes[1], table, "mean_domain_area_nm2", tc, "mean domain equivalent diameter (nm)",
-                  transform=_equivalent_diameter)
+    ok += _curves(
+        axes[1],
+        table,
+        "mean_domain_area_nm2",
+        tc,
+        "mean domain equivalent diameter (nm)",
+        transform=_equivalent_diameter,
+    )
     if ok:
         if resolution_nm is not None:
             for ax in axes:
                 if ax.lines or ax.collections:
-                    ax.axhline(float(resolution_nm), color="#E69F00", ls=":", lw=1.5,
-                               label=f"instrument resolution {float(resolution_nm):g} nm")
+                    ax.axhline(
+                        float(resolution_nm),
+                        color="#000000",
+                        ls=":",
+                        lw=1.5,
+                        label=f"instrument resolution {float(resolution_nm):g} nm",
+                    )
                     ax.legend(fontsize=7)
         out.append(_save(fig, out_dir / "sweep_lengths.png"))
 
     p = _plot_distributions(run_dir, lattice_size, temperatures, out_dir / "sweep_domain_sizes.png")
     if p is not None:
         out.append(p)
-    p = _plot_snapshots(run_dir, lattice_size, temperatures, max_snapshots, out_dir / "sweep_snapshots.png")
+    p = _plot_snapshots(
+        run_dir, lattice_size, temperatures, max_snapshots, out_dir / "sweep_snapshots.png"
+    )
     if p is not None:
         out.append(p)
     return out
@@ -350,12 +363,16 @@ def plot_timeseries(run_dir, out_dir=None):
     run_dir = Path(run_dir)
     path = run_dir / "timeseries.csv"
     if not path.is_file():
-        raise InputError(f"Run folder {run_dir} has no timeseries.csv; plot_timeseries needs the table a "
-                         "dynamics run writes (columns time_ps, mx, my, mz, energy_meV).")
+        raise InputError(
+            f"Run folder {run_dir} has no timeseries.csv; plot_timeseries needs the table a "
+            "dynamics run writes (columns time_ps, mx, my, mz, energy_meV)."
+        )
     tab = read_table(path)
     if "time_ps" not in tab or not len(tab["time_ps"]):
-        raise InputError(f"{path} has no 'time_ps' column or no rows; a time series needs the time in ps "
-                         "and one row per sample.")
+        raise InputError(
+            f"{path} has no 'time_ps' column or no rows; a time series needs the time in ps "
+            "and one row per sample."
+        )
     t = tab["time_ps"]
     temp = tab.get("temperature_K")
     show_t = temp is not None and np.isfinite(temp).any() and np.nanmax(temp) > np.nanmin(temp)

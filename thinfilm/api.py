@@ -1,0 +1,63 @@
+"""High-level entry points used by the CLI and by notebooks: run, demo, plot_run."""
+
+import time
+from pathlib import Path
+
+from .errors import InputError
+from .scenario import DEFAULT_SCENARIO, Scenario, load_scenario
+
+__all__ = ["run", "demo", "plot_run"]
+
+
+def _scenario(source):
+    return source if isinstance(source, Scenario) else load_scenario(source)
+
+
+def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None, progress=True):
+    """Run a scenario (path, dict or Scenario) into ``out_dir``; return the folder path.
+
+    A scenario with several temperatures or sizes runs as a sweep (see :mod:`thinfilm.sweep`),
+    otherwise as one time-resolved stochastic LLG run (see :mod:`thinfilm.runner`).
+    """
+    sc = _scenario(source)
+    if sc.is_sweep:
+        from .sweep import run_sweep
+
+        run_sweep(sc, out_dir, resume=resume, overwrite=overwrite, workers=workers,
+                  cluster=cluster or sc.sweep.cluster, progress=progress)
+    else:
+        from .runner import run_dynamics
+
+        run_dynamics(sc, out_dir, resume=resume, overwrite=overwrite, progress=progress)
+        if sc.movie:
+            from .render.movie import write_movie
+
+            write_movie(out_dir, Path(out_dir) / ("movie.gif" if sc.movie["gif"] else "movie.mp4"),
+                        fps=sc.movie["fps"], colour=sc.movie["colour"], gif=sc.movie["gif"])
+    return Path(out_dir)
+
+
+def plot_run(run_dir):
+    """Write the PNG figures of a run folder (sweep curves or a dynamics time series)."""
+    import json
+
+    run_dir = Path(run_dir)
+    man = run_dir / "manifest.json"
+    if not man.is_file():
+        raise InputError(f"{run_dir}: not a run folder (no manifest.json); give a folder written by "
+                         f"'thinfilm run' or 'thinfilm demo'")
+    kind = json.loads(man.read_text()).get("kind")
+    from .render import plots
+
+    if kind == "sweep":
+        return plots.plot_sweep(run_dir)
+    return plots.plot_timeseries(run_dir)
+
+
+def demo(out_dir=None, *, workers=None, progress=True):
+    """Run the embedded demo (an invented film) into ``out_dir`` (default outputs/demo-<time>)."""
+    if out_dir is None:
+        out_dir = Path("outputs") / time.strftime("demo-%Y%m%d-%H%M%S")
+    from .demo import run_demo
+
+    return run_demo(Path(out_dir), DEFAULT_SCENARIO, workers=workers, progress=progress)

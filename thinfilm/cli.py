@@ -1,0 +1,231 @@
+"""Command line: parses arguments, calls the API, prints. No physics here."""
+
+import argparse
+import sys
+import time
+import warnings
+from pathlib import Path
+
+from . import __version__
+from .errors import InputError, ThinFilmError, ThinFilmWarning
+
+__all__ = ["main"]
+
+
+def _print_check(sc):
+    from .derived import exchange_length_nm, mean_field_tc_K, wall_parameter_nm
+    from .dynamics import stable_time_step
+    from .model import build_model
+    from .units import KB_J_PER_K, MEV_J
+
+    model = build_model(sc)
+    d = sc.describe()
+    lat, mat = d["lattice"], d["material"]
+    print(f"scenario {sc.name!r} ({sc.source}) is valid.")
+    print(f"  lattice     {lat['shape']} {lat['cells'][0]} x {lat['cells'][1]} sites, spacing "
+          f"{lat['spacing_nm']:g} nm, {lat['edges']} edges, {model.lattice.n_sites} sites, "
+          f"{model.lattice.box_nm[0]:.4g} x {model.lattice.box_nm[1]:.4g} nm")
+    print(f"  moment      {mat['moment_muB']:.4g} muB per site")
+    print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
+    print(f"  anisotropy  K = {mat['anisotropy_meV']:.4g} meV per site along {mat['axis']} "
+          f"({'easy axis' if model.anisotropy_J > 0 else 'easy plane' if model.anisotropy_J < 0 else 'none'})")
+    if "continuum" in mat:
+        c = mat["continuum"]
+        print(f"  (from A = {c['stiffness_J_per_m']:.4g} J/m, Ku = {c['anisotropy_density_J_per_m3']:.4g} J/m^3, "
+              f"Ms = {c['magnetisation_A_per_m']:.4g} A/m, t = {c['thickness_nm']:.4g} nm)")
+        print(f"  exchange length  {exchange_length_nm(c['stiffness_J_per_m'], c['magnetisation_A_per_m']):.3g} nm")
+    print(f"  field       {d['field_T']} T")
+    if sc.sweep:
+        t = sc.sweep.temperatures_K
+        print(f"  sweep       {len(t)} temperatures {t[0]:g} .. {t[-1]:g} K, sizes {sc.sweep.sizes or [lat['cells'][0]]}, "
+              f"order {sc.sweep.order}, method {sc.dynamics.method}")
+    else:
+        print(f"  temperature {sc.temperature_K:g} K  (kB T = {KB_J_PER_K * sc.temperature_K / MEV_J:.4g} meV)")
+    tc = mean_field_tc_K(model)
+    print("derived scales")
+    print(f"  mean-field Tc estimate   {tc:.4g} K (mean field overestimates Tc in 2D; with K = 0 "
+          f"there is no finite-T order in 2D)")
+    w = wall_parameter_nm(model)
+    if w is not None:
+        print(f"  wall parameter sqrt(A/K) {w:.4g} nm, wall width pi sqrt(A/K) = {3.14159265 * w:.4g} nm")
+    dy = sc.dynamics
+    tmax = max(sc.sweep.temperatures_K) if sc.sweep else max(sc.temperature_K, dy.ramp_temperature_K or 0)
+    dt_ok = stable_time_step(model, tmax, dy.damping, dy.gamma)
+    flag = "ok" if dy.time_step_s <= dt_ok else "TOO LARGE"
+    print(f"  largest recommended time step {dt_ok * 1e15:.3g} fs at {tmax:g} K "
+          f"(scenario uses {dy.time_step_s * 1e15:g} fs: {flag})")
+
+
+def _cmd_check(args):
+    from .scenario import load_scenario
+
+    _print_check(load_scenario(args.file))
+    return 0
+
+
+def _cmd_run(args):
+    from .api import run
+
+    out = run(args.file, args.output, resume=args.resume, overwrite=args.overwrite,
+              workers=args.workers, cluster=args.cluster, progress=not args.quiet)
+    print(f"run folder: {out}")
+    return 0
+
+
+def _cmd_demo(args):
+    from .api import demo
+
+    out = demo(args.output, workers=args.workers, progress=not args.quiet)
+    print(f"demo run folder: {out}")
+    return 0
+
+
+def _cmd_image(args):
+    from .imaging import analyse_image
+
+    res = analyse_image(args.file, pixel_size=args.pixel_size, out_dir=args.output, level=args.level,
+                        smoothing=args.smoothing, background=args.background, mask=args.mask)
+    print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm")
+    print(f"  correlation length  {res['correlation_length_nm']:.4g} +- {res['correlation_length_nm_err']:.2g} nm "
+          f"(second moment); {res['correlation_length_fit_nm']:.4g} nm (Ornstein-Zernike fit)")
+    print(f"  domains             {res['domain_count']}, mean area {res['mean_domain_area_nm2']:.4g} nm^2")
+    print(f"  written to {Path(args.output) / 'image_analysis.json'}")
+    return 0
+
+
+def _cmd_movie(args):
+    from .render.movie import write_movie
+
+    instrument = None
+    if args.fwhm:
+        from .units import parse_quantity
+
+        try:
+            fwhm = parse_quantity(args.fwhm, "length") * 1e9
+            pix = parse_quantity(args.pixel, "length") * 1e9 if args.pixel else fwhm / 3
+        except ValueError as exc:
+            raise InputError(f"--fwhm/--pixel: {exc}") from None
+        instrument = {"fwhm_nm": fwhm, "pixel_nm": pix, "noise": args.noise}
+    out = args.output or str(Path(args.run_dir) / ("movie.gif" if args.gif else "movie.mp4"))
+    path = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour, instrument=instrument,
+                       gif=args.gif)
+    print(f"movie: {path}")
+    return 0
+
+
+def _cmd_plot(args):
+    from .api import plot_run
+
+    for p in plot_run(args.run_dir):
+        print(p)
+    return 0
+
+
+def _cmd_plan(args):
+    from .plan import make_plan
+
+    res = make_plan(args.file, args.output, resolution=args.resolution, exposure=args.exposure,
+                    field_of_view=args.field_of_view, workers=args.workers, reuse=args.reuse,
+                    progress=not args.quiet)
+    print(res["summary_text"])
+    print(f"plan written to {res['plan_md']}")
+    return 0
+
+
+def build_parser():
+    p = argparse.ArgumentParser(prog="thinfilm", description=(
+        "Thermal fluctuations of magnetic order in 2D films: stochastic LLG and Monte Carlo, "
+        "domains, correlation length, movies and heating plans."))
+    p.add_argument("--version", action="version", version=f"thinfilm {__version__}")
+    p.add_argument("--threads", type=int, default=None, help="kernel threads (default: all cores)")
+    sub = p.add_subparsers(dest="command", required=True)
+
+    s = sub.add_parser("demo", help="run the embedded demo scenario (an invented film) into outputs/")
+    s.add_argument("-o", "--output", default=None, help="run folder (default outputs/demo-<time>)")
+    s.add_argument("--workers", type=int, default=None, help="local worker processes for the sweep")
+    s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
+    s.set_defaults(func=_cmd_demo)
+
+    s = sub.add_parser("check", help="validate a scenario and print resolved parameters and derived scales")
+    s.add_argument("file")
+    s.set_defaults(func=_cmd_check)
+
+    s = sub.add_parser("run", help="run a scenario (one dynamics run, or a temperature sweep)")
+    s.add_argument("file")
+    s.add_argument("-o", "--output", required=True, help="run folder")
+    s.add_argument("--resume", action="store_true", help="continue an interrupted run in the same folder")
+    s.add_argument("--overwrite", action="store_true", help="replace an earlier run in the folder")
+    s.add_argument("--workers", type=int, default=None, help="local worker processes for a sweep")
+    s.add_argument("--cluster", default=None, help="Dask scheduler address, e.g. tcp://host:8786")
+    s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
+    s.set_defaults(func=_cmd_run)
+
+    s = sub.add_parser("image", help="domain and correlation analysis of a measured microscope image")
+    s.add_argument("file", help="PNG or TIFF, greyscale")
+    s.add_argument("--pixel-size", required=True, help='pixel size with unit, e.g. "5 nm"')
+    s.add_argument("-o", "--output", required=True, help="output folder")
+    s.add_argument("--level", type=float, default=0.0, help="threshold on the normalised contrast (-1..1)")
+    s.add_argument("--smoothing", default=None, help='smoothing length, e.g. "10 nm"')
+    s.add_argument("--background", default="plane", choices=["none", "mean", "plane"],
+                   help="background subtraction")
+    s.add_argument("--mask", default=None, help="image of invalid pixels (non-zero = invalid)")
+    s.set_defaults(func=_cmd_image)
+
+    s = sub.add_parser("movie", help="MP4 (or GIF) of the spin field of a run folder")
+    s.add_argument("run_dir")
+    s.add_argument("-o", "--output", default=None, help="movie file (default RUN_DIR/movie.mp4)")
+    s.add_argument("--fps", type=int, default=20)
+    s.add_argument("--colour", choices=["mz", "angle"], default="mz")
+    s.add_argument("--gif", action="store_true", help="write a GIF instead of an MP4")
+    s.add_argument("--fwhm", default=None, help='instrument resolution for a side-by-side view, e.g. "30 nm"')
+    s.add_argument("--pixel", default=None, help='instrument pixel size, e.g. "10 nm"')
+    s.add_argument("--noise", type=float, default=0.0, help="instrument noise (fraction of full contrast)")
+    s.set_defaults(func=_cmd_movie)
+
+    s = sub.add_parser("plot", help="PNG figures of a run folder (sweep curves or time series)")
+    s.add_argument("run_dir")
+    s.set_defaults(func=_cmd_plot)
+
+    s = sub.add_parser("plan", help="heating plan for a film and an instrument")
+    s.add_argument("file", help="scenario with a temperature sweep")
+    s.add_argument("-o", "--output", required=True, help="folder for the sweep and the plan")
+    s.add_argument("--resolution", default=None, help='instrument resolution, e.g. "30 nm"')
+    s.add_argument("--exposure", default=None, help='exposure time, e.g. "10 ms"')
+    s.add_argument("--field-of-view", default=None, help='field of view, e.g. "5 um"')
+    s.add_argument("--workers", type=int, default=None)
+    s.add_argument("--reuse", action="store_true", help="reuse a finished sweep in the folder")
+    s.add_argument("-q", "--quiet", action="store_true")
+    s.set_defaults(func=_cmd_plan)
+    return p
+
+
+def main(argv=None):
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.threads is not None:
+        from .config import set_threads
+
+        set_threads(args.threads)
+
+    def show(message, category, filename, lineno, file=None, line=None):
+        print(f"thinfilm: warning: {message}", file=sys.stderr)
+
+    warnings.showwarning = show
+    warnings.simplefilter("always", ThinFilmWarning)
+    t = time.time()
+    try:
+        rc = args.func(args)
+    except ThinFilmError as exc:
+        print(f"thinfilm: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("thinfilm: interrupted; finished parts are saved. Continue with the same command and --resume.",
+              file=sys.stderr)
+        return 130
+    if getattr(args, "command", "") in ("run", "demo", "plan"):
+        print(f"wall time {time.time() - t:.1f} s")
+    return rc
+
+
+if __name__ == "__main__":
+    sys.exit(main())

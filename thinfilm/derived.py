@@ -1,0 +1,73 @@
+"""Derived scales printed by `thinfilm check`: mean-field Tc, wall width, exchange length."""
+
+import math
+
+import numpy as np
+from scipy import optimize, special
+
+from .continuum import exchange_factor, site_area
+from .units import KB_J_PER_K, MU0
+
+__all__ = ["mean_field_tc_K", "wall_parameter_nm", "exchange_length_nm"]
+
+
+def _cos2_mean(sigma):
+    """<cos^2 theta> of a free unit spin with weight exp(sigma cos^2 theta) (sigma = K/kBT).
+
+    Closed forms: sigma > 0: 1/(2 u D(u)) - 1/(2 sigma), u = sqrt(sigma), D the Dawson
+    function; sigma < 0: 1/(2s) - exp(-s)/(sqrt(pi s) erf(sqrt s)), s = -sigma.
+    """
+    if abs(sigma) < 1e-3:
+        return 1.0 / 3.0 + 4.0 * sigma / 45.0
+    if sigma > 0:
+        u = math.sqrt(sigma)
+        return 1.0 / (2.0 * u * special.dawsn(u)) - 1.0 / (2.0 * sigma)
+    s = -sigma
+    return 1.0 / (2.0 * s) - math.exp(-s) / (math.sqrt(math.pi * s) * special.erf(math.sqrt(s)))
+
+
+def mean_field_tc_K(model):
+    """Single-site mean-field Tc (K).
+
+    Linearising the self-consistency of the order-axis moment gives kB Tc = z J <cos^2>_0,
+    with <cos^2>_0 the single-ion average at Tc for an easy axis (zJ/3 at K = 0, zJ as
+    K/J -> infinity); for an easy plane the in-plane order gives kB Tc = z J <sin^2>_0 / 2.
+    Mean field ignores fluctuations; in 2D it overestimates Tc (and for K = 0 there is no
+    transition at all: Mermin and Wagner 1966).
+    """
+    z = model.lattice.coordination
+    jj, kk = model.exchange_J, model.anisotropy_J
+    if jj <= 0:
+        return 0.0
+
+    if kk >= 0:
+        def f(t):
+            return t - z * jj * _cos2_mean(kk / t)
+    else:
+        def f(t):
+            return t - z * jj * (1 - _cos2_mean(kk / t)) / 2.0
+
+    # solve in energy units t = kB Tc (J)
+    lo, hi = 1e-6 * z * jj, 2.0 * z * jj
+    root = optimize.brentq(f, lo, hi, xtol=1e-12 * z * jj)
+    return root / KB_J_PER_K
+
+
+def wall_parameter_nm(model):
+    """Bloch-wall parameter Delta = sqrt(A/Ku) in nm from the lattice parameters (easy axis only).
+
+    With A t = J / c (c = 2, 2/sqrt3, 2 sqrt3 for square, triangular, honeycomb) and
+    Ku t = K / Omega, Delta = sqrt(J Omega / (c K)). The wall width is pi Delta (Lilley 1950).
+    Returns None for K <= 0.
+    """
+    if model.anisotropy_J <= 0 or model.exchange_J <= 0:
+        return None
+    lat = model.lattice
+    a = lat.spacing_nm
+    omega = site_area(lat.shape, a)
+    return float(np.sqrt(model.exchange_J * omega / (exchange_factor(lat.shape) * model.anisotropy_J)))
+
+
+def exchange_length_nm(stiffness_J_per_m, magnetisation_A_per_m):
+    """Exchange length l_ex = sqrt(2A / (mu0 Ms^2)) in nm."""
+    return math.sqrt(2 * stiffness_J_per_m / (MU0 * magnetisation_A_per_m**2)) * 1e9

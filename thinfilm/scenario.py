@@ -1,0 +1,532 @@
+"""YAML scenario -> frozen, validated dataclasses in SI / practical units.
+
+Every error names the file, the key path, the value and what is allowed.
+"""
+
+import difflib
+import math
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import yaml
+
+from .errors import ScenarioError
+from .lattice import SHAPES
+from .units import KB_J_PER_K, MEV_J, MU0, MU_B_J_PER_T, parse_quantity
+from .continuum import continuum_to_lattice
+
+__all__ = ["Scenario", "load_scenario", "DEFAULT_SCENARIO"]
+
+DEFAULT_SCENARIO = Path(__file__).with_name("data") / "demo.yaml"
+INITIAL_STATES = ("random", "up", "down", "stripes")
+METHODS = ("llg", "monte-carlo")
+ORDERS = ("heating", "cooling", "independent")
+COLOURS = ("mz", "angle")
+MAX_SITES = 50_000_000  # 50 M sites ~ 5 GB of engine memory
+BYTES_PER_SITE = 100
+
+
+class _Reader:
+    """Walks a nested mapping, remembering the key path for error messages."""
+
+    def __init__(self, data, path, prefix=""):
+        self.data = data
+        self.path = path
+        self.prefix = prefix
+        if not isinstance(data, dict):
+            raise self.error(f"must be a mapping of keys, got {data!r}", "")
+
+    def key(self, name):
+        return f"{self.prefix}.{name}" if self.prefix else name
+
+    def error(self, message, name):
+        return ScenarioError(message, path=self.path, key=self.key(name) if name else self.prefix or None)
+
+    def check_keys(self, allowed):
+        for k in self.data:
+            if k not in allowed:
+                close = difflib.get_close_matches(str(k), list(allowed), n=1, cutoff=0.6)
+                hint = f" Did you mean {close[0]!r}?" if close else ""
+                raise self.error(
+                    f"unknown key {k!r}; allowed keys here are {', '.join(sorted(allowed))}.{hint}", k
+                )
+
+    def has(self, name):
+        return name in self.data and self.data[name] is not None
+
+    def raw(self, name, default=None, required=False):
+        if name not in self.data or self.data[name] is None:
+            if required:
+                raise self.error("is required but missing", name)
+            return default
+        return self.data[name]
+
+    def sub(self, name, required=False):
+        val = self.raw(name, {} if not required else None, required)
+        return _Reader(val, self.path, self.key(name))
+
+    def quantity(self, name, kind, *, default=None, required=False, positive=False, nonneg=False):
+        val = self.raw(name, default, required)
+        if val is None:
+            return None
+        try:
+            q = parse_quantity(val, kind)
+        except ValueError as exc:
+            raise self.error(str(exc), name) from None
+        if positive and not q > 0:
+            raise self.error(f"must be positive, got {val!r}", name)
+        if nonneg and q < 0:
+            raise self.error(f"must not be negative, got {val!r}", name)
+        return q
+
+    def number(self, name, *, default=None, required=False, lo=None, hi=None, integer=False):
+        val = self.raw(name, default, required)
+        if val is None:
+            return None
+        kind = "an integer" if integer else "a number"
+        if isinstance(val, bool) or not isinstance(val, (int, float)) or (integer and not float(val).is_integer()):
+            raise self.error(f"must be {kind}, got {val!r}", name)
+        if not math.isfinite(val):
+            raise self.error(f"must be finite, got {val!r}", name)
+        if lo is not None and val < lo:
+            raise self.error(f"must be at least {lo}, got {val!r}", name)
+        if hi is not None and val > hi:
+            raise self.error(f"must be at most {hi}, got {val!r}", name)
+        return int(val) if integer else float(val)
+
+    def choice(self, name, allowed, *, default=None, required=False):
+        val = self.raw(name, default, required)
+        if val is not None and val not in allowed:
+            close = difflib.get_close_matches(str(val), list(allowed), n=1, cutoff=0.5)
+            hint = f" Did you mean {close[0]!r}?" if close else ""
+            raise self.error(f"must be one of {', '.join(allowed)}; got {val!r}.{hint}", name)
+        return val
+
+    def vector(self, name, *, unit_kind=None, default=None, required=False, nonzero=False):
+        """A 3-vector: plain list (direction) or {value: [..], unit: ..} when unit_kind is set."""
+        val = self.raw(name, default, required)
+        if val is None:
+            return None
+        scale = 1.0
+        if unit_kind is not None:
+            if not isinstance(val, dict) or set(val) != {"value", "unit"}:
+                raise self.error(
+                    f"must be written as {{value: [x, y, z], unit: T}}; got {val!r}", name)
+            unit = val["unit"]
+            try:
+                scale = parse_quantity(f"1 {unit}", unit_kind)
+            except ValueError as exc:
+                raise self.error(f"unit {unit!r}: {exc}", name) from None
+            val = val["value"]
+        if (not isinstance(val, (list, tuple)) or len(val) != 3
+                or not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in val)):
+            raise self.error(f"must be a list of three numbers, got {val!r}", name)
+        vec = np.asarray(val, dtype=np.float64) * scale
+        if not np.all(np.isfinite(vec)):
+            raise self.error(f"must be finite, got {val!r}", name)
+        if nonzero and not np.linalg.norm(vec) > 0:
+            raise self.error(f"must be a non-zero 3-vector, got {val!r}", name)
+        return vec
+
+
+@dataclass(frozen=True)
+class LatticeSpec:
+    shape: str
+    nx: int
+    ny: int
+    spacing_nm: float
+    periodic: bool
+
+
+@dataclass(frozen=True)
+class MaterialSpec:
+    moment_J_per_T: float
+    exchange_J: float
+    anisotropy_J: float
+    axis: np.ndarray
+    continuum: dict | None = None  # the continuum inputs when the film was given that way
+
+
+@dataclass(frozen=True)
+class DynamicsSpec:
+    method: str = "llg"
+    damping: float = 0.1
+    time_step_s: float = 1e-15
+    duration_s: float = 10e-12
+    gamma: float = 1.76085963023e11
+    warmup_s: float = 0.0
+    ramp_temperature_K: float | None = None
+    ramp_field_T: np.ndarray | None = None
+    sweeps_warmup: int = 2000
+    sweeps_samples: int = 5000
+    sample_every: int = 1
+
+
+@dataclass(frozen=True)
+class SweepSpec:
+    temperatures_K: tuple
+    sizes: tuple | None = None
+    refine: str | None = None
+    order: str = "independent"
+    cluster: str | None = None
+    snapshots: int = 4
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A validated scenario. Quantities in SI units unless the name says otherwise."""
+
+    name: str
+    source: str
+    lattice: LatticeSpec
+    material: MaterialSpec
+    field_T: np.ndarray
+    temperature_K: float
+    dynamics: DynamicsSpec
+    initial: str
+    record_every_s: float | None
+    snapshot_every_s: float | None
+    seed: int
+    sweep: SweepSpec | None = None
+    instrument: dict = field(default_factory=dict)
+    movie: dict | None = None
+    analysis: dict = field(default_factory=dict)
+    raw: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def is_sweep(self):
+        return self.sweep is not None
+
+    def with_changes(self, **changes):
+        """Copy with some fields replaced (dataclasses.replace)."""
+        from dataclasses import replace
+
+        return replace(self, **changes)
+
+    def describe(self):
+        """Resolved parameters in physical units (for manifests and `thinfilm check`)."""
+        m, lat, d = self.material, self.lattice, self.dynamics
+        out = {
+            "name": self.name,
+            "source": self.source,
+            "lattice": {"shape": lat.shape, "cells": [lat.nx, lat.ny], "spacing_nm": lat.spacing_nm,
+                        "edges": "periodic" if lat.periodic else "open"},
+            "material": {"moment_muB": m.moment_J_per_T / MU_B_J_PER_T,
+                         "exchange_meV": m.exchange_J / MEV_J,
+                         "anisotropy_meV": m.anisotropy_J / MEV_J,
+                         "axis": [float(v) for v in m.axis]},
+            "field_T": [float(v) for v in self.field_T],
+            "temperature_K": self.temperature_K,
+            "dynamics": {"method": d.method, "damping": d.damping, "time_step_fs": d.time_step_s * 1e15,
+                         "duration_ps": d.duration_s * 1e12, "gamma_rad_per_s_T": d.gamma,
+                         "warmup_sweeps": d.sweeps_warmup, "sample_sweeps": d.sweeps_samples},
+            "initial": self.initial,
+            "seed": self.seed,
+        }
+        if m.continuum:
+            out["material"]["continuum"] = m.continuum
+        if d.ramp_temperature_K is not None:
+            out["dynamics"]["ramp_to_temperature_K"] = d.ramp_temperature_K
+        if d.ramp_field_T is not None:
+            out["dynamics"]["ramp_to_field_T"] = [float(v) for v in d.ramp_field_T]
+        if self.record_every_s:
+            out["record_every_ps"] = self.record_every_s * 1e12
+        if self.sweep:
+            out["sweep"] = {"temperatures_K": list(self.sweep.temperatures_K),
+                            "sizes": list(self.sweep.sizes) if self.sweep.sizes else None,
+                            "refine": self.sweep.refine, "order": self.sweep.order}
+        if self.instrument:
+            out["instrument"] = dict(self.instrument)
+        return out
+
+
+def _temperatures(r, path):
+    """Single temperature (float) or a sweep (tuple of K, refine) from the 'temperature' key."""
+    val = r.raw("temperature", required=True)
+    if isinstance(val, str):
+        return r.quantity("temperature", "temperature", nonneg=True), None, None
+    if isinstance(val, list):
+        if not val:
+            raise r.error("an explicit list of temperatures must not be empty", "temperature")
+        temps = []
+        for k, v in enumerate(val):
+            try:
+                t = parse_quantity(v, "temperature")
+            except ValueError as exc:
+                raise ScenarioError(str(exc), path=path, key=f"temperature[{k}]") from None
+            if t < 0:
+                raise ScenarioError(f"must not be negative, got {v!r}", path=path, key=f"temperature[{k}]")
+            temps.append(t)
+        return temps[0], tuple(sorted(temps)), None
+    t = r.sub("temperature")
+    t.check_keys({"start", "stop", "step", "refine"})
+    start = t.quantity("start", "temperature", required=True, nonneg=True)
+    stop = t.quantity("stop", "temperature", required=True, nonneg=True)
+    step = t.quantity("step", "temperature", required=True, positive=True)
+    if stop < start:
+        raise t.error(f"stop ({stop} K) must not be below start ({start} K)", "stop")
+    n = int(math.floor((stop - start) / step + 1e-9)) + 1
+    if n > 2000:
+        raise t.error(f"gives {n} temperatures; at most 2000 are allowed", "step")
+    temps = tuple(float(round(start + k * step, 9)) for k in range(n))
+    refine = t.choice("refine", ("near-tc", "none"), default="none")
+    return start, temps, (None if refine == "none" else refine)
+
+
+def _material(r, lat):
+    m = r.sub("material", required=True)
+    continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
+    lattice_keys = {"moment", "exchange", "anisotropy"}
+    m.check_keys(continuum_keys | lattice_keys | {"axis"})
+    given_c = continuum_keys & set(m.data)
+    given_l = lattice_keys & set(m.data)
+    if given_c and given_l:
+        raise m.error(
+            f"give either lattice parameters (moment, exchange, anisotropy) or continuum parameters "
+            f"(stiffness, anisotropy_density, magnetisation, thickness), not both; got {sorted(m.data)}", "")
+    if given_c:
+        a = m.quantity("stiffness", "stiffness", required=True, nonneg=True)
+        ku = m.quantity("anisotropy_density", "energy_density", default="0 J/m^3")
+        ms = m.quantity("magnetisation", "magnetisation", required=True, positive=True)
+        t = m.quantity("thickness", "length", required=True, positive=True)
+        shape_aniso = m.raw("shape_anisotropy", False)
+        if not isinstance(shape_aniso, bool):
+            raise m.error(f"must be true or false, got {shape_aniso!r}", "shape_anisotropy")
+        axis = m.vector("axis", default=[0, 0, 1], nonzero=True)
+        mu, jj, kk = continuum_to_lattice(lat.shape, lat.spacing_nm * 1e-9, a, ku, ms, t,
+                                          shape_anisotropy=shape_aniso, axis=axis)
+        cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
+                "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
+                "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont)
+    mu = m.quantity("moment", "moment", required=True, positive=True)
+    jj = m.quantity("exchange", "energy", required=True)
+    aniso = m.raw("anisotropy")
+    if aniso is None:
+        kk, axis = 0.0, np.array([0.0, 0.0, 1.0])
+    else:
+        an = m.sub("anisotropy")
+        an.check_keys({"constant", "axis"})
+        kk = an.quantity("constant", "energy", required=True)
+        axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
+    if m.has("axis"):
+        raise m.error("put the axis under material.anisotropy.axis", "axis")
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None)
+
+
+def _lattice(r):
+    lt = r.sub("lattice", required=True)
+    lt.check_keys({"shape", "cells", "spacing", "edges"})
+    shape = lt.choice("shape", SHAPES, required=True)
+    cells = lt.raw("cells", required=True)
+    if (not isinstance(cells, list) or len(cells) != 2
+            or not all(isinstance(c, int) and not isinstance(c, bool) for c in cells)):
+        raise lt.error(f"must be a list of two positive integers [Nx, Ny], got {cells!r}", "cells")
+    nx, ny = cells
+    if nx < 1 or ny < 1:
+        raise lt.error(f"must be positive, got {cells!r}", "cells")
+    spacing = lt.quantity("spacing", "length", required=True, positive=True)
+    edges = lt.choice("edges", ("periodic", "open"), default="periodic")
+    periodic = edges == "periodic"
+    if periodic and shape == "triangular" and ny % 2:
+        raise lt.error(f"a periodic triangular lattice needs an even Ny, got {cells!r}", "cells")
+    if periodic and shape == "honeycomb" and (nx % 2 or ny % 2):
+        raise lt.error(f"a periodic honeycomb lattice needs even Nx and Ny, got {cells!r}", "cells")
+    return LatticeSpec(shape, nx, ny, float(f"{spacing * 1e9:.12g}"), periodic)
+
+
+def _check_memory(r, lat, sizes):
+    n = max([lat.nx * lat.ny] + [s * s for s in (sizes or ())])
+    try:
+        phys = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
+    except (ValueError, OSError, AttributeError):
+        phys = 8 * 2**30
+    need = n * BYTES_PER_SITE
+    if n > MAX_SITES or need > 0.5 * phys:
+        raise r.error(f"{n} sites need about {need / 2**30:.1f} GiB; at most {MAX_SITES} sites and "
+                      f"half the machine's memory ({phys / 2**30:.1f} GiB) are allowed",
+                      "lattice.cells" if not sizes else "sizes")
+
+
+def _dynamics(r):
+    d = r.sub("dynamics")
+    d.check_keys({"method", "damping", "timestep", "duration", "warmup", "gyromagnetic_ratio",
+                  "ramp", "sweeps", "sample_every"})
+    method = d.choice("method", METHODS, default="llg")
+    damping = d.number("damping", default=0.1, lo=0.0)
+    if not damping > 0:
+        raise d.error("must be positive (the thermal field is proportional to the damping), got 0", "damping")
+    dt = d.quantity("timestep", "time", default="1 fs", positive=True)
+    duration = d.quantity("duration", "time", default="10 ps", positive=True)
+    warm = d.quantity("warmup", "time", default="0 ps", nonneg=True)
+    gamma_raw = d.raw("gyromagnetic_ratio")
+    gamma = 1.76085963023e11
+    if gamma_raw is not None:
+        try:
+            gamma = _gamma(gamma_raw)
+        except ValueError as exc:
+            raise d.error(str(exc), "gyromagnetic_ratio") from None
+    if duration / dt > 2e9:
+        raise d.error(f"duration/timestep = {duration / dt:.3g} steps; at most 2e9 allowed", "duration")
+    ramp_t = ramp_b = None
+    if d.has("ramp"):
+        rp = d.sub("ramp")
+        rp.check_keys({"temperature", "field"})
+        ramp_t = rp.quantity("temperature", "temperature", nonneg=True)
+        ramp_b = rp.vector("field", unit_kind="field")
+    sw = d.sub("sweeps")
+    sw.check_keys({"warmup", "samples"})
+    n_warm = sw.number("warmup", default=2000, lo=0, integer=True)
+    n_samp = sw.number("samples", default=5000, lo=10, integer=True)
+    every = d.number("sample_every", default=1, lo=1, integer=True)
+    return DynamicsSpec(method, damping, dt, duration, gamma, warm, ramp_t, ramp_b, n_warm, n_samp, every)
+
+
+def _gamma(text):
+    """Gyromagnetic ratio from e.g. "1.76e11 rad/(s T)" or "28 GHz/T" (2 pi applied for Hz)."""
+    if not isinstance(text, str):
+        raise ValueError(f"must be a string with a unit such as \"1.76e11 rad/(s T)\", got {text!r}")
+    from .units import ureg
+
+    try:
+        q = ureg.Quantity(text)
+    except Exception as exc:
+        raise ValueError(f"cannot read {text!r}") from exc
+    if q.check("1 / [time] * [current] * [time] ** 2 / [mass]"):
+        val = q.to("rad/(s*T)").magnitude if "rad" in str(q.units) else q.to("1/(s*T)").magnitude
+        if "Hz" in str(q.units) or "hertz" in str(q.units):
+            val *= 2 * math.pi
+        if not val > 0:
+            raise ValueError(f"must be positive, got {text!r}")
+        return float(val)
+    raise ValueError(f"{text!r} is not a gyromagnetic ratio (example: \"1.76e11 rad/(s T)\")")
+
+
+def _initial(r, path):
+    val = r.raw("initial", "random")
+    if not isinstance(val, str):
+        raise r.error(f"must be one of {', '.join(INITIAL_STATES)} or a path to a saved .npz snapshot; got {val!r}", "initial")
+    if val in INITIAL_STATES:
+        return val
+    p = Path(val)
+    if not p.is_absolute() and path and path != "<dict>":
+        p = Path(path).parent / p
+    if p.suffix != ".npz" or not p.is_file():
+        close = difflib.get_close_matches(val, INITIAL_STATES, n=1, cutoff=0.5)
+        hint = f" Did you mean {close[0]!r}?" if close else ""
+        raise r.error(f"must be one of {', '.join(INITIAL_STATES)} or the path of an existing .npz "
+                      f"snapshot; got {val!r}.{hint}", "initial")
+    return str(p)
+
+
+def _instrument(r):
+    ins = r.sub("instrument")
+    ins.check_keys({"resolution", "pixel", "noise", "exposure", "field_of_view"})
+    out = {}
+    for key, kind, name in (("resolution", "length", "resolution_nm"), ("pixel", "length", "pixel_nm"),
+                            ("field_of_view", "length", "field_of_view_nm")):
+        v = ins.quantity(key, kind, positive=True)
+        if v is not None:
+            out[name] = v * 1e9
+    exp = ins.quantity("exposure", "time", positive=True)
+    if exp is not None:
+        out["exposure_s"] = exp
+    noise = ins.number("noise", lo=0.0)
+    if noise is not None:
+        out["noise"] = noise
+    if "resolution_nm" in out and "field_of_view_nm" in out and out["resolution_nm"] >= out["field_of_view_nm"]:
+        raise ins.error(f"resolution ({out['resolution_nm']:g} nm) must be smaller than the field of view "
+                        f"({out['field_of_view_nm']:g} nm)", "resolution")
+    return out
+
+
+def load_scenario(source):
+    """Read and validate a scenario from a YAML path or a dictionary.
+
+    Parameters
+    ----------
+    source : str, Path or dict
+
+    Returns
+    -------
+    Scenario
+
+    Raises
+    ------
+    ScenarioError
+        Naming the file, key path, value and what is allowed.
+    """
+    if isinstance(source, dict):
+        data, path = source, "<dict>"
+    else:
+        path = str(source)
+        try:
+            text = Path(source).read_text(encoding="utf-8")
+        except FileNotFoundError:
+            raise ScenarioError("file not found", path=path) from None
+        except (OSError, UnicodeDecodeError) as exc:
+            raise ScenarioError(f"cannot read the file ({exc})", path=path) from None
+        try:
+            data = yaml.safe_load(text)
+        except yaml.YAMLError as exc:
+            raise ScenarioError(f"is not valid YAML: {exc}".replace("\n", " "), path=path) from None
+        if data is None:
+            raise ScenarioError("is empty; see scenarios/ for examples", path=path)
+    r = _Reader(data, path)
+    r.check_keys({"name", "description", "lattice", "material", "field", "temperature", "sizes",
+                  "dynamics", "initial", "record", "seed", "sweep", "instrument", "movie", "analysis"})
+    lat = _lattice(r)
+    mat = _material(r, lat)
+    field_T = r.vector("field", unit_kind="field", default={"value": [0, 0, 0], "unit": "T"})
+    t0, temps, refine = _temperatures(r, path)
+    sizes = r.raw("sizes")
+    if sizes is not None:
+        if (not isinstance(sizes, list) or not sizes
+                or not all(isinstance(s, int) and not isinstance(s, bool) and s >= 2 for s in sizes)):
+            raise r.error(f"must be a list of lattice sizes L >= 2 (L x L cells), got {sizes!r}", "sizes")
+        if lat.shape in ("triangular", "honeycomb") and lat.periodic and any(s % 2 for s in sizes):
+            raise r.error(f"a periodic {lat.shape} lattice needs even sizes, got {sizes!r}", "sizes")
+        sizes = tuple(sorted(set(sizes)))
+    _check_memory(r, lat, sizes)
+    dyn = _dynamics(r)
+    sw = r.sub("sweep")
+    sw.check_keys({"order", "cluster", "snapshots"})
+    order = sw.choice("order", ORDERS, default="independent")
+    cluster = sw.raw("cluster")
+    if cluster is not None and (not isinstance(cluster, str) or "://" not in cluster):
+        raise sw.error(f"must be a scheduler address such as 'tcp://host:8786', got {cluster!r}", "cluster")
+    n_snap = sw.number("snapshots", default=4, lo=1, integer=True)
+    sweep = None
+    if temps is not None and (len(temps) > 1 or sizes or refine):
+        sweep = SweepSpec(temps, sizes, refine, order, cluster, n_snap)
+    rec = r.sub("record")
+    rec.check_keys({"every", "snapshots"})
+    every = rec.quantity("every", "time", positive=True)
+    snap_every = rec.quantity("snapshots", "time", positive=True)
+    if every is not None and every < dyn.time_step_s:
+        raise rec.error(f"must be at least one time step ({dyn.time_step_s * 1e15:g} fs)", "every")
+    seed = r.number("seed", default=1, lo=0, hi=2**63 - 1, integer=True)
+    mv = r.raw("movie")
+    movie = None
+    if mv is not None:
+        m = r.sub("movie")
+        m.check_keys({"fps", "colour", "gif", "instrument"})
+        movie = {"fps": m.number("fps", default=20, lo=1, hi=120, integer=True),
+                 "colour": m.choice("colour", COLOURS, default="mz"),
+                 "gif": bool(m.raw("gif", False)), "instrument": bool(m.raw("instrument", False))}
+    an = r.sub("analysis")
+    an.check_keys({"level", "smoothing"})
+    analysis = {"level": an.number("level", default=0.0, lo=-1.0, hi=1.0)}
+    sm = an.quantity("smoothing", "length", nonneg=True)
+    if sm:
+        analysis["smoothing_nm"] = sm * 1e9
+    name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
+    return Scenario(str(name), path, lat, mat, field_T, t0, dyn, _initial(r, path), every,
+                    snap_every, seed, sweep, _instrument(r), movie, analysis, data)
+
+
+def thermal_energy_meV(temperature_K):
+    """kB T in meV."""
+    return KB_J_PER_K * temperature_K / MEV_J
