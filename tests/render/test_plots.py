@@ -9,7 +9,8 @@ import pytest
 
 from thinfilm.errors import InputError
 from thinfilm.lattice import Lattice
-from thinfilm.render.plots import log_histogram, plot_sweep, plot_timeseries, read_table
+from thinfilm.render.plots import log_histogram, plot_sweep, plot_timeseries
+from thinfilm.render.rundir import read_table
 
 PNG_MAGIC = b"\x89PNG\r\n\x1a\n"
 TEMPS = (1.0, 2.0, 2.5, 3.0, 4.0)

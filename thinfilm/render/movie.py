@@ -102,8 +102,9 @@ class _Painter:
     def _setup_instrument(self, first, inst):
         if not isinstance(inst, Mapping) or "fwhm_nm" not in inst:
             raise InputError(
-                "instrument must be a dict with 'fwhm_nm' (resolution, nm) and optionally 'pixel_nm' "
-                f"(nm), 'noise' (std of added noise, m_z units) and 'seed'; got {inst!r}."
+                "instrument must be a dict with 'fwhm_nm' (resolution, nm) and optionally "
+                "'pixel_nm' (nm), 'noise' (std of added noise, m_z units) and 'seed'; "
+                f"got {inst!r}."
             )
         fwhm = float(inst["fwhm_nm"])
         pix = float(inst.get("pixel_nm", fwhm / 2))
