@@ -112,7 +112,9 @@ class MonteCarlo:
         norm = np.linalg.norm(a, axis=-1, keepdims=True)
         if not np.all(norm > 0) or not np.all(np.isfinite(a)):
             raise ValueError("spins must be finite and non-zero")
-        return a / norm
+        if np.max(np.abs(norm - 1.0)) > 1e-12:  # unit spins are kept bit for bit (resuming)
+            a /= norm
+        return a
 
     @property
     def spins(self):
