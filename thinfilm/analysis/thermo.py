@@ -36,7 +36,8 @@ def autocorrelation(x):
     d = x - x.mean()
     f = np.fft.rfft(d, 2 * n)
     acf = np.fft.irfft(f * np.conj(f), 2 * n)[:n] / n
-    if acf[0] <= 0:
+    scale = np.max(np.abs(x))
+    if acf[0] <= (1e-12 * scale) ** 2:  # constant up to rounding: no correlations to measure
         return np.concatenate([[1.0], np.zeros(n - 1)])
     return acf / acf[0]
 
