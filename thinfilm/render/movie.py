@@ -258,7 +258,7 @@ def write_movie(
     axis=(0.0, 0.0, 1.0),
     spacing_nm=1.0,
     labels=True,
-    quality=8,
+    quality=7,
     progress=None,
 ):
     """Write a movie of spin states, one frame per snapshot, streamed to the encoder.
@@ -298,7 +298,7 @@ def write_movie(
     labels : bool
         Burn time (ps) and temperature (K) into each frame when known.
     quality : float
-        H.264 quality 1..10 (imageio-ffmpeg scale; 8 = CRF 10).
+        H.264 quality 1..10 (imageio-ffmpeg scale: CRF = int(51 (1 - quality / 10)), 7 = CRF 15).
     progress : callable, optional
         Called with the number of frames written so far after each frame.
 
@@ -323,6 +323,8 @@ def write_movie(
         raise InputError(
             f"fps must be a number of frames per second between 0 and 240; got {fps!r}."
         )
+    if not gif and not (isinstance(quality, (int, float)) and 1 <= quality <= 10):
+        raise InputError(f"quality must be a number from 1 (smallest file) to 10 (best); got {quality!r}.")
     if not out_path.parent.is_dir():
         raise InputError(
             f"Folder {out_path.parent} for the movie file does not exist; create it first."
