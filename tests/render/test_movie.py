@@ -169,3 +169,24 @@ def test_bad_inputs(tmp_path):
         write_movie(run, tmp_path / "a.mp4")
     assert not (tmp_path / "a.mp4").exists()
     assert not list(tmp_path.glob(".*tmp*"))  # no temp file left behind after a failure
+
+
+def test_order_axis_and_instrument_from_manifest(tmp_path):
+    lat = Lattice("square", 8, 8, 1.0)
+    run = tmp_path / "run"
+    s = np.zeros((8, 8, 3))
+    s[..., 0] = 1.0  # in-plane order along +x
+    save_snapshot(run / "snapshots" / "snap_000000.npz", s, lat)
+    manifest = {"kind": "dynamics", "scenario": {"material": {"axis": [1.0, 0.0, 0.0]}}}
+    (run / "manifest.json").write_text(json.dumps(manifest))
+    write_movie(run, tmp_path / "x.mp4")
+    frame = read_mp4(tmp_path / "x.mp4")[1][0].astype(int)
+    assert frame[128, 128, 0] > frame[128, 128, 2] + 60  # +1 along the order axis: red
+    with pytest.raises(InputError, match="resolution_nm"):
+        write_movie(run, tmp_path / "y.mp4", instrument=True)
+    manifest["instrument"] = {"resolution_nm": 2.0, "pixel_nm": 1.0, "noise": 0.0}
+    (run / "manifest.json").write_text(json.dumps(manifest))
+    info = write_movie(run, tmp_path / "y.mp4", instrument=True)
+    assert info.width > 2 * info.height  # map + gap + instrument panel side by side
+    with pytest.raises(InputError, match="axis"):
+        write_movie(run, tmp_path / "z.mp4", axis=(0, 0, 0))

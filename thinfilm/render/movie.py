@@ -16,7 +16,7 @@ from .frames import (
     grey_frame,
     site_index_map,
 )
-from .rundir import iter_snapshots, load_snapshot
+from .rundir import iter_snapshots, load_snapshot, read_json
 
 __all__ = ["write_movie", "MovieInfo"]
 
@@ -212,6 +212,19 @@ class _Painter:
         return np.ascontiguousarray(img)
 
 
+def _manifest_instrument(manifest, where):
+    ins = manifest.get("instrument") or {}
+    if "resolution_nm" not in ins:
+        raise InputError(
+            f"instrument=True takes the instrument from {where}/manifest.json, but that has no "
+            "instrument.resolution_nm; pass instrument={'fwhm_nm': ..., 'pixel_nm': ...} instead."
+        )
+    out = {"fwhm_nm": ins["resolution_nm"], "noise": ins.get("noise", 0.0)}
+    if "pixel_nm" in ins:
+        out["pixel_nm"] = ins["pixel_nm"]
+    return out
+
+
 def _frame_text(fr):
     out = []
     if fr.get("time_ps") is not None:
@@ -255,7 +268,7 @@ def write_movie(
     gif=False,
     source="auto",
     lattice_size=None,
-    axis=(0.0, 0.0, 1.0),
+    axis=None,
     spacing_nm=1.0,
     labels=True,
     quality=7,
@@ -282,17 +295,19 @@ def write_movie(
     size : int, optional
         Map width in pixels (square lattices: rounded to a whole number of pixels per site).
         Default: one pixel per site (square) or half a column pitch, at least 256 px wide.
-    instrument : dict, optional
+    instrument : dict or True, optional
         ``{"fwhm_nm": .., "pixel_nm": .., "noise": .., "seed": ..}``: add a grey-scale
-        simulated instrument image of the order component beside the map.
+        simulated instrument image of the order component beside the map. ``True``: take
+        ``resolution_nm``, ``pixel_nm`` and ``noise`` from ``manifest["instrument"]``.
     gif : bool
         Write an animated GIF instead of MP4.
     source : {"auto", "snapshots", "sweep"}
         Which frames of a run folder to use.
     lattice_size : int, optional
         Sweep size L (default: the largest).
-    axis : sequence of 3 floats
-        Order axis for ``colour="mz"`` and the instrument view.
+    axis : sequence of 3 floats, optional
+        Order axis for ``colour="mz"`` and the instrument view. Default: the anisotropy
+        axis ``manifest["scenario"]["material"]["axis"]`` of a run folder, else z.
     spacing_nm : float
         Lattice spacing (nm) of frames given as bare arrays.
     labels : bool
@@ -324,17 +339,28 @@ def write_movie(
             f"fps must be a number of frames per second between 0 and 240; got {fps!r}."
         )
     if not gif and not (isinstance(quality, (int, float)) and 1 <= quality <= 10):
-        raise InputError(f"quality must be a number from 1 (smallest file) to 10 (best); got {quality!r}.")
+        raise InputError(
+            f"quality must be a number from 1 (smallest file) to 10 (best); got {quality!r}."
+        )
     if not out_path.parent.is_dir():
         raise InputError(
             f"Folder {out_path.parent} for the movie file does not exist; create it first."
         )
 
+    manifest = {}
     if isinstance(run_dir_or_frames, (str, os.PathLike)):
         paths = iter_snapshots(run_dir_or_frames, source=source, lattice_size=lattice_size)
+        manifest = read_json(Path(run_dir_or_frames) / "manifest.json") or {}
         frames = (load_snapshot(p) for p in paths)
     else:
         frames = iter(run_dir_or_frames)
+    if axis is None:
+        axis = ((manifest.get("scenario") or {}).get("material") or {}).get("axis", (0, 0, 1))
+    axis = np.asarray(axis, dtype=np.float64)
+    if axis.shape != (3,) or not np.linalg.norm(axis) > 0:
+        raise InputError(f"axis must be a non-zero 3-vector (order axis); got {axis.tolist()!r}.")
+    if instrument is True:
+        instrument = _manifest_instrument(manifest, run_dir_or_frames)
     frames = (_as_frame(f, spacing_nm) for f in frames)
     try:
         first = next(frames)

@@ -293,9 +293,9 @@ def plot_sweep(
             f"{run_dir / 'observables.csv'} has no 'temperature_K' column or no rows; "
             "a sweep table needs one row per (size, temperature)."
         )
-    units = read_json(run_dir / "columns.json") or {}
     tc = read_json(run_dir / "tc.json")
     manifest = read_json(run_dir / "manifest.json") or {}
+    units = read_json(run_dir / "columns.json") or manifest.get("columns") or {}
     if resolution_nm is None:
         resolution_nm = (manifest.get("instrument") or {}).get("resolution_nm")
     out_dir = Path(out_dir) if out_dir is not None else run_dir / "plots"
@@ -377,12 +377,15 @@ def plot_timeseries(run_dir, out_dir=None):
     temp = tab.get("temperature_K")
     show_t = temp is not None and np.isfinite(temp).any() and np.nanmax(temp) > np.nanmin(temp)
     fig, axes = _figure(3 if show_t else 2, 1, 6.0, 2.4)
-    comps = [c for c in ("mx", "my", "mz") if c in tab]
+    comps = [c for c in ("mx", "my", "mz", "m_axis") if c in tab]
     if comps:
         for k, c in enumerate(comps):
-            axes[0].plot(t, tab[c], color=OKABE_ITO[k], lw=1.2, label=f"$m_{c[1]}$")
+            lab = r"$m_\parallel$ (order axis)" if c == "m_axis" else f"$m_{c[1]}$"
+            axes[0].plot(
+                t, tab[c], color=OKABE_ITO[k], lw=1.2, label=lab, ls="--" if k == 3 else "-"
+            )
         axes[0].set_ylabel("magnetisation m (per spin)")
-        axes[0].legend(fontsize=7, ncols=3)
+        axes[0].legend(fontsize=7, ncols=4)
     else:
         _note(axes[0], "no mx, my, mz columns in timeseries.csv")
     if "energy_meV" in tab:

@@ -1,0 +1,282 @@
+"""One point of a temperature sweep: sample one (size, temperature), measure and analyse it.
+
+The worker function :func:`compute_point` is a pure function of its :class:`PointTask`
+(scenario, size, temperature, seed, starting spins): it returns the table row and every
+array the point folder needs, and writes nothing. The caller (:mod:`thinfilm.sweep`) writes
+the folder, so the same task gives bitwise the same point on a local process pool, a Dask
+cluster without a shared disk, or in the calling process.
+
+Units: temperatures in K, energies in meV per spin, lengths in nm, areas in nm^2.
+"""
+
+import math
+import time
+import warnings
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from .analysis.correlation import correlation_function, correlation_length
+from .analysis.domains import domain_statistics
+from .analysis.thermo import thermodynamics
+from .dynamics import LLGSimulation, initial_spins, measure, stable_time_step
+from .errors import ScenarioError, ThinFilmWarning
+from .model import build_model
+from .montecarlo import MonteCarlo
+from .units import MEV_J
+
+__all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
+           "ROW_COLUMNS", "init_worker"]
+
+#: Columns of ``observables.csv`` (one row per size and temperature), in order.
+ROW_COLUMNS = (
+    "size", "temperature_K", "m_abs", "m_abs_err", "m_norm", "m_norm_err",
+    "susceptibility", "susceptibility_err", "susceptibility_norm", "susceptibility_norm_err",
+    "specific_heat", "specific_heat_err", "energy_meV", "energy_meV_err", "binder", "binder_err",
+    "tau_int", "n_effective", "n_samples",
+    "correlation_length_nm", "correlation_length_nm_err",
+    "correlation_length_fit_nm", "correlation_length_fit_nm_err",
+    "mean_domain_area_nm2", "mean_domain_area_nm2_err", "area_weighted_domain_area_nm2",
+    "domain_count", "largest_domain_fraction", "method", "seed",
+)
+
+
+def init_worker(n_threads):
+    """Process-pool initializer: give each worker ``n_threads`` numba threads."""
+    from .config import set_threads
+
+    set_threads(n_threads)
+
+
+@dataclass(frozen=True)
+class PointTask:
+    """Everything one sweep point needs (picklable; sent to worker processes or Dask).
+
+    Attributes
+    ----------
+    scenario : Scenario
+        The resolved sweep scenario.
+    size : int
+        L of the L x L cells of this point.
+    temperature_K : float
+        Bath temperature (K).
+    seed : int
+        Seed of this point (see :func:`point_seed`).
+    spins : ndarray (L, L, 3) or None
+        Starting spins (heating/cooling chains); None starts from ``scenario.initial``.
+    start : str
+        Where the spins came from (for ``point.json``).
+    """
+
+    scenario: object
+    size: int
+    temperature_K: float
+    seed: int
+    spins: object = None
+    start: str = "initial"
+
+
+def point_seed(seed, size, temperature_K):
+    """Seed of one point: a deterministic hash of (seed, size, temperature index).
+
+    The temperature index is the temperature in integer microkelvin, so points added by the
+    ``near-tc`` refinement never collide with first-pass points and keep their seed whatever
+    else is in the sweep.
+    """
+    key = [int(seed), int(size), int(round(float(temperature_K) * 1e6))]
+    return int(np.random.SeedSequence(key).generate_state(1, np.uint64)[0] >> np.uint64(1))
+
+
+def point_name(size, temperature_K):
+    """Folder name of a point: ``L{size}_T{temperature:.3f}K``."""
+    return f"L{int(size)}_T{float(temperature_K):.3f}K"
+
+
+def sized_scenario(scenario, size):
+    """The scenario with L x L cells (``size`` None keeps the scenario's own cells)."""
+    if size is None:
+        return scenario
+    return scenario.with_changes(lattice=replace(scenario.lattice, nx=int(size), ny=int(size)))
+
+
+def _start_spins(task, model):
+    sc = task.scenario
+    lat = model.lattice
+    if task.spins is not None:
+        return np.ascontiguousarray(np.asarray(task.spins, dtype=np.float64))
+    try:
+        return initial_spins(lat, sc.initial, seed=task.seed, axis=model.axis)
+    except ValueError as exc:
+        raise ScenarioError(
+            f"the saved initial state cannot start a sweep point of size L = {task.size}: {exc}. "
+            f"A sweep over several sizes needs an initial state of random, up, down or stripes",
+            path=sc.source, key="initial") from None
+
+
+def _order(model, mv):
+    """Order parameter per sample: m along the axis (K > 0) or abs(m) (as MonteCarlo)."""
+    return mv @ model.axis if model.anisotropy_J > 0 else np.linalg.norm(mv, axis=1)
+
+
+def _split(n_samples, n_snap):
+    n_snap = int(max(1, min(n_snap, n_samples)))
+    return [len(c) for c in np.array_split(np.arange(n_samples), n_snap)]
+
+
+def _sample_mc(task, model, spins):
+    d = task.scenario.dynamics
+    every = int(d.sample_every)
+    n_samples = max(4, int(d.sweeps_samples) // every)
+    mc = MonteCarlo(model, task.temperature_K, seed=task.seed, initial_spins=spins)
+    mc.warmup(int(d.sweeps_warmup))
+    parts, snaps, acc = [], [], []
+    for n in _split(n_samples, task.scenario.sweep.snapshots):
+        r = mc.run(0, n, every, tune=False)
+        parts.append(r)
+        acc.append(r["acceptance"]["gaussian"])
+        snaps.append(mc.spins.copy())
+    series = {
+        "energy_J": np.concatenate([p["energy_J"] for p in parts]),
+        "m_vector": np.concatenate([p["m_vector"] for p in parts]),
+        "clock": np.concatenate([p["sweep"] for p in parts]).astype(np.float64),
+    }
+    details = {"sweeps_warmup": int(d.sweeps_warmup), "sample_every_sweeps": every,
+               "n_samples": n_samples, "sigma": float(mc.sigma),
+               "acceptance_gaussian": float(np.mean(acc)), "final_sweep": int(mc.sweep_count)}
+    return series, snaps, mc.spins.copy(), details, 0.0
+
+
+def _sample_llg(task, model, spins):
+    d = task.scenario.dynamics
+    dt = d.time_step_s
+    dt_ok = stable_time_step(model, task.temperature_K, d.damping, d.gamma)
+    if dt > dt_ok:
+        warnings.warn(f"time step {dt * 1e15:g} fs is above the recommended {dt_ok * 1e15:.3g} fs "
+                      f"at {task.temperature_K:g} K", ThinFilmWarning, stacklevel=2)
+    every = int(d.sample_every)
+    n_warm = int(round(d.warmup_s / dt))
+    n_samples = max(4, int(round(d.duration_s / dt)) // every)
+    sim = LLGSimulation(model, temperature_K=task.temperature_K, damping=d.damping,
+                        time_step_s=dt, seed=task.seed, spins=spins, gamma=d.gamma)
+    sim.advance(n_warm)
+    chunks = _split(n_samples, task.scenario.sweep.snapshots)
+    e = np.empty(n_samples)
+    mv = np.empty((n_samples, 3))
+    clock = np.empty(n_samples)
+    snaps, k = [], 0
+    work = np.empty_like(sim.spins)
+    for n in chunks:
+        for _ in range(n):
+            sim.advance(every)
+            m, en = measure(model, sim.spins, work)
+            e[k], mv[k], clock[k] = en * MEV_J, m, (sim.step - n_warm) * dt * 1e12
+            k += 1
+        snaps.append(sim.spins.copy())
+    details = {"warmup_steps": n_warm, "sample_every_steps": every, "n_samples": n_samples,
+               "time_step_fs": dt * 1e15, "damping": d.damping,
+               "recommended_time_step_fs": dt_ok * 1e15}
+    return {"energy_J": e, "m_vector": mv, "clock": clock}, snaps, sim.spins.copy(), details, \
+        (sim.step - n_warm) * dt * 1e12
+
+
+def _mean_err(values):
+    v = np.asarray(values, dtype=np.float64)
+    v = v[np.isfinite(v)]
+    if v.size == 0:
+        return math.nan, math.nan
+    return float(v.mean()), float(v.std(ddof=1) / math.sqrt(v.size)) if v.size > 1 else math.nan
+
+
+def _spatial(model, snaps):
+    """Correlation lengths, C(r) and domain statistics of the snapshots (field S.n)."""
+    lat = model.lattice
+    fields = [s @ model.axis for s in snaps]
+    pos, box = lat.positions_nm, lat.box_nm
+    # subtract_mean: the OZ extrapolation through k1, 2 k1 (valid on both sides of Tc)
+    xi = correlation_length(fields, pos, box, lat.period, periodic=lat.periodic,
+                            subtract_mean=True)
+    curves = [correlation_function(f, pos, box, lat.period, periodic=lat.periodic)
+              for f in fields]
+    r_nm = curves[0][0]
+    cs = np.array([c[1] for c in curves])
+    c_err = cs.std(axis=0, ddof=1) / math.sqrt(len(cs)) if len(cs) > 1 else np.full(r_nm.size, np.nan)
+    corr_rows = list(zip(r_nm, cs.mean(axis=0), c_err, strict=True))
+    dom_rows, means, weighted, counts, largest = [], [], [], [], []
+    for k, f in enumerate(fields):
+        st = domain_statistics(f, lat.site_area_nm2, neighbours=lat.neighbours,
+                               periodic=lat.periodic)
+        a = st["area_by_label_nm2"]
+        for lab in range(1, a.size):
+            dom_rows.append((k, a[lab], 2.0 * math.sqrt(a[lab] / math.pi), int(st["signs"][lab])))
+        al = st["all"]
+        means.append(al["mean_area_nm2"])
+        weighted.append(al["area_weighted_mean_area_nm2"])
+        counts.append(al["count"])
+        largest.append(al["largest_fraction"])
+    mean_a, mean_a_err = _mean_err(means)
+    row = {
+        "correlation_length_nm": xi["second_moment_nm"],
+        "correlation_length_nm_err": xi["second_moment_err_nm"],
+        "correlation_length_fit_nm": xi["fit_nm"],
+        "correlation_length_fit_nm_err": xi["fit_err_nm"],
+        "mean_domain_area_nm2": mean_a, "mean_domain_area_nm2_err": mean_a_err,
+        "area_weighted_domain_area_nm2": _mean_err(weighted)[0],
+        "domain_count": _mean_err(counts)[0],
+        "largest_domain_fraction": _mean_err(largest)[0],
+    }
+    return row, corr_rows, dom_rows
+
+
+def compute_point(task):
+    """Sample one sweep point and analyse it; writes nothing.
+
+    Parameters
+    ----------
+    task : PointTask
+
+    Returns
+    -------
+    dict
+        ``row`` (observables.csv values, keys :data:`ROW_COLUMNS`), ``details`` (run details and
+        recorded warnings for point.json), ``final`` (keyword arrays of ``final.npz``),
+        ``final_spins`` (ndarray, the state a heating/cooling chain continues from),
+        ``timeseries`` ((columns, rows)), ``correlation`` (rows r_nm, C, C_err) and
+        ``domains`` (rows snapshot, area_nm2, diameter_nm, sign).
+    """
+    t0 = time.perf_counter()
+    sc = sized_scenario(task.scenario, task.size)
+    model = build_model(sc)
+    lat = model.lattice
+    method = sc.dynamics.method
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        spins = _start_spins(task, model)
+        sampler = _sample_mc if method == "monte-carlo" else _sample_llg
+        series, snaps, final, details, time_ps = sampler(task, model, spins)
+        mv = series["m_vector"]
+        order = _order(model, mv)
+        th = thermodynamics(series["energy_J"], order, mv, lat.n_sites, task.temperature_K)
+        spatial, corr_rows, dom_rows = _spatial(model, snaps)
+    row = {"size": int(task.size), "temperature_K": float(task.temperature_K)}
+    for name in ROW_COLUMNS[2:19]:
+        row[name] = float(th[name]) if name != "n_samples" else int(th[name])
+    row.update({k: float(v) for k, v in spatial.items()})
+    row["method"] = method
+    row["seed"] = int(task.seed)
+    clock = "sweep" if method == "monte-carlo" else "time_ps"
+    ts_cols = ("sample", clock, "energy_meV", "m_axis", "m_norm", "mx", "my", "mz")
+    m_axis = mv @ model.axis
+    ts_rows = [(k, series["clock"][k] if method != "monte-carlo" else int(series["clock"][k]),
+                series["energy_J"][k] / MEV_J, m_axis[k], float(np.linalg.norm(mv[k])),
+                mv[k, 0], mv[k, 1], mv[k, 2]) for k in range(len(order))]
+    details.update({"start": task.start, "n_snapshots": len(snaps), "n_sites": lat.n_sites,
+                    "blocks": int(th["n_blocks"]),
+                    "warnings": sorted({str(w.message) for w in caught}),
+                    "compute_time_s": round(time.perf_counter() - t0, 3)})
+    final_arrays = {"spins": final, "positions_nm": lat.positions_nm,
+                    "spacing_nm": lat.spacing_nm, "box_nm": np.asarray(lat.box_nm),
+                    "shape": lat.shape, "periodic": lat.periodic, "time_ps": np.asarray(time_ps),
+                    "temperature_K": np.asarray(task.temperature_K),
+                    "field_T": np.asarray(sc.field_T, dtype=np.float64)}
+    return {"row": row, "details": details, "final": final_arrays, "final_spins": final,
+            "timeseries": (ts_cols, ts_rows), "correlation": corr_rows, "domains": dom_rows}
