@@ -82,7 +82,7 @@ def main(argv=None):
         sizes, ns, grid = (8, 16), {8: 8000, 16: 8000}, (0.97, 0.99, 1.01, 1.03)
     else:
         sizes = (16, 32, 48)
-        ns = {16: 40000, 32: 40000, 48: 40000}
+        ns = {16: 30000, 32: 30000, 48: 30000}
         grid = (0.98, 0.99, 0.995, 1.0, 1.005, 1.01, 1.02)
     for shape, tc in EXACT_TC.items():
         t0 = time.perf_counter()
