@@ -1,0 +1,356 @@
+"""Temperature sweeps: every (size, temperature) point on a process pool or a Dask cluster.
+
+Each point is one task (:func:`thinfilm.sweep_point.compute_point`). Independent points are
+all submitted at once; a heating or cooling chain (one per size) submits its next point when
+the previous one has finished, with that point's final spins. The caller writes each point
+folder, ``point.json`` last, so an interrupted sweep keeps every finished point and
+``resume=True`` recomputes only the rest -- with the same seeds and starting states, so the
+tables are bitwise those of an uninterrupted run.
+
+Folder layout (DIR): ``observables.csv``, ``columns.json``, ``tc.json``, ``manifest.json``,
+``points/L{size}_T{T:.3f}K/`` with ``final.npz``, ``timeseries.csv``, ``correlation.csv``,
+``domain_sizes.csv`` and ``point.json``.
+"""
+
+import concurrent.futures as cf
+import json
+import multiprocessing
+import os
+import time
+import warnings
+from pathlib import Path
+
+import numpy as np
+from tqdm import tqdm
+
+from ._io import write_csv, write_json, write_npz
+from .errors import InputError, ScenarioError, ThinFilmWarning
+from .record import versions
+from .sweep_point import (
+    ROW_COLUMNS,
+    PointTask,
+    compute_point,
+    init_worker,
+    point_name,
+    point_seed,
+    sized_scenario,
+)
+from .sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
+
+__all__ = ["run_sweep", "sweep_plan", "available_cores"]
+
+
+def available_cores():
+    """Cores this process may run on."""
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
+def sweep_plan(scenario, temperatures=None):
+    """Chains of (size, temperature) points in run order.
+
+    Returns
+    -------
+    list of list of (int, float)
+        'independent': one single-point chain per point; 'heating' / 'cooling': one chain per
+        size in increasing / decreasing temperature.
+    """
+    sw = scenario.sweep
+    sizes = sw.sizes or (scenario.lattice.nx,)
+    temps = sorted(sw.temperatures_K if temperatures is None else temperatures)
+    if sw.order == "independent":
+        return [[(L, t)] for L in sizes for t in temps]
+    if sw.order == "cooling":
+        temps = temps[::-1]
+    return [[(L, t) for t in temps] for L in sizes]
+
+
+def _check(sc):
+    if not sc.is_sweep:
+        raise ScenarioError("has a single temperature and size; a sweep needs a list or a "
+                            "{start, stop, step} range of temperatures, or several sizes",
+                            path=sc.source, key="temperature")
+    bad = [t for t in sc.sweep.temperatures_K if not t > 0]
+    if bad:
+        raise ScenarioError(f"sweep temperatures must be above 0 K (thermal averages divide by "
+                            f"kB T); got {bad[0]!r} K", path=sc.source, key="temperature")
+    sizes = sc.sweep.sizes
+    if sizes is None and sc.lattice.nx != sc.lattice.ny:
+        raise ScenarioError(f"a sweep runs L x L lattices; cells {[sc.lattice.nx, sc.lattice.ny]} "
+                            f"are not square: make them square or give sizes: [L, ...]",
+                            path=sc.source, key="lattice.cells")
+
+
+class _Inline(cf.Executor):
+    """Runs each task at submit time in this process (workers=1: no process start-up)."""
+
+    def submit(self, fn, /, *args, **kwargs):
+        fut = cf.Future()
+        try:
+            fut.set_result(fn(*args, **kwargs))
+        except Exception as exc:  # noqa: BLE001 - delivered through the future
+            fut.set_exception(exc)
+        return fut
+
+
+def _executor(n_tasks, workers, cluster):
+    """(executor, description, closer) for local processes, a Dask scheduler or inline."""
+    if cluster:
+        try:
+            from distributed import Client
+        except ImportError:
+            raise InputError(f"--cluster {cluster}: the Dask client is not installed; "
+                             f"install thinfilm[cluster] (dask[distributed])") from None
+        try:
+            client = Client(cluster, timeout="20s")
+        except (OSError, TimeoutError) as exc:
+            raise InputError(f"--cluster {cluster}: cannot reach a Dask scheduler there ({exc}); "
+                             f"give the address a running scheduler prints, e.g. "
+                             f"tcp://host:8786") from None
+        return client.get_executor(pure=False), {"kind": "dask", "address": cluster}, client.close
+    cores = available_cores()
+    if workers is not None and (isinstance(workers, bool) or int(workers) < 1):
+        raise InputError(f"--workers must be a positive integer, got {workers!r}")
+    n = min(int(workers) if workers else cores, max(1, n_tasks))
+    if n == 1:
+        return _Inline(), {"kind": "inline", "workers": 1}, lambda: None
+    methods = multiprocessing.get_all_start_methods()
+    ctx = multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
+    threads = max(1, cores // n)
+    ex = cf.ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=init_worker,
+                                initargs=(threads,))
+    return ex, {"kind": "processes", "workers": n, "threads_per_worker": threads}, \
+        lambda: ex.shutdown(wait=True, cancel_futures=True)
+
+
+def _write_point(out, res, name):
+    """Write a point folder; ``point.json`` last (the 'finished' mark)."""
+    d = out / "points" / name
+    write_npz(d / "final.npz", **res["final"])
+    write_csv(d / "timeseries.csv", *res["timeseries"])
+    write_csv(d / "correlation.csv", ("r_nm", "C", "C_err"), res["correlation"])
+    write_csv(d / "domain_sizes.csv", ("snapshot", "area_nm2", "diameter_nm", "sign"),
+              res["domains"])
+    write_json(d / "point.json", {"row": res["row"], "details": res["details"]})
+
+
+def _read_point(out, name):
+    p = out / "points" / name / "point.json"
+    if not p.is_file():
+        return None
+    try:
+        return json.loads(p.read_text())["row"]
+    except (OSError, ValueError, KeyError):
+        return None  # a damaged mark: the point is recomputed
+
+
+def _final_spins(out, name):
+    with np.load(out / "points" / name / "final.npz", allow_pickle=False) as d:
+        return np.array(d["spins"], dtype=np.float64)
+
+
+def _run_chains(sc, out, chains, rows, executor, bar, start_from=None):
+    """Run the chains; fill rows {(L, T): row}. start_from: {chain index: (spins, label)}."""
+    pending = {}
+
+    def submit(ci, k, spins, start):
+        L, t = chains[ci][k]
+        task = PointTask(sc, L, t, point_seed(sc.seed, L, t), spins, start)
+        pending[executor.submit(compute_point, task)] = (ci, k)
+
+    def advance(ci, k):
+        """Submit point k of chain ci, skipping finished points (their final state is reused)."""
+        spins, start = (start_from or {}).get(ci, (None, "initial")) if k == 0 else (None, None)
+        while k < len(chains[ci]):
+            L, t = chains[ci][k]
+            name = point_name(L, t)
+            row = _read_point(out, name)
+            if row is None:
+                if k > 0:
+                    prev = point_name(*chains[ci][k - 1])
+                    spins, start = _final_spins(out, prev), f"points/{prev}/final.npz"
+                submit(ci, k, spins, start)
+                return
+            rows[(L, t)] = row
+            bar.update(1)
+            k += 1
+
+    for ci in range(len(chains)):
+        advance(ci, 0)
+    while pending:
+        done, _ = cf.wait(list(pending), return_when=cf.FIRST_COMPLETED)
+        for fut in done:
+            ci, k = pending.pop(fut)
+            res = fut.result()
+            L, t = chains[ci][k]
+            name = point_name(L, t)
+            _write_point(out, res, name)
+            rows[(L, t)] = _read_point(out, name)
+            bar.update(1)
+            if k + 1 < len(chains[ci]):
+                advance(ci, k + 1)
+
+
+def _refine_chains(sc, chains, extra):
+    """Chains of the refinement points; a heating/cooling chain starts from the nearest
+    first-pass point before it in chain order. Returns (chains, {chain: first-pass name})."""
+    if sc.sweep.order == "independent":
+        return sweep_plan(sc, extra), {}
+    new, parents = [], {}
+    for chain in chains:
+        L = chain[0][0]
+        temps = sorted(extra, reverse=sc.sweep.order == "cooling")
+        before = [t for _, t in chain if (t < temps[0] if sc.sweep.order == "heating"
+                                          else t > temps[0])]
+        if before:
+            parents[len(new)] = point_name(L, before[-1])
+        new.append([(L, t) for t in temps])
+    return new, parents
+
+
+def _prepare(out, sc, resume, overwrite):
+    if out.exists() and not out.is_dir():
+        raise InputError(f"{out}: exists and is not a folder; choose another output folder with -o")
+    man = out / "manifest.json"
+    if man.exists() and not (resume or overwrite):
+        raise InputError(f"{out}: already holds a run (manifest.json). Use --resume to continue "
+                         f"it, --overwrite to replace it, or choose another folder with -o")
+    if resume and man.exists():
+        try:
+            old = json.loads(man.read_text())
+        except (OSError, ValueError):
+            old = {}
+        if old.get("scenario") not in (None, _jsonable(sc.describe())):
+            raise InputError(f"{out}: was written by a different scenario (manifest.json "
+                             f"'scenario' differs); resume it with the same scenario file, or "
+                             f"use --overwrite or another folder")
+    out.mkdir(parents=True, exist_ok=True)
+
+
+def _jsonable(obj):
+    return json.loads(json.dumps(obj, default=lambda o: o.tolist() if hasattr(o, "tolist") else str(o)))
+
+
+def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None,
+              progress=True, plots=True):
+    """Run every (size, temperature) point of a sweep scenario and write the sweep folder.
+
+    Parameters
+    ----------
+    scenario : Scenario
+        With a ``sweep`` (several temperatures and/or sizes), temperatures > 0 K.
+    out_dir : str or Path
+        Sweep folder (see the module docstring).
+    resume : bool
+        Keep finished points (those with ``point.json``) and compute only the others.
+    overwrite : bool
+        Reuse a folder that holds an earlier run; every point is recomputed.
+    workers : int, optional
+        Local worker processes (default: all cores, capped by the number of tasks that can
+        run at once; 1 runs in this process).
+    cluster : str, optional
+        Dask scheduler address (``tcp://host:port``); the points run there instead.
+    progress : bool
+        Progress bar over points.
+    plots : bool
+        Call ``thinfilm.render.plots.plot_sweep`` at the end (when that module exists).
+
+    Returns
+    -------
+    Path
+        The sweep folder.
+    """
+    sc = scenario
+    _check(sc)
+    out = Path(out_dir)
+    _prepare(out, sc, resume, overwrite)
+    if not resume:
+        resume_rows = None
+    started = time.time()
+    chains = sweep_plan(sc)
+    n_parallel = len(chains)
+    manifest = {"kind": "sweep", "scenario": _jsonable(sc.describe()), "order": sc.sweep.order,
+                "method": sc.dynamics.method, "sizes": sorted({c[0][0] for c in chains}),
+                "temperatures_K": list(sc.sweep.temperatures_K), "refine": sc.sweep.refine,
+                "snapshots_per_point": sc.sweep.snapshots, "seed": sc.seed,
+                "instrument": sc.instrument, "finished": False}
+    executor, how, close = _executor(n_parallel, workers, cluster)
+    manifest["executor"] = how
+    _write_manifest(out, manifest, started, [])
+    rows = {}
+    if not resume:
+        _clear_marks(out, chains)
+    bar = tqdm(total=sum(map(len, chains)), unit="point", desc="sweep",
+               disable=(not progress) or None, leave=False)
+    try:
+        _run_chains(sc, out, chains, rows, executor, bar)
+        extra = []
+        if sc.sweep.refine == "near-tc":
+            extra = refine_temperatures(rows, sc.sweep.temperatures_K)
+            manifest["refined_temperatures_K"] = extra
+            if extra:
+                rchains, parents = _refine_chains(sc, chains, extra)
+                if not resume:
+                    _clear_marks(out, rchains)
+                bar.total += sum(map(len, rchains))
+                bar.refresh()
+                start = {ci: (_final_spins(out, p), f"points/{p}/final.npz")
+                         for ci, p in parents.items()}
+                _run_chains(sc, out, rchains, rows, executor, bar, start)
+    finally:
+        bar.close()
+        close()
+    _finish(out, sc, manifest, rows, started)
+    if plots:
+        try:
+            from .render.plots import plot_sweep
+        except ImportError:
+            plot_sweep = None
+        if plot_sweep is not None:
+            plot_sweep(out)
+    return out
+
+
+def _clear_marks(out, chains):
+    """Without resume every point is recomputed: drop stale 'finished' marks first."""
+    for chain in chains:
+        for L, t in chain:
+            p = out / "points" / point_name(L, t) / "point.json"
+            if p.exists():
+                p.unlink()
+
+
+def _write_manifest(out, manifest, started, files):
+    m = dict(manifest)
+    m["versions"] = versions()
+    m["wall_time_s"] = round(time.time() - started, 3)
+    m["files"] = sorted(set(files) | {"manifest.json"})
+    write_json(out / "manifest.json", m)
+
+
+def _finish(out, sc, manifest, rows, started):
+    keys = sorted(rows)
+    table = [[rows[k][c] for c in ROW_COLUMNS] for k in keys]
+    write_csv(out / "observables.csv", ROW_COLUMNS, table)
+    write_json(out / "columns.json", COLUMN_UNITS)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        tc = tc_estimate(rows)
+    tc["warnings"] = sorted({str(w.message) for w in caught})
+    write_json(out / "tc.json", tc)
+    points = [f"points/{point_name(*k)}/{f}" for k in keys
+              for f in ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv",
+                        "point.json")]
+    manifest["points"] = [point_name(*k) for k in keys]
+    manifest["finished"] = True
+    manifest["tc_K"] = tc.get("tc_K")
+    low = sorted(point_name(*k) for k in keys if rows[k]["n_effective"] < 50)
+    manifest["points_with_few_samples"] = low
+    _write_manifest(out, manifest, started,
+                    ["observables.csv", "columns.json", "tc.json", *points])
+    if low:
+        warnings.warn(f"{len(low)} of {len(keys)} sweep points have fewer than 50 effectively "
+                      f"independent samples (e.g. {low[0]}); their error bars are unreliable: "
+                      f"raise dynamics.sweeps.samples", ThinFilmWarning, stacklevel=3)
