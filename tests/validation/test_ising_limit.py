@@ -8,7 +8,6 @@ import importlib.util
 import math
 from pathlib import Path
 
-import numpy as np
 import pytest
 
 from thinfilm.analysis.thermo import thermodynamics
