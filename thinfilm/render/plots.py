@@ -368,6 +368,7 @@ def plot_timeseries(run_dir, out_dir=None):
             "dynamics run writes (columns time_ps, mx, my, mz, energy_meV)."
         )
     tab = read_table(path)
+    units = (read_json(run_dir / "manifest.json") or {}).get("columns") or {}
     if "time_ps" not in tab or not len(tab["time_ps"]):
         raise InputError(
             f"{path} has no 'time_ps' column or no rows; a time series needs the time in ps "
@@ -390,7 +391,7 @@ def plot_timeseries(run_dir, out_dir=None):
         _note(axes[0], "no mx, my, mz columns in timeseries.csv")
     if "energy_meV" in tab:
         axes[1].plot(t, tab["energy_meV"], color=OKABE_ITO[6], lw=1.2)
-        axes[1].set_ylabel("energy (meV)")
+        axes[1].set_ylabel(f"energy ({units.get('energy_meV', 'meV')})")
     else:
         _note(axes[1], "no 'energy_meV' column in timeseries.csv")
     if show_t:
