@@ -1,0 +1,49 @@
+"""Command line: exit codes, one-paragraph errors, nothing half-written."""
+
+import subprocess
+import sys
+
+import yaml
+
+from thinfilm.cli import main
+from thinfilm.scenario import DEFAULT_SCENARIO
+
+GOOD = {
+    "lattice": {"shape": "honeycomb", "cells": [8, 6], "spacing": "0.25 nm"},
+    "material": {"moment": "3 muB", "exchange": "1.5 meV"},
+    "temperature": "5 K",
+    "dynamics": {"damping": 0.1, "timestep": "1 fs", "duration": "0.2 ps"},
+}
+
+
+def test_check_prints_resolved_parameters(capsys):
+    assert main(["check", str(DEFAULT_SCENARIO)]) == 0
+    out = capsys.readouterr().out
+    assert "mean-field Tc estimate" in out and "meV" in out and "largest recommended time step" in out
+
+
+def test_bad_scenario_exits_2_with_one_paragraph_and_writes_nothing(tmp_path, capsys):
+    f = tmp_path / "bad.yaml"
+    bad = dict(GOOD, material={"moment": "3 muB", "exchange": "1.5 kelvin"})
+    f.write_text(yaml.safe_dump(bad))
+    out_dir = tmp_path / "out"
+    assert main(["run", str(f), "-o", str(out_dir)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert err.startswith("thinfilm: error:") and "material.exchange" in err and str(f) in err
+    assert "Traceback" not in err and "\n" not in err
+    assert not out_dir.exists()
+
+
+def test_run_then_rerun_without_resume_is_refused(tmp_path, capsys):
+    f = tmp_path / "ok.yaml"
+    f.write_text(yaml.safe_dump(GOOD))
+    out_dir = tmp_path / "out"
+    assert main(["run", str(f), "-o", str(out_dir), "-q"]) == 0
+    assert (out_dir / "timeseries.csv").is_file()
+    assert main(["run", str(f), "-o", str(out_dir), "-q"]) == 2
+    assert "--resume" in capsys.readouterr().err
+
+
+def test_module_entry_point_runs():
+    r = subprocess.run([sys.executable, "-m", "thinfilm", "--version"], capture_output=True, text=True)
+    assert r.returncode == 0 and "thinfilm" in r.stdout

@@ -1,0 +1,80 @@
+"""Time-resolved runs: run folder contents, ramps, resume after an interruption."""
+
+import json
+
+import numpy as np
+import pytest
+
+from thinfilm.dynamics import LLGSimulation
+from thinfilm.record import load_snapshot, read_csv_table
+from thinfilm.runner import run_dynamics
+from thinfilm.scenario import load_scenario
+
+SC = {
+    "lattice": {"shape": "triangular", "cells": [12, 10], "spacing": "0.3 nm"},
+    "material": {"moment": "2 muB", "exchange": "2 meV", "anisotropy": {"constant": "0.2 meV"}},
+    "temperature": "10 K",
+    "dynamics": {"damping": 0.2, "timestep": "1 fs", "duration": "2 ps",
+                 "ramp": {"temperature": "30 K", "field": {"value": [0, 0, 0.5], "unit": "T"}}},
+    "record": {"every": "0.1 ps", "snapshots": "0.5 ps"},
+    "initial": "up",
+    "seed": 3,
+}
+
+
+def test_run_folder_is_self_describing(tmp_path):
+    out = tmp_path / "run"
+    run_dynamics(load_scenario(SC), out, progress=False)
+    man = json.loads((out / "manifest.json").read_text())
+    assert man["finished"] and man["kind"] == "dynamics"
+    assert man["scenario"]["material"]["exchange_meV"] == pytest.approx(2.0)
+    for f in man["files"]:
+        assert (out / f).is_file(), f
+    ts = read_csv_table(out / "timeseries.csv")
+    assert len(ts["time_ps"]) == 21  # t = 0, 0.1, ..., 2 ps
+    # linear protocol: temperature and field ramp from the start to the end values
+    assert ts["temperature_K"][0] == 10.0 and ts["temperature_K"][-1] == pytest.approx(30.0)
+    assert ts["bz_T"][-1] == pytest.approx(0.5)
+    snap = load_snapshot(out / "snapshots" / "final.npz")
+    assert snap["spins"].shape == (10, 12, 3) and snap["positions_nm"].shape == (10, 12, 2)
+    assert snap["shape"] == "triangular"
+    assert sorted(p.name for p in (out / "snapshots").glob("snap_*.npz")) == [
+        f"snap_{k:06d}.npz" for k in range(5)]
+    # no temporary files left behind
+    assert not list(out.rglob("*.tmp"))
+
+
+def test_resume_after_interruption_equals_uninterrupted_run(tmp_path, monkeypatch):
+    sc = load_scenario(SC)
+    full = tmp_path / "full"
+    run_dynamics(sc, full, progress=False)
+
+    part = tmp_path / "part"
+    calls = {"n": 0}
+    original = LLGSimulation.advance
+
+    def interrupted(self, *a, **k):
+        calls["n"] += 1
+        if calls["n"] == 8:
+            raise KeyboardInterrupt
+        return original(self, *a, **k)
+
+    monkeypatch.setattr(LLGSimulation, "advance", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        run_dynamics(sc, part, progress=False)
+    monkeypatch.setattr(LLGSimulation, "advance", original)
+    assert not json.loads((part / "manifest.json").read_text())["finished"]
+    run_dynamics(sc, part, resume=True, progress=False)
+    assert (part / "timeseries.csv").read_bytes() == (full / "timeseries.csv").read_bytes()
+    a = load_snapshot(full / "snapshots" / "final.npz")["spins"]
+    b = load_snapshot(part / "snapshots" / "final.npz")["spins"]
+    assert np.array_equal(a, b)
+
+
+def test_refuses_to_overwrite_a_run(tmp_path):
+    from thinfilm.errors import InputError
+
+    sc = load_scenario(SC | {"dynamics": {"duration": "0.1 ps"}})
+    run_dynamics(sc, tmp_path / "r", progress=False)
+    with pytest.raises(InputError, match="already holds a run"):
+        run_dynamics(sc, tmp_path / "r", progress=False)
