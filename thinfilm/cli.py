@@ -84,7 +84,8 @@ def _cmd_image(args):
     from .imaging import analyse_image
 
     res = analyse_image(args.file, pixel_size=args.pixel_size, out_dir=args.output, level=args.level,
-                        smoothing=args.smoothing, background=args.background, mask=args.mask)
+                        smoothing=args.smoothing, background=args.background, mask=args.mask,
+                        highpass_length=args.highpass_length)
     print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm")
     print(f"  correlation length  {res['correlation_length_nm']:.4g} +- {res['correlation_length_nm_err']:.2g} nm "
           f"(second moment); {res['correlation_length_fit_nm']:.4g} nm (Ornstein-Zernike fit)")
@@ -166,8 +167,10 @@ def build_parser():
     s.add_argument("-o", "--output", required=True, help="output folder")
     s.add_argument("--level", type=float, default=0.0, help="threshold on the normalised contrast (-1..1)")
     s.add_argument("--smoothing", default=None, help='smoothing length, e.g. "10 nm"')
-    s.add_argument("--background", default="plane", choices=["none", "mean", "plane"],
+    s.add_argument("--background", default="plane", choices=["none", "mean", "plane", "highpass"],
                    help="background subtraction")
+    s.add_argument("--highpass-length", default=None,
+                   help='length of the Gaussian high-pass for --background highpass, e.g. "400 nm"')
     s.add_argument("--mask", default=None, help="image of invalid pixels (non-zero = invalid)")
     s.set_defaults(func=_cmd_image)
 

@@ -1,0 +1,28 @@
+"""Analysers on plain arrays plus sizes in nm: thermodynamics, domains, correlation, Tc."""
+
+from .correlation import (
+    correlation_function,
+    correlation_length,
+    ornstein_zernike_fit,
+    second_moment_length,
+    structure_factor,
+)
+from .critical import estimate_tc, tc_from_binder_crossing, tc_from_peaks
+from .domains import domain_statistics, label_domains
+from .thermo import blocking_error, integrated_autocorrelation_time, thermodynamics
+
+__all__ = [
+    "correlation_function",
+    "correlation_length",
+    "ornstein_zernike_fit",
+    "second_moment_length",
+    "structure_factor",
+    "estimate_tc",
+    "tc_from_binder_crossing",
+    "tc_from_peaks",
+    "domain_statistics",
+    "label_domains",
+    "blocking_error",
+    "integrated_autocorrelation_time",
+    "thermodynamics",
+]
