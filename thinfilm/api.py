@@ -33,7 +33,8 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
             from .render.movie import write_movie
 
             write_movie(out_dir, Path(out_dir) / ("movie.gif" if sc.movie["gif"] else "movie.mp4"),
-                        fps=sc.movie["fps"], colour=sc.movie["colour"], gif=sc.movie["gif"])
+                        fps=sc.movie["fps"], colour=sc.movie["colour"], gif=sc.movie["gif"],
+                        instrument=True if sc.movie["instrument"] and sc.instrument else None)
     return Path(out_dir)
 
 

@@ -108,9 +108,9 @@ def _cmd_movie(args):
             raise InputError(f"--fwhm/--pixel: {exc}") from None
         instrument = {"fwhm_nm": fwhm, "pixel_nm": pix, "noise": args.noise}
     out = args.output or str(Path(args.run_dir) / ("movie.gif" if args.gif else "movie.mp4"))
-    path = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour, instrument=instrument,
+    info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour, instrument=instrument,
                        gif=args.gif)
-    print(f"movie: {path}")
+    print(f"movie: {info.path} ({info.n_frames} frames, {info.width} x {info.height} px, {info.fps} fps)")
     return 0
 
 
