@@ -47,3 +47,25 @@ def test_run_then_rerun_without_resume_is_refused(tmp_path, capsys):
 def test_module_entry_point_runs():
     r = subprocess.run([sys.executable, "-m", "thinfilm", "--version"], capture_output=True, text=True)
     assert r.returncode == 0 and "thinfilm" in r.stdout
+
+
+def test_image_command_writes_analysis_and_rejects_bad_pixel_size(tmp_path, capsys):
+    import json
+
+    import imageio.v3 as iio
+    import numpy as np
+    from scipy import ndimage
+
+    rng = np.random.default_rng(4)
+    field = ndimage.gaussian_filter(rng.normal(size=(96, 96)), 3.0)
+    img = np.uint8(np.clip(128 + 127 * field / np.abs(field).max(), 0, 255))
+    f = tmp_path / "kerr.png"
+    iio.imwrite(f, img)
+    out = tmp_path / "ana"
+    assert main(["image", str(f), "--pixel-size", "5 nm", "-o", str(out)]) == 0
+    res = json.loads((out / "image_analysis.json").read_text())
+    assert res["pixel_size_nm"] == 5.0 and res["correlation_length_nm"] > 5.0 and res["domain_count"] > 1
+    capsys.readouterr()
+    assert main(["image", str(f), "--pixel-size", "5 kelvin", "-o", str(tmp_path / "x")]) == 2
+    err = capsys.readouterr().err
+    assert "pixel" in err and "Traceback" not in err
