@@ -266,8 +266,6 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
     _check(sc)
     out = Path(out_dir)
     _prepare(out, sc, resume, overwrite)
-    if not resume:
-        resume_rows = None
     started = time.time()
     chains = sweep_plan(sc)
     n_parallel = len(chains)

@@ -187,14 +187,20 @@ def _mean_err(values):
     return float(v.mean()), float(v.std(ddof=1) / math.sqrt(v.size)) if v.size > 1 else math.nan
 
 
-def _spatial(model, snaps):
-    """Correlation lengths, C(r) and domain statistics of the snapshots (field S.n)."""
+ORDERED_BINDER = 0.4  # U4 above this: ordered-phase form of the second-moment estimator
+
+
+def _spatial(model, snaps, ordered):
+    """Correlation lengths, C(r) and domain statistics of the snapshots (field S.n).
+
+    ``ordered`` selects the ordered-phase second-moment form (S(0) extrapolated from k1 and
+    2 k1, since there S(0) holds the spontaneous moment); otherwise S(0)/S(k1) is used.
+    """
     lat = model.lattice
     fields = [s @ model.axis for s in snaps]
     pos, box = lat.positions_nm, lat.box_nm
-    # subtract_mean: the OZ extrapolation through k1, 2 k1 (valid on both sides of Tc)
     xi = correlation_length(fields, pos, box, lat.period, periodic=lat.periodic,
-                            subtract_mean=True)
+                            subtract_mean=bool(ordered))
     curves = [correlation_function(f, pos, box, lat.period, periodic=lat.periodic)
               for f in fields]
     r_nm = curves[0][0]
@@ -256,7 +262,8 @@ def compute_point(task):
         mv = series["m_vector"]
         order = _order(model, mv)
         th = thermodynamics(series["energy_J"], order, mv, lat.n_sites, task.temperature_K)
-        spatial, corr_rows, dom_rows = _spatial(model, snaps)
+        ordered = th["binder"] > ORDERED_BINDER
+        spatial, corr_rows, dom_rows = _spatial(model, snaps, ordered)
     row = {"size": int(task.size), "temperature_K": float(task.temperature_K)}
     for name in ROW_COLUMNS[2:19]:
         row[name] = float(th[name]) if name != "n_samples" else int(th[name])
@@ -271,6 +278,7 @@ def compute_point(task):
                 mv[k, 0], mv[k, 1], mv[k, 2]) for k in range(len(order))]
     details.update({"start": task.start, "n_snapshots": len(snaps), "n_sites": lat.n_sites,
                     "blocks": int(th["n_blocks"]),
+                    "second_moment_form": "ordered" if ordered else "disordered",
                     "warnings": sorted({str(w.message) for w in caught}),
                     "compute_time_s": round(time.perf_counter() - t0, 3)})
     final_arrays = {"spins": final, "positions_nm": lat.positions_nm,

@@ -1,0 +1,159 @@
+"""Sweep tables: column units, the critical-temperature estimate and near-Tc refinement.
+
+All functions read the per-point rows ``{(size, temperature_K): row}`` of
+:mod:`thinfilm.sweep` (rows as in :data:`thinfilm.sweep_point.ROW_COLUMNS`).
+"""
+
+import math
+
+import numpy as np
+
+from .analysis.critical import estimate_tc, tc_from_peaks
+
+__all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE"]
+
+N_REFINE = 6  # points added around the transition by refine: near-tc
+
+#: {column of observables.csv: unit or description} (written as columns.json).
+COLUMN_UNITS = {
+    "size": "L, the lattice has L x L cells",
+    "temperature_K": "K",
+    "m_abs": "per spin, <|m|> of m along the anisotropy axis (|m| for K <= 0)",
+    "m_abs_err": "per spin, standard error",
+    "m_norm": "per spin, <|m vector|>",
+    "m_norm_err": "per spin, standard error",
+    "susceptibility": "1/meV per spin, N(<m^2>-<|m|>^2)/(kB T)",
+    "susceptibility_err": "1/meV per spin, standard error",
+    "susceptibility_norm": "1/meV per spin, the same with |m vector|",
+    "susceptibility_norm_err": "1/meV per spin, standard error",
+    "specific_heat": "kB per spin, N(<e^2>-<e>^2)/(kB T)^2",
+    "specific_heat_err": "kB per spin, standard error",
+    "energy_meV": "meV per spin, <e>",
+    "energy_meV_err": "meV per spin, standard error",
+    "binder": "dimensionless, 1 - <m^4>/(3<m^2>^2)",
+    "binder_err": "dimensionless, standard error",
+    "tau_int": "samples, integrated autocorrelation time (largest of e, |m|, m^2, |m vector|)",
+    "n_effective": "effectively independent samples, n_samples/(2 tau_int)",
+    "n_samples": "samples in the time series",
+    "correlation_length_nm": ("nm, second-moment estimator of S.n over the snapshots (ordered-phase "
+                              "form where binder > 0.4)"),
+    "correlation_length_nm_err": "nm, jackknife over snapshots",
+    "correlation_length_fit_nm": "nm, Ornstein-Zernike fit of C(r) of S.n",
+    "correlation_length_fit_nm_err": "nm, jackknife over snapshots",
+    "mean_domain_area_nm2": "nm^2, mean area of up and down domains, mean over snapshots",
+    "mean_domain_area_nm2_err": "nm^2, standard error over snapshots",
+    "area_weighted_domain_area_nm2": "nm^2, sum A^2/sum A, mean over snapshots",
+    "domain_count": "domains per snapshot (up and down), mean over snapshots",
+    "largest_domain_fraction": "largest domain area / film area, mean over snapshots",
+    "method": "sampler: monte-carlo or llg",
+    "seed": "seed of this point, derived from (scenario seed, size, temperature)",
+}
+
+
+def sweep_table(rows):
+    """{size: {column: array over increasing temperature}} of the numeric columns."""
+    out = {}
+    for L in sorted({k[0] for k in rows}):
+        keys = sorted(k for k in rows if k[0] == L)
+        cols = {}
+        for c, v in rows[keys[0]].items():
+            if isinstance(v, (int, float)) and not isinstance(v, bool):
+                cols[c] = np.array([rows[k][c] for k in keys], dtype=np.float64)
+        out[L] = cols
+    return out
+
+
+def _common(table):
+    """The table restricted to temperatures every size has (for Binder crossings)."""
+    sets = [set(np.round(d["temperature_K"], 9)) for d in table.values()]
+    common = sorted(set.intersection(*sets))
+    out = {}
+    for L, d in table.items():
+        keep = np.isin(np.round(d["temperature_K"], 9), common)
+        out[L] = {c: v[keep] for c, v in d.items()}
+    return out
+
+
+def _clean(v):
+    if isinstance(v, (np.floating, float)):
+        return float(v) if math.isfinite(v) else None
+    if isinstance(v, np.integer):
+        return int(v)
+    if isinstance(v, (tuple, list)):
+        return [_clean(x) for x in v]
+    if isinstance(v, dict):
+        return {k: _clean(x) for k, x in v.items()}
+    if isinstance(v, np.bool_):
+        return bool(v)
+    return v
+
+
+def tc_estimate(rows):
+    """Critical temperature of a sweep, for ``tc.json``.
+
+    Two or more sizes: crossing of the Binder cumulants
+    (:func:`thinfilm.analysis.critical.tc_from_binder_crossing`); one size, or when the
+    curves do not cross: the susceptibility peak of the largest size. When neither works,
+    ``tc_K`` is None and ``note`` says why.
+
+    Returns
+    -------
+    dict
+        tc_K, tc_err_K (K), method, sizes, and the estimator's extra entries.
+    """
+    table = _common(sweep_table(rows))
+    sizes = sorted(table)
+    notes = []
+    if len(sizes) >= 2 and len(table[sizes[0]]["temperature_K"]) >= 3:
+        try:
+            res = estimate_tc(table)
+            res["method"] = "binder_crossing"
+            return _clean(res)
+        except ValueError as exc:
+            notes.append(f"Binder crossing: {exc}")
+    full = sweep_table(rows)[sizes[-1]]
+    try:
+        res = tc_from_peaks(full["temperature_K"], full["susceptibility"],
+                            full["susceptibility_err"])
+        res.update(method="susceptibility_peak", sizes=[sizes[-1]])
+        if notes:
+            res["note"] = "; ".join(notes)
+        return _clean(res)
+    except ValueError as exc:
+        notes.append(f"susceptibility peak: {exc}")
+    return {"tc_K": None, "tc_err_K": None, "method": None, "sizes": sizes,
+            "note": "; ".join(notes)}
+
+
+def refine_temperatures(rows, temperatures_K, n=N_REFINE):
+    """About ``n`` extra temperatures (K) around the transition, at a third of the step.
+
+    The centre is the Binder crossing (several sizes) or the susceptibility peak of the
+    largest size, each rounded to the first-pass grid's resolution; points are kept inside the
+    first-pass range, rounded to 1 mK and at least a quarter of the fine step from existing
+    temperatures.
+
+    Returns
+    -------
+    list of float
+        Increasing, possibly empty.
+    """
+    import warnings
+
+    temps = np.asarray(sorted(temperatures_K), dtype=np.float64)
+    if temps.size < 3:
+        return []
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        est = tc_estimate(rows)
+    centre = est.get("tc_K")
+    if centre is None:
+        return []
+    step = float(np.median(np.diff(temps))) / 3.0
+    centre = min(max(centre, temps[0]), temps[-1])
+    cand = centre + step * (np.arange(n) - (n - 1) / 2.0)
+    out = []
+    for t in np.round(cand, 3):
+        if temps[0] < t < temps[-1] and np.min(np.abs(temps - t)) > 0.25 * step:
+            out.append(float(t))
+    return sorted(set(out))
