@@ -40,6 +40,14 @@ def _fit(t, v, e, degree, t0):
 
 
 def _crossing(t, ua, ea, ub, eb, idx, degree, t_guess):
+    """Root of the difference of the two local fits; straight lines if the curves miss."""
+    tc, uc = _crossing_deg(t, ua, ea, ub, eb, idx, degree, t_guess)
+    if not np.isfinite(tc) and degree > 1:
+        tc, uc = _crossing_deg(t, ua, ea, ub, eb, idx, 1, t_guess)
+    return tc, uc
+
+
+def _crossing_deg(t, ua, ea, ub, eb, idx, degree, t_guess):
     tw = t[idx]
     t0 = t_guess
     deg = int(min(degree, idx.size - 1))
@@ -75,7 +83,8 @@ def tc_from_binder_crossing(temps, curves, *, n_local=5, degree=2, n_boot=500, s
 
     For each pair of consecutive sizes the crossing is first bracketed by linear interpolation
     of the data, then located as the root of the difference of two weighted polynomial fits
-    (degree ``degree``) over the ``n_local`` temperatures nearest to it. The pair results are
+    (degree ``degree``, straight lines when those miss each other) over the ``n_local``
+    temperatures nearest to it. The pair results are
     combined by inverse-variance weights. Errors: parametric bootstrap of all curves at once,
     so the correlation between pairs that share a size is kept.
 
