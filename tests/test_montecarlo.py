@@ -132,3 +132,24 @@ def test_bad_inputs_are_refused():
                    1.0, seed=1)
     with pytest.raises(ValueError):
         MonteCarlo(heis(), 1.0, seed=1, initial_spins=np.zeros((3, 3, 3)))
+
+
+def test_move_sets_sample_the_same_distribution():
+    # common practice: every valid move set has the same stationary distribution, so runs
+    # with and without over-relaxation / reflection must agree (exchange, anisotropy and an
+    # oblique field all active, so every acceptance rule matters). Tolerance: 4 combined
+    # jackknife errors.
+    from thinfilm.analysis.thermo import thermodynamics
+
+    lat = Lattice("triangular", 8, 8, 0.3, True)
+    model = Model(lat, MU_B_J_PER_T, MEV_J, 0.7 * MEV_J, (0, 0, 1), np.array([3.0, 0.0, 2.0]))
+    temp = 2.0 * JK
+    out = []
+    for n_or, refl in [(0, False), (3, True)]:
+        r = MonteCarlo(model, temp, seed=12, over_relaxation=n_or, reflection=refl).run(
+            300, 6000)
+        out.append(thermodynamics(r["energy_J"], r["m_order"], r["m_vector"], lat.n_sites,
+                                  temp))
+    a, b = out
+    for key in ("energy_meV", "m_abs", "m_norm"):
+        assert abs(a[key] - b[key]) < 4 * np.hypot(a[key + "_err"], b[key + "_err"]), key
