@@ -6,6 +6,7 @@ from scipy.signal import lfilter
 
 from thinfilm.analysis.thermo import (
     blocking_error,
+    histogram_reweighting,
     integrated_autocorrelation_time,
     jackknife,
     thermodynamics,
@@ -90,3 +91,24 @@ def test_too_few_independent_samples_warn():
     x = ar1(0.99, 2000, 6)
     with pytest.warns(ThinFilmWarning, match="independent samples"):
         thermodynamics(x * 1e-23, x, np.zeros((2000, 3)), 16, 5.0)
+
+
+def test_histogram_reweighting_of_free_spins_follows_langevin():
+    # exact (Langevin 1905): N free spins in a field, E = -mu B sum S_x, <S_x> = L(xi);
+    # samples drawn exactly at xi = 1 (inverse-CDF of p(c) ~ exp(xi c)) are reweighted to
+    # xi = 1.1 and 0.9. Tolerance: 4 x the naive standard error of the reweighted mean.
+    from thinfilm.units import MU_B_J_PER_T
+
+    rng = np.random.default_rng(7)
+    n_samp, ns, temp = 20000, 4, 10.0
+    xi = 1.0
+    u = rng.random((n_samp, ns))
+    c = np.log(np.exp(-xi) + u * (np.exp(xi) - np.exp(-xi))) / xi  # cos theta ~ exp(xi c)
+    b = xi * KB_J_PER_K * temp / MU_B_J_PER_T
+    e = -MU_B_J_PER_T * b * c.mean(axis=1)
+    mx = c.mean(axis=1)
+    for new_xi in (0.9, 1.1):
+        got = histogram_reweighting(e, mx, ns, temp, [temp * xi / new_xi])[0]
+        exact = 1 / np.tanh(new_xi) - 1 / new_xi
+        assert abs(got - exact) < 4 * mx.std() / np.sqrt(n_samp)
+    assert histogram_reweighting(e, np.column_stack([mx, mx]), ns, temp, [temp]).shape == (1, 2)

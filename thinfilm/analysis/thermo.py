@@ -15,7 +15,7 @@ from ..errors import ThinFilmWarning
 from ..units import KB_J_PER_K, MEV_J
 
 __all__ = ["autocorrelation", "integrated_autocorrelation_time", "blocking_error",
-           "jackknife", "thermodynamics"]
+           "jackknife", "thermodynamics", "histogram_reweighting"]
 
 MIN_EFFECTIVE = 50
 
@@ -222,3 +222,42 @@ def thermodynamics(energy_per_spin_J, m_order, m_vector, n_sites, temperature_K,
     out.update({"tau_int": float(tau), "n_effective": float(n_eff), "n_blocks": n_blocks,
                 "n_samples": n, "temperature_K": float(temperature_K)})
     return out
+
+
+def histogram_reweighting(energy_per_spin_J, values, n_sites, temperature_K, new_temperatures_K):
+    """Single-histogram reweighting of averages to nearby temperatures.
+
+    <O>_T' = sum O_i w_i / sum w_i with w_i = exp(-(1/(kB T') - 1/(kB T)) N E_i), E_i the
+    energy per spin of sample i. Reliable only while T' stays within about one energy
+    standard deviation of T (the sampled histogram must cover the reweighted one).
+
+    Parameters
+    ----------
+    energy_per_spin_J : array_like (N,)
+        Energy per spin (J) of each sample, drawn at temperature_K.
+    values : array_like (N,) or (N, k)
+        Observables to average (e.g. columns m^2, m^4).
+    n_sites : int
+    temperature_K : float
+        Simulation temperature (K).
+    new_temperatures_K : array_like (n_T,)
+        Target temperatures (K).
+
+    Returns
+    -------
+    ndarray (n_T,) or (n_T, k)
+        Reweighted averages.
+    """
+    e = _series(energy_per_spin_J)
+    v = np.asarray(values, dtype=np.float64)
+    flat = v.ndim == 1
+    v = v.reshape(e.size, -1)
+    tn = np.atleast_1d(np.asarray(new_temperatures_K, dtype=np.float64))
+    big_e = float(n_sites) * (e - e.mean())
+    out = np.empty((tn.size, v.shape[1]))
+    for k, t in enumerate(tn):
+        dbeta = 1.0 / (KB_J_PER_K * t) - 1.0 / (KB_J_PER_K * float(temperature_K))
+        x = -dbeta * big_e
+        w = np.exp(x - x.max())
+        out[k] = w @ v / w.sum()
+    return out[:, 0] if flat else out
