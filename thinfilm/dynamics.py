@@ -5,7 +5,7 @@ import math
 import numpy as np
 
 from ._kernels.field import observables
-from ._kernels.llg import heun_run, heun_run_twopass
+from ._kernels.llg import heun_run, heun_run_twopass, heun_work, twopass_work
 from .config import threads
 from .errors import StabilityError
 from .model import Model
@@ -114,11 +114,9 @@ class LLGSimulation:
         self._fused = nbands >= 1
         if self._fused:
             self._nbands = nbands
-            self._work = (np.empty((nbands, 4, nx, 3)), np.empty((nbands, 3, nx, 3)),
-                          np.empty((nbands, 3, nx, 3)), np.empty((nbands, 3, nx, 3)),
-                          np.empty((nbands, nx, 3)))
+            self._work = heun_work(ny, nx, nbands)
         else:
-            self._work = tuple(np.empty_like(self.spins) for _ in range(4))
+            self._work = twopass_work(ny, nx)
         self._meas = np.empty_like(self.spins)
 
     @property
