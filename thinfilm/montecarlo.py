@@ -74,7 +74,6 @@ class MonteCarlo:
         if int(over_relaxation) < 0:
             raise ValueError("over_relaxation must be >= 0")
         self.model = model
-        self.temperature_K = float(temperature_K)
         self.seed = int(seed)
         self.stream = int(stream)
         self.n_or = int(over_relaxation)
@@ -84,7 +83,7 @@ class MonteCarlo:
         self._code, self._periodic, self._jt, self._kt, self._axis = model.kernel_args()
         self._b = np.ascontiguousarray(model.field_T, dtype=np.float64)
         self._axis = np.ascontiguousarray(self._axis, dtype=np.float64)
-        self._beta = model.moment_J_per_T / (KB_J_PER_K * self.temperature_K)
+        self.temperature_K = temperature_K
         self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
         self._rows = np.empty((lat.ny, 4))
         self.sweep_count = 0
@@ -92,6 +91,18 @@ class MonteCarlo:
         self.spins = self._initial(initial_spins)
 
     # ---------------------------------------------------------------- state
+    @property
+    def temperature_K(self):
+        """Temperature (K); may be changed between calls (e.g. an annealing ladder)."""
+        return self._temperature_K
+
+    @temperature_K.setter
+    def temperature_K(self, value):
+        if not value > 0:
+            raise ValueError(f"temperature must be positive (K); got {value!r}")
+        self._temperature_K = float(value)
+        self._beta = self.model.moment_J_per_T / (KB_J_PER_K * self._temperature_K)
+
     def _initial(self, init):
         lat = self.model.lattice
         shape = (lat.ny, lat.nx, 3)
