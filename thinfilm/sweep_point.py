@@ -14,6 +14,7 @@ import time
 import warnings
 from dataclasses import dataclass, replace
 
+import numba
 import numpy as np
 
 from .analysis.correlation import correlation_function, correlation_length
@@ -22,7 +23,7 @@ from .analysis.thermo import thermodynamics
 from .dynamics import LLGSimulation, initial_spins, measure, stable_time_step
 from .errors import ScenarioError, ThinFilmWarning
 from .model import build_model
-from .montecarlo import MonteCarlo
+from .montecarlo import PARALLEL_MIN_SITES, MonteCarlo
 from .units import MEV_J
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
@@ -254,6 +255,16 @@ def compute_point(task):
     model = build_model(sc)
     lat = model.lattice
     method = sc.dynamics.method
+    threads = numba.get_num_threads()
+    if lat.n_sites < PARALLEL_MIN_SITES:
+        numba.set_num_threads(1)  # thread wake-ups dominate on small lattices
+    try:
+        return _compute(task, sc, model, lat, method, t0)
+    finally:
+        numba.set_num_threads(threads)
+
+
+def _compute(task, sc, model, lat, method, t0):
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         spins = _start_spins(task, model)
