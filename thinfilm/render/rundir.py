@@ -135,6 +135,9 @@ def read_table(path):
             try:
                 data[h].append(float(cell) if cell else math.nan)
             except ValueError:
+                if h == "method":  # the sweep table's sampler name: text, read as NaN
+                    data[h].append(math.nan)
+                    continue
                 raise InputError(
                     f"Table {path} line {n}, column {h!r}: {cell!r} is not a number; "
                     "all cells must be numbers (empty for missing)."
