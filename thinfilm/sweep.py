@@ -109,19 +109,23 @@ def _executor(n_tasks, workers, cluster):
             raise InputError(f"--cluster {cluster}: cannot reach a Dask scheduler there ({exc}); "
                              f"give the address a running scheduler prints, e.g. "
                              f"tcp://host:8786") from None
-        return client.get_executor(pure=False), {"kind": "dask", "address": cluster}, client.close
+        slots = sum(client.nthreads().values())
+        return client.get_executor(pure=False), {"kind": "dask", "address": cluster,
+                                                 "worker_threads": slots,
+                                                 "window": max(4, 2 * slots)}, client.close
     cores = available_cores()
     if workers is not None and (isinstance(workers, bool) or int(workers) < 1):
         raise InputError(f"--workers must be a positive integer, got {workers!r}")
     n = min(int(workers) if workers else cores, max(1, n_tasks))
     if n == 1:
-        return _Inline(), {"kind": "inline", "workers": 1}, lambda: None
+        return _Inline(), {"kind": "inline", "workers": 1, "window": 1}, lambda: None
     methods = multiprocessing.get_all_start_methods()
     ctx = multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
     threads = max(1, cores // n)
     ex = cf.ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=init_worker,
                                 initargs=(threads,))
-    return ex, {"kind": "processes", "workers": n, "threads_per_worker": threads}, \
+    return ex, {"kind": "processes", "workers": n, "threads_per_worker": threads,
+                "window": 2 * n}, \
         lambda: ex.shutdown(wait=True, cancel_futures=True)
 
 
@@ -151,37 +155,43 @@ def _final_spins(out, name):
         return np.array(d["spins"], dtype=np.float64)
 
 
-def _run_chains(sc, out, chains, rows, executor, bar, start_from=None):
-    """Run the chains; fill rows {(L, T): row}. start_from: {chain index: (spins, label)}."""
-    pending = {}
+def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
+    """Run the chains; fill rows {(L, T): row}; at most ``window`` tasks in flight.
 
-    def submit(ci, k, spins, start):
-        L, t = chains[ci][k]
-        task = PointTask(sc, L, t, point_seed(sc.seed, L, t), spins, start)
-        pending[executor.submit(compute_point, task)] = (ci, k)
+    start_from: {chain index: (spins, label)} for chains that continue another state.
+    """
+    pending = {}
+    ready = []  # (chain, point index, spins, start label) waiting for a slot
 
     def advance(ci, k):
-        """Submit point k of chain ci, skipping finished points (their final state is reused)."""
+        """Queue point k of chain ci, skipping finished points (their final state is reused)."""
         spins, start = (start_from or {}).get(ci, (None, "initial")) if k == 0 else (None, None)
         while k < len(chains[ci]):
             L, t = chains[ci][k]
-            name = point_name(L, t)
-            row = _read_point(out, name)
+            row = _read_point(out, point_name(L, t))
             if row is None:
                 if k > 0:
                     prev = point_name(*chains[ci][k - 1])
                     spins, start = _final_spins(out, prev), f"points/{prev}/final.npz"
-                submit(ci, k, spins, start)
+                ready.append((ci, k, spins, start))
                 return
             rows[(L, t)] = row
             bar.update(1)
             k += 1
 
+    def fill():
+        while ready and len(pending) < window:
+            ci, k, spins, start = ready.pop(0)
+            L, t = chains[ci][k]
+            task = PointTask(sc, L, t, point_seed(sc.seed, L, t), spins, start)
+            pending[executor.submit(compute_point, task)] = (ci, k)
+
     for ci in range(len(chains)):
         advance(ci, 0)
+    fill()
     while pending:
         done, _ = cf.wait(list(pending), return_when=cf.FIRST_COMPLETED)
-        for fut in done:
+        for fut in sorted(done, key=lambda f: pending[f]):
             ci, k = pending.pop(fut)
             res = fut.result()
             L, t = chains[ci][k]
@@ -191,6 +201,7 @@ def _run_chains(sc, out, chains, rows, executor, bar, start_from=None):
             bar.update(1)
             if k + 1 < len(chains[ci]):
                 advance(ci, k + 1)
+        fill()
 
 
 def _refine_chains(sc, chains, extra):
@@ -276,6 +287,7 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
                 "instrument": sc.instrument, "finished": False}
     executor, how, close = _executor(n_parallel, workers, cluster)
     manifest["executor"] = how
+    window = how.pop("window")
     _write_manifest(out, manifest, started, [])
     rows = {}
     if not resume:
@@ -283,7 +295,7 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
     bar = tqdm(total=sum(map(len, chains)), unit="point", desc="sweep",
                disable=(not progress) or None, leave=False)
     try:
-        _run_chains(sc, out, chains, rows, executor, bar)
+        _run_chains(sc, out, chains, rows, executor, bar, window)
         extra = []
         if sc.sweep.refine == "near-tc":
             extra = refine_temperatures(rows, sc.sweep.temperatures_K)
@@ -296,7 +308,7 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
                 bar.refresh()
                 start = {ci: (_final_spins(out, p), f"points/{p}/final.npz")
                          for ci, p in parents.items()}
-                _run_chains(sc, out, rchains, rows, executor, bar, start)
+                _run_chains(sc, out, rchains, rows, executor, bar, window, start)
     finally:
         bar.close()
         close()
