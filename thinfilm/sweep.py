@@ -37,7 +37,9 @@ from .sweep_point import (
 )
 from .sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
 
-__all__ = ["run_sweep", "sweep_plan", "available_cores"]
+__all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
+
+CONNECT_TIMEOUT_S = 20  # seconds to wait for a Dask scheduler
 
 
 def available_cores():
@@ -104,7 +106,7 @@ def _executor(n_tasks, workers, cluster):
             raise InputError(f"--cluster {cluster}: the Dask client is not installed; "
                              f"install thinfilm[cluster] (dask[distributed])") from None
         try:
-            client = Client(cluster, timeout="20s")
+            client = Client(cluster, timeout=f"{CONNECT_TIMEOUT_S}s")
         except (OSError, TimeoutError) as exc:
             raise InputError(f"--cluster {cluster}: cannot reach a Dask scheduler there ({exc}); "
                              f"give the address a running scheduler prints, e.g. "
