@@ -1,0 +1,416 @@
+"""Heating plan for a film and an imaging instrument.
+
+:func:`make_plan` runs (through :func:`thinfilm.api.run`) or reuses a temperature sweep in a
+folder and answers, for the largest simulated size:
+
+* Tc with its error (from ``tc.json``; the susceptibility peak when that has none);
+* the temperature window in which the domain pattern breaks up: from where the domain size
+  (equivalent diameter) falls below the field of view to where the correlation length falls
+  below the resolution, each edge with a bootstrap error (:mod:`thinfilm.plan_curves`);
+* the window in which the instrument resolves the critical fluctuations (xi > resolution);
+* the fluctuation time of the pattern from short stochastic LLG runs
+  (:mod:`thinfilm.fluctuation`) against the exposure time;
+* a heating schedule with fine steps where the pattern changes fast.
+
+It writes ``plan.json``, ``plan.md`` and figures ``plan_*.png`` (:mod:`thinfilm.plan_report`).
+"""
+
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+
+from ._io import atomic_write_text, write_json
+from .errors import InputError, ScenarioError
+from .fluctuation import exposure_verdict, fluctuation_time
+from .plan_curves import crossing, fill_errors, schedule, smooth_log
+from .record import read_csv_table
+from .scenario import Scenario, load_scenario
+from .units import parse_quantity
+
+__all__ = ["make_plan", "instrument_values", "analyse_sweep", "LLG_FRACTIONS"]
+
+#: LLG run temperatures as fractions of Tc (those inside the sweep range are used).
+LLG_FRACTIONS = (0.8, 0.9, 0.97, 1.03, 1.1, 1.25, 1.5)
+NEEDED = ("temperature_K", "m_abs", "correlation_length_nm", "mean_domain_area_nm2")
+
+
+def _quantity(option, text, kind, example):
+    try:
+        v = parse_quantity(text, kind)
+    except ValueError as exc:
+        raise InputError(f"{option} {text!r}: {exc}. Give the value with a {kind} unit, for "
+                         f"example {option} \"{example}\".") from None
+    if not v > 0:
+        raise InputError(f"{option} {text!r}: must be positive; give a {kind} greater than zero, "
+                         f"for example {option} \"{example}\".")
+    return v
+
+
+def instrument_values(scenario, resolution=None, exposure=None, field_of_view=None):
+    """Instrument of the plan: command-line values override the scenario's ``instrument``.
+
+    Returns
+    -------
+    dict
+        resolution_nm, exposure_s, field_of_view_nm (None when neither gives it), and
+        ``source`` {name: "command line" | "scenario"}.
+
+    Raises
+    ------
+    InputError
+        Missing unit, non-positive value, missing resolution or exposure, or a resolution
+        not smaller than the field of view.
+    """
+    ins = dict(getattr(scenario, "instrument", {}) or {})
+    out, src = {}, {}
+    for key, opt, val, kind, ex, scale in (
+            ("resolution_nm", "--resolution", resolution, "length", "30 nm", 1e9),
+            ("exposure_s", "--exposure", exposure, "time", "10 ms", 1.0),
+            ("field_of_view_nm", "--field-of-view", field_of_view, "length", "5 um", 1e9)):
+        if val is not None:
+            out[key], src[key] = _quantity(opt, val, kind, ex) * scale, "command line"
+        elif key in ins:
+            out[key], src[key] = float(ins[key]), "scenario"
+        elif key != "field_of_view_nm":
+            what = "resolution" if key == "resolution_nm" else "exposure"
+            raise InputError(f"no instrument {what}: give {opt} with a unit, e.g. {opt} \"{ex}\", "
+                             f"or set instrument.{what} in the scenario.")
+        else:
+            out[key] = None
+    fov = out["field_of_view_nm"]
+    if fov is not None and out["resolution_nm"] >= fov:
+        raise InputError(f"--resolution ({out['resolution_nm']:g} nm) must be smaller than "
+                         f"--field-of-view ({fov:g} nm): the instrument cannot resolve anything "
+                         f"inside its own view. Check the units of both values.")
+    out["source"] = src
+    return out
+
+
+def _scenario(source):
+    if isinstance(source, Scenario):
+        return source
+    return load_scenario(source)
+
+
+def _comparable(described):
+    d = json.loads(json.dumps(described, default=lambda o: o.tolist() if hasattr(o, "tolist") else str(o)))
+    for k in ("source", "instrument"):
+        d.pop(k, None)
+    return d
+
+
+def _ensure_sweep(sc, out, reuse, workers, progress):
+    """Run, resume or reuse the sweep in ``out``; returns 'ran', 'resumed' or 'reused'."""
+    man = out / "manifest.json"
+    if not sc.is_sweep:
+        raise ScenarioError("the heating plan needs a temperature sweep: give temperature as a "
+                            "list or a {start, stop, step} range (at least 5 temperatures)",
+                            path=sc.source, key="temperature")
+    if man.is_file():
+        if not reuse:
+            raise InputError(f"{out}: already holds a run (manifest.json). Pass --reuse to build "
+                             f"the plan from its sweep (an unfinished sweep is continued), or "
+                             f"choose another folder with -o.")
+        try:
+            m = json.loads(man.read_text())
+        except (OSError, ValueError):
+            raise InputError(f"{man}: unreadable manifest; choose another folder with -o") from None
+        if m.get("kind") != "sweep":
+            raise InputError(f"{out}: holds a {m.get('kind')!r} run, not a sweep; choose another "
+                             f"folder with -o")
+        if "scenario" in m and _comparable(m["scenario"]) != _comparable(sc.describe()):
+            raise InputError(f"{out}: its sweep was run with a different scenario (manifest.json "
+                             f"'scenario' differs from {sc.source}); use the same scenario or "
+                             f"another folder with -o.")
+        done = m.get("finished") and (out / "observables.csv").is_file() and (out / "tc.json").is_file()
+        if done:
+            return "reused"
+        from .api import run
+
+        run(sc, out, resume=True, workers=workers, progress=progress)
+        return "resumed"
+    from .api import run
+
+    run(sc, out, workers=workers, progress=progress)
+    return "ran"
+
+
+def _read_sweep(out):
+    path = out / "observables.csv"
+    tab = read_csv_table(path)
+    missing = [c for c in NEEDED + ("size",) if c not in tab]
+    if missing:
+        raise InputError(f"{path}: lacks the column(s) {', '.join(missing)} the heating plan needs")
+    size = int(np.nanmax(tab["size"]))
+    keep = tab["size"] == size
+    order = np.argsort(tab["temperature_K"][keep])
+    cols = {k: v[keep][order] for k, v in tab.items() if v.dtype.kind == "f"}
+    if cols["temperature_K"].size < 3:
+        raise InputError(f"{path}: size {size} has only {cols['temperature_K'].size} temperatures; "
+                         f"the plan needs at least 3")
+    try:
+        tc = json.loads((out / "tc.json").read_text())
+    except (OSError, ValueError):
+        tc = {}
+    return size, cols, tc
+
+
+def _col(cols, name):
+    v = cols.get(name)
+    return np.full_like(cols["temperature_K"], np.nan) if v is None else v
+
+
+def _tc(cols, tc):
+    if tc.get("tc_K") is not None:
+        return float(tc["tc_K"]), tc.get("tc_err_K"), str(tc.get("method") or "tc.json")
+    from .analysis.critical import tc_from_peaks
+
+    t, chi = cols["temperature_K"], _col(cols, "susceptibility")
+    ok = np.isfinite(chi)
+    if ok.sum() >= 3:
+        import warnings
+
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            r = tc_from_peaks(t[ok], chi[ok], fill_errors(chi[ok], _col(cols, "susceptibility_err")[ok]))
+        return float(r["tc_K"]), r.get("tc_err_K"), "susceptibility_peak (largest size; tc.json had none)"
+    k = int(np.nanargmax(cols["correlation_length_nm"]))
+    return float(t[k]), None, "correlation-length maximum (no susceptibility, no tc.json)"
+
+
+def _diameter(area):
+    return np.sqrt(4.0 * np.asarray(area, dtype=np.float64) / math.pi)
+
+
+def analyse_sweep(out_dir, instrument, *, box_nm=None, n_points=15, n_boot=400, seed=0):
+    """Tc, windows, curves and schedule from a finished sweep folder (no LLG runs).
+
+    Parameters
+    ----------
+    out_dir : str or Path
+        Folder with ``observables.csv`` and ``tc.json``.
+    instrument : dict
+        As returned by :func:`instrument_values`.
+    box_nm : float, optional
+        Side of the largest simulated film (nm); domains cannot be larger. Default: the field
+        of view only.
+    n_points : int
+        Schedule length.
+
+    Returns
+    -------
+    dict
+        Plain data for :func:`make_plan` (see its ``plan.json`` keys).
+    """
+    out = Path(out_dir)
+    size, cols, tcj = _read_sweep(out)
+    t = cols["temperature_K"]
+    res, fov = instrument["resolution_nm"], instrument["field_of_view_nm"]
+    tc, tc_err, tc_method = _tc(cols, tcj)
+    xi, xi_err = cols["correlation_length_nm"], fill_errors(cols["correlation_length_nm"],
+                                                            _col(cols, "correlation_length_nm_err"))
+    area = cols["mean_domain_area_nm2"]
+    rel_area = fill_errors(area, _col(cols, "mean_domain_area_nm2_err")) / np.where(area > 0, area, np.nan)
+    d_mean = _diameter(area)
+    aw = _col(cols, "area_weighted_domain_area_nm2")
+    typical = "area_weighted_domain_area_nm2" if np.isfinite(aw).sum() >= 3 else "mean_domain_area_nm2"
+    d_typ = _diameter(aw) if typical != "mean_domain_area_nm2" else d_mean
+    d_typ_err = 0.5 * rel_area * d_typ  # relative error of a diameter = half that of the area
+    limit_nm = fov if box_nm is None else (box_nm if fov is None else min(fov, box_nm))
+    low = crossing("fall_from_start", t, d_typ, d_typ_err, limit_nm, n_boot=n_boot, seed=seed)
+    rlo = crossing("rise_before_peak", t, xi, xi_err, res, n_boot=n_boot, seed=seed + 1)
+    rhi = crossing("fall_after_peak", t, xi, xi_err, res, n_boot=n_boot, seed=seed + 2)
+    high, high_from = rhi, "correlation length"
+    if rhi["bound"] == "never":
+        high = crossing("fall_from_start", t, d_typ, d_typ_err, res, n_boot=n_boot, seed=seed + 3)
+        high_from = "domain diameter (the correlation length never exceeds the resolution)"
+    sm_xi = np.exp(smooth_log(t[np.isfinite(xi) & (xi > 0)], np.log(xi[np.isfinite(xi) & (xi > 0)])))
+    t_xi = t[np.isfinite(xi) & (xi > 0)]
+    sched = schedule(t, cols["m_abs"], xi, n_points)
+    return {"size": size, "temperature_K": t, "m_abs": cols["m_abs"], "xi_nm": xi, "xi_err_nm": xi_err,
+            "xi_smooth_nm": np.interp(t, t_xi, sm_xi) if t_xi.size else xi,
+            "d_mean_nm": d_mean, "d_typ_nm": d_typ, "d_typ_err_nm": d_typ_err, "typical_column": typical,
+            "tc_K": tc, "tc_err_K": tc_err, "tc_method": tc_method, "tc_json": tcj,
+            "low": low, "high": high, "high_from": high_from, "resolved_low": rlo, "resolved_high": rhi,
+            "view_limit_nm": limit_nm, "schedule_K": sched}
+
+
+def _llg_temperatures(tc, t_lo, t_hi, given):
+    if given is not None:
+        return sorted(float(x) for x in given)
+    cand = [tc * f for f in LLG_FRACTIONS] if tc else list(np.linspace(t_lo, t_hi, 6))
+    inside = sorted({round(min(max(x, t_lo), t_hi), 3) for x in cand})
+    out = []
+    for x in inside:
+        if not out or x - out[-1] > 0.02 * (t_hi - t_lo):
+            out.append(x)
+    return out
+
+
+def _fluctuations(sc, temps, size, duration_s, progress):
+    from .model import build_model
+    from .sweep_point import sized_scenario
+
+    model = build_model(sized_scenario(sc, size))
+    dy = sc.dynamics
+    runs = []
+    from tqdm import tqdm
+
+    for i, temp in enumerate(tqdm(temps, desc="LLG fluctuation runs", disable=(not progress) or None,
+                                  leave=False)):
+        runs.append(fluctuation_time(model, temp, damping=dy.damping, time_step_s=dy.time_step_s,
+                                     duration_s=duration_s, seed=sc.seed + 101 * (i + 1), gamma=dy.gamma))
+    return runs, model
+
+
+def _interp_tau(temp, runs):
+    ts = np.array([r["temperature_K"] for r in runs])
+    lt = np.log([r["tau_ps"] for r in runs])
+    le = np.array([r["tau_err_ps"] / r["tau_ps"] for r in runs])
+    return float(np.exp(np.interp(temp, ts, lt))), float(np.exp(np.interp(temp, ts, lt)) * np.interp(temp, ts, le)), \
+        bool(temp < ts[0] or temp > ts[-1])
+
+
+def _points(a, runs, ins, tc):
+    t = a["temperature_K"]
+    out = []
+    for temp in a["schedule_K"]:
+        xi = float(np.interp(temp, t, a["xi_smooth_nm"]))
+        dm = float(np.interp(temp, t, a["d_mean_nm"]))
+        dt = float(np.interp(temp, t, a["d_typ_nm"]))
+        m = float(np.interp(temp, t, a["m_abs"]))
+        tau, tau_err, extrap = _interp_tau(temp, runs)
+        ordered = temp < tc
+        verdict = exposure_verdict(tau * 1e-12, ins["exposure_s"], ordered=ordered)
+        out.append({"temperature_K": temp, "phase": "ordered" if ordered else "disordered",
+                    "m_abs": m, "correlation_length_nm": xi, "mean_domain_diameter_nm": dm,
+                    "typical_domain_diameter_nm": dt, "resolved": bool(xi > ins["resolution_nm"]),
+                    "domains_resolved": bool(dt > ins["resolution_nm"]),
+                    "fluctuation_time_ps": tau, "fluctuation_time_err_ps": tau_err,
+                    "fluctuation_time_extrapolated": extrap,
+                    "fluctuation_time_over_exposure": tau * 1e-12 / ins["exposure_s"], "verdict": verdict})
+    return out
+
+
+def _clean(v):
+    """JSON-ready copy: arrays to lists, NaN and inf to None."""
+    if isinstance(v, dict):
+        return {k: _clean(x) for k, x in v.items()}
+    if isinstance(v, (list, tuple, np.ndarray)):
+        return [_clean(x) for x in (v.tolist() if isinstance(v, np.ndarray) else v)]
+    if isinstance(v, (bool, np.bool_)):
+        return bool(v)
+    if isinstance(v, (float, np.floating)):
+        return float(v) if math.isfinite(v) else None
+    if isinstance(v, np.integer):
+        return int(v)
+    return v
+
+
+def _edge(d):
+    return d["value_K"], d["err_K"]
+
+
+def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=None, workers=None,
+              reuse=False, progress=True, n_points=15, dwell="5 min", llg_size=16,
+              llg_duration="150 ps", llg_temperatures=None, n_boot=400, seed=0):
+    """Heating plan for a film (scenario with a temperature sweep) and an instrument.
+
+    Parameters
+    ----------
+    source : str, Path, dict or Scenario
+        The scenario; it must hold a temperature sweep.
+    out_dir : str or Path
+        Folder of the sweep and the plan.
+    resolution, exposure, field_of_view : str, optional
+        Instrument values with units ("30 nm", "10 ms", "5 um"); they override the
+        scenario's ``instrument``. Resolution and exposure are required (here or there).
+    workers : int, optional
+        Worker processes of the sweep.
+    reuse : bool
+        Build the plan from a sweep already in ``out_dir`` (continuing it if unfinished);
+        without it, a folder holding a run is refused.
+    progress : bool
+        Progress bars.
+    n_points : int
+        Number of schedule temperatures (>= 3).
+    dwell : str
+        Time per temperature (the user's choice, stated in the plan), e.g. "5 min".
+    llg_size : int
+        L of the L x L lattice of the LLG fluctuation runs.
+    llg_duration : str
+        Sampled length of each LLG run, e.g. "150 ps".
+    llg_temperatures : sequence of float, optional
+        LLG run temperatures (K); default fractions :data:`LLG_FRACTIONS` of Tc.
+    n_boot : int
+        Bootstrap replicas for the window edges.
+    seed : int
+        Seed of the bootstrap.
+
+    Returns
+    -------
+    dict
+        ``plan`` (the plan.json content), ``plan_md``, ``plan_json`` (paths), ``figures``
+        (paths) and ``summary_text`` (about ten lines of plain text).
+    """
+    from . import plan_report
+
+    sc = _scenario(source)
+    ins = instrument_values(sc, resolution, exposure, field_of_view)
+    if isinstance(n_points, bool) or not isinstance(n_points, (int, np.integer)) or n_points < 3:
+        raise InputError(f"n_points {n_points!r}: must be a whole number of at least 3 temperatures")
+    if isinstance(llg_size, bool) or not isinstance(llg_size, (int, np.integer)) or llg_size < 4:
+        raise InputError(f"llg_size {llg_size!r}: must be a whole number L >= 4 (L x L sites)")
+    dwell_s = _quantity("dwell", dwell, "time", "5 min")
+    llg_s = _quantity("llg_duration", llg_duration, "time", "150 ps")
+    out = Path(out_dir)
+    how = _ensure_sweep(sc, out, reuse, workers, progress)
+    from .model import build_model
+    from .sweep_point import sized_scenario
+
+    size = int(np.nanmax(read_csv_table(out / "observables.csv")["size"]))
+    box = float(min(build_model(sized_scenario(sc, size)).lattice.box_nm))
+    a = analyse_sweep(out, ins, box_nm=box, n_points=n_points, n_boot=n_boot, seed=seed)
+    t = a["temperature_K"]
+    temps = _llg_temperatures(a["tc_K"], float(t[0]), float(t[-1]), llg_temperatures)
+    runs, llg_model = _fluctuations(sc, temps, llg_size, llg_s, progress)
+    points = _points(a, runs, ins, a["tc_K"])
+    low, high = _edge(a["low"]), _edge(a["high"])
+    rlo, rhi = a["resolved_low"], a["resolved_high"]
+    resolved = None if rhi["bound"] == "never" or rlo["bound"] == "never" else [rlo["value_K"], rhi["value_K"]]
+    plan = {
+        "scenario": sc.name, "scenario_source": sc.source, "sweep": how, "size": a["size"],
+        "box_nm": box, "instrument": {k: ins[k] for k in ("resolution_nm", "exposure_s", "field_of_view_nm")},
+        "instrument_source": ins["source"], "view_limit_nm": a["view_limit_nm"],
+        "tc_K": a["tc_K"], "tc_err_K": a["tc_err_K"], "tc_method": a["tc_method"],
+        "breakup_window_K": [low[0], high[0]], "breakup_window_err_K": [low[1], high[1]],
+        "breakup_window_bounds": [a["low"]["bound"], a["high"]["bound"]],
+        "breakup_upper_edge_from": a["high_from"],
+        "resolved_window_K": resolved,
+        "resolved_window_err_K": None if resolved is None else [rlo["err_K"], rhi["err_K"]],
+        "resolved_window_bounds": None if resolved is None else [rlo["bound"], rhi["bound"]],
+        "max_correlation_length_nm": float(np.nanmax(a["xi_nm"])),
+        "max_correlation_length_at_K": float(t[int(np.nanargmax(a["xi_nm"]))]),
+        "typical_domain_column": a["typical_column"],
+        "schedule_K": a["schedule_K"], "n_points": len(a["schedule_K"]), "dwell_s": dwell_s,
+        "total_dwell_s": dwell_s * len(a["schedule_K"]),
+        "llg": {"size": llg_size, "sites": int(llg_model.lattice.n_sites),
+                "box_nm": [float(x) for x in llg_model.lattice.box_nm], "duration_ps": llg_s * 1e12,
+                "damping": sc.dynamics.damping, "runs": runs},
+        "points": points, "bootstrap": {"n_boot": n_boot, "seed": seed},
+        "sweep_curves": {"temperature_K": t, "m_abs": a["m_abs"], "correlation_length_nm": a["xi_nm"],
+                         "correlation_length_err_nm": a["xi_err_nm"], "mean_domain_diameter_nm": a["d_mean_nm"],
+                         "typical_domain_diameter_nm": a["d_typ_nm"]},
+    }
+    plan = _clean(plan)
+    plan["resolved_note"] = plan_report.resolved_note(plan)
+    plan["timescale_note"] = plan_report.timescale_note(plan)
+    plan["command"] = plan_report.command(plan, out)
+    figures = plan_report.figures(plan, out)
+    plan["figures"] = [p.name for p in figures]
+    plan_json = write_json(out / "plan.json", plan)
+    plan_md = atomic_write_text(out / "plan.md", plan_report.markdown(plan))
+    return {"plan": plan, "plan_md": plan_md, "plan_json": plan_json, "figures": figures,
+            "summary_text": plan_report.summary_text(plan)}

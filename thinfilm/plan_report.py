@@ -1,0 +1,281 @@
+"""Heating plan texts and figures: plan.md, the short summary, notes and plan_*.png.
+
+Every function reads the plan dictionary built by :func:`thinfilm.plan.make_plan`
+(temperatures in K, lengths in nm, times in ps or s as the key names say).
+"""
+
+import math
+import shlex
+
+import numpy as np
+
+__all__ = ["resolved_note", "timescale_note", "command", "figures", "markdown", "summary_text",
+           "CAUTIONS"]
+
+# Okabe-Ito colour-blind-safe palette
+BLUE, ORANGE, GREEN, VERMILION, PURPLE, SKY, GREY = ("#0072B2", "#E69F00", "#009E73", "#D55E00",
+                                                      "#CC79A7", "#56B4E9", "#7f7f7f")
+
+CAUTIONS = (
+    "Heating limits of the sample: interdiffusion at interfaces, oxidation, dewetting of thin "
+    "layers and desorption or reaction of capping layers can change the film irreversibly "
+    "before or during the schedule; keep below the highest temperature the film and substrate "
+    "are known to survive.",
+    "Thermometry: calibrate the sensor, and expect an offset (often several K, more in vacuum "
+    "or under a beam) between the sensor and the film itself; let the temperature settle at "
+    "each point before imaging.",
+    "Beam and light heating: the imaging beam or laser can raise the local film temperature; "
+    "check at two intensities.",
+    "Strong magnetic fields: keep tools and magnetisable items away from the magnet, mind "
+    "stray-field limits and quench risks of superconducting magnets.",
+    "This schedule is a model estimate from a small simulated film. Local laboratory safety "
+    "rules, the sample holder and the instrument maker's temperature, ramp-rate and field "
+    "limits take precedence.",
+)
+
+
+def _fmt(v, err=None, unit="K", digits=4):
+    if v is None or (isinstance(v, float) and not math.isfinite(v)):
+        return "n/a"
+    s = f"{v:.{digits}g}"
+    if err is not None and math.isfinite(err):
+        s += f" +- {err:.2g}"
+    return f"{s} {unit}"
+
+
+def _edge_text(v, err, bound):
+    if bound == "at_or_below_start":
+        return f"<= {v:.4g} K (at or below the start of the sweep)"
+    if bound == "at_or_above_end":
+        return f">= {v:.4g} K (at or beyond the end of the sweep)"
+    if bound == "never" or v is None:
+        return "not reached in the sweep"
+    return _fmt(v, err)
+
+
+def resolved_note(plan):
+    """Plain-language note on the resolved window (always set; essential when it is empty)."""
+    res = plan["instrument"]["resolution_nm"]
+    xmax, tmax = plan["max_correlation_length_nm"], plan["max_correlation_length_at_K"]
+    if plan["resolved_window_K"] is None:
+        tc = plan["tc_K"]
+        return (f"the resolution ({res:g} nm) is coarser than every simulated correlation length "
+                f"(max {xmax:.2g} nm at {tmax:.4g} K): the instrument cannot resolve the critical "
+                f"fluctuations of this film; the pattern will appear uniform grey above about "
+                f"{tc:.4g} K, and below it only domains larger than {res:g} nm are visible.")
+    lo, hi = plan["resolved_window_K"]
+    return (f"between {lo:.4g} and {hi:.4g} K the correlation length exceeds the resolution "
+            f"({res:g} nm; max {xmax:.2g} nm at {tmax:.4g} K): the critical fluctuations are "
+            f"resolvable there (if the exposure is short enough to freeze them).")
+
+
+def timescale_note(plan):
+    """What the comparison of ps-ns fluctuation times with the exposure implies."""
+    exp = plan["instrument"]["exposure_s"]
+    taus = [r["tau_ps"] for r in plan["llg"]["runs"]]
+    tmin, tmax = min(taus), max(taus)
+    llg = plan["llg"]
+    side = llg["box_nm"][0]
+    base = (f"The simulated lattice for the dynamics is small ({llg['size']} x {llg['size']} "
+            f"sites, {side:.3g} nm), so domain-wall motion, pinning and coarsening on laboratory "
+            f"time scales (ms to hours) are outside the model.")
+    ratio = exp / (tmax * 1e-12)
+    if ratio > 1e3:
+        return (f"The simulated fluctuation times ({tmin:.3g}-{tmax:.3g} ps) are about "
+                f"{math.log10(ratio):.0f} orders of magnitude shorter than the exposure "
+                f"({exp:g} s): every image is a time average of the magnetisation. Above Tc the "
+                f"film appears uniform grey; below Tc it shows the frozen large domains at the "
+                f"reduced contrast <|m|>(T). " + base)
+    return (f"The simulated fluctuation times ({tmin:.3g}-{tmax:.3g} ps) are comparable to or "
+            f"longer than part of the exposure ({exp:g} s): the pattern is partly frozen during "
+            f"an image (see the verdict per temperature). " + base)
+
+
+def command(plan, out):
+    """The command that reproduces the plan."""
+    ins = plan["instrument"]
+    src = plan["scenario_source"]
+    parts = ["thinfilm", "plan", src if src != "<dict>" else f"<scenario {plan['scenario']}>",
+             "-o", str(out), "--resolution", f"{ins['resolution_nm']:g} nm",
+             "--exposure", f"{ins['exposure_s']:g} s"]
+    if ins["field_of_view_nm"] is not None:
+        parts += ["--field-of-view", f"{ins['field_of_view_nm']:g} nm"]
+    parts += ["--reuse"]
+    return " ".join(shlex.quote(p) for p in parts)
+
+
+def _band(ax, plan):
+    tc, err = plan["tc_K"], plan["tc_err_K"] or 0.0
+    ax.axvspan(tc - err, tc + err, color=GREY, alpha=0.25, lw=0)
+    ax.axvline(tc, color=GREY, lw=1, label=f"Tc = {_fmt(tc, plan['tc_err_K'])}")
+    lo, hi = plan["breakup_window_K"]
+    if lo is not None and hi is not None:
+        ax.axvspan(lo, hi, color=ORANGE, alpha=0.12, lw=0, label="break-up window")
+    for s in plan["schedule_K"]:
+        ax.axvline(s, ymin=0, ymax=0.04, color="k", lw=1)
+
+
+def figures(plan, out):
+    """Write plan_xi.png (lengths), plan_tau.png (times) and plan_schedule.png; return paths."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    c = {k: np.array([np.nan if x is None else x for x in v], dtype=float)
+         for k, v in plan["sweep_curves"].items()}
+    t = c["temperature_K"]
+    ins = plan["instrument"]
+    paths = []
+    fig, ax = plt.subplots(figsize=(6.4, 4.2))
+    ax.errorbar(t, c["correlation_length_nm"], yerr=c["correlation_length_err_nm"], fmt="o-",
+                color=BLUE, ms=4, label="correlation length xi")
+    ax.plot(t, c["mean_domain_diameter_nm"], "s--", color=GREEN, ms=4, label="mean domain diameter")
+    ax.plot(t, c["typical_domain_diameter_nm"], "^:", color=PURPLE, ms=4,
+            label="typical (area-weighted) diameter")
+    ax.axhline(ins["resolution_nm"], color=VERMILION, ls="--", label=f"resolution {ins['resolution_nm']:g} nm")
+    ax.axhline(plan["view_limit_nm"], color=SKY, ls="-.",
+               label=f"view limit {plan['view_limit_nm']:.3g} nm")
+    _band(ax, plan)
+    ax.set_yscale("log")
+    ax.set(xlabel="temperature (K)", ylabel="length (nm)",
+           title=f"{plan['scenario']}: lengths (L = {plan['size']}); ticks: schedule")
+    ax.legend(fontsize=7)
+    fig.tight_layout()
+    paths.append(out / "plan_xi.png")
+    fig.savefig(paths[-1], dpi=120)
+    plt.close(fig)
+
+    fig, ax = plt.subplots(figsize=(6.4, 4.2))
+    runs = plan["llg"]["runs"]
+    ax.errorbar([r["temperature_K"] for r in runs], [r["tau_ps"] for r in runs],
+                yerr=[r["tau_err_ps"] for r in runs], fmt="o-", color=BLUE, label="LLG runs")
+    ax.plot([p["temperature_K"] for p in plan["points"]],
+            [p["fluctuation_time_ps"] for p in plan["points"]], "x", color=ORANGE, label="schedule (interpolated)")
+    _band(ax, plan)
+    ax.set_yscale("log")
+    exp_ps = ins["exposure_s"] * 1e12
+    ax.set(xlabel="temperature (K)", ylabel="fluctuation time (ps)",
+           title=f"fluctuation time; exposure = {ins['exposure_s']:g} s = {exp_ps:.3g} ps")
+    lo, hi = ax.get_ylim()
+    if lo <= exp_ps <= hi * 1e2:
+        ax.axhline(exp_ps, color=VERMILION, ls="--", label="exposure")
+    ax.legend(fontsize=7)
+    fig.tight_layout()
+    paths.append(out / "plan_tau.png")
+    fig.savefig(paths[-1], dpi=120)
+    plt.close(fig)
+
+    fig, ax = plt.subplots(figsize=(6.4, 4.2))
+    ax.plot(t, c["m_abs"], "o-", color=BLUE, ms=4, label="<|m|> (sweep)")
+    ax.plot(plan["schedule_K"], np.interp(plan["schedule_K"], t, c["m_abs"]), "D", color=VERMILION,
+            label="schedule points")
+    _band(ax, plan)
+    ax.set(xlabel="temperature (K)", ylabel="<|m|> per spin", title="recommended heating schedule")
+    ax.legend(fontsize=7)
+    fig.tight_layout()
+    paths.append(out / "plan_schedule.png")
+    fig.savefig(paths[-1], dpi=120)
+    plt.close(fig)
+    return paths
+
+
+def _dwell(s):
+    return f"{s / 60:g} min" if s >= 60 else f"{s:g} s"
+
+
+def markdown(plan):
+    """plan.md text."""
+    ins, llg = plan["instrument"], plan["llg"]
+    lo, hi = plan["breakup_window_K"]
+    elo, ehi = plan["breakup_window_err_K"]
+    blo, bhi = plan["breakup_window_bounds"]
+    fov = ins["field_of_view_nm"]
+    lines = [f"# Heating plan: {plan['scenario']}", "",
+             "A model estimate for planning an experiment; not a measurement.", "",
+             "## Instrument", "",
+             f"- resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s, field of view "
+             + (f"{fov:g} nm" if fov is not None else "not given")
+             + f" (from: {', '.join(f'{k} {v}' for k, v in plan['instrument_source'].items())})", "",
+             "## Answers", "",
+             f"- **Tc = {_fmt(plan['tc_K'], plan['tc_err_K'])}** ({plan['tc_method']}).",
+             f"- **Domain pattern breaks up** between {_edge_text(lo, elo, blo)} and "
+             f"{_edge_text(hi, ehi, bhi)}: from where the typical domain diameter falls below the view "
+             f"limit ({plan['view_limit_nm']:.3g} nm) to where the {plan['breakup_upper_edge_from']} "
+             f"falls below the resolution.",
+             f"- **Resolved window**: " + ("none. " if plan["resolved_window_K"] is None else
+                                         f"{plan['resolved_window_K'][0]:.4g}-{plan['resolved_window_K'][1]:.4g} K. ")
+             + plan["resolved_note"],
+             f"- **Time scales**: {plan['timescale_note']}", "",
+             "## Schedule", "",
+             f"{plan['n_points']} temperatures, fine steps where |m| and ln xi change fast; dwell "
+             f"{_dwell(plan['dwell_s'])} per point (the user's choice), {_dwell(plan['total_dwell_s'])} in "
+             f"all, plus settling time.", "",
+             "| T (K) | phase | xi (nm) | mean domain d (nm) | typical d (nm) | xi resolved | tau (ps) | verdict |",
+             "|---|---|---|---|---|---|---|---|"]
+    for p in plan["points"]:
+        star = "*" if p["fluctuation_time_extrapolated"] else ""
+        lines.append(f"| {p['temperature_K']:.4g} | {p['phase']} | {p['correlation_length_nm']:.3g} | "
+                     f"{p['mean_domain_diameter_nm']:.3g} | {p['typical_domain_diameter_nm']:.3g} | "
+                     f"{'yes' if p['resolved'] else 'no'} | {p['fluctuation_time_ps']:.3g}{star} | {p['verdict']} |")
+    lines += ["", "\\* outside the LLG temperatures: nearest run's value.", "",
+              "Verdict: *frozen* when tau > 10 x exposure, *averaged* when tau < exposure / 10 "
+              "(grey above Tc; the mean contrast <|m|> in ordered domains below Tc), otherwise "
+              "*blurred/partly averaged*.", "",
+              "## Cautions", ""]
+    lines += [f"- {c}" for c in CAUTIONS]
+    lines += ["", "## Assumptions and method", "",
+              f"- Scenario `{plan['scenario']}` ({plan['scenario_source']}); sweep {plan['sweep']} "
+              f"in this folder; curves of the largest size L = {plan['size']} "
+              f"({plan['box_nm']:.3g} nm film).",
+              f"- Tc: {plan['tc_method']} (tc.json of the sweep).",
+              "- Domain diameter = sqrt(4 A / pi). 'Mean' uses mean_domain_area_nm2 (every island "
+              f"counts); 'typical' uses {plan['typical_domain_column']} (the domain a random pixel "
+              "lies in: what an image shows) and drives the lower window edge; its error is taken "
+              "from the relative error of the mean area.",
+              f"- View limit = the smaller of the field of view and the simulated film side "
+              f"({plan['box_nm']:.3g} nm): simulated domains cannot be larger than the film, so a "
+              "film that is one domain stands for domains larger than the view.",
+              "- Window edges: crossings of kernel-smoothed ln-curves, linear interpolation; error = "
+              f"half the 16-84 % spread of {plan['bootstrap']['n_boot']} parametric bootstrap "
+              f"replicas (seed {plan['bootstrap']['seed']}).",
+              "- Schedule: equal arclength along the normalised curve (|m|, ln xi) of the sweep "
+              "with 15 % uniform spacing, rounded to 0.1 K.",
+              f"- Fluctuation time: integrated autocorrelation time (Sokal window, c = 5) of m along "
+              f"the order axis in stochastic LLG runs on {llg['size']} x {llg['size']} sites, damping "
+              f"{llg['damping']:g}, {llg['duration_ps']:.4g} ps each after Metropolis equilibration; "
+              "interpolated in ln tau between run temperatures. Runs:", ""]
+    lines += ["| T (K) | tau (ps) | run (ps) | step (fs) | independent samples | seed |", "|---|---|---|---|---|---|"]
+    for r in llg["runs"]:
+        lines.append(f"| {r['temperature_K']:.4g} | {r['tau_ps']:.3g} +- {r['tau_err_ps']:.2g} | "
+                     f"{r['duration_ps']:.4g} | {r['time_step_fs']:.3g} | {r['n_independent']:.0f} | {r['seed']} |")
+    lines += ["", "## Reproduce", "", "```", plan["command"], "```", "",
+              "Figures: " + ", ".join(plan["figures"]), ""]
+    return "\n".join(lines)
+
+
+def summary_text(plan):
+    """About ten lines of plain text for the terminal."""
+    ins = plan["instrument"]
+    lo, hi = plan["breakup_window_K"]
+    elo, ehi = plan["breakup_window_err_K"]
+    blo, bhi = plan["breakup_window_bounds"]
+    sched = plan["schedule_K"]
+    verdicts = sorted({p["verdict"] for p in plan["points"]})
+    taus = [r["tau_ps"] for r in plan["llg"]["runs"]]
+    return "\n".join([
+        f"heating plan for {plan['scenario']} (sweep L = {plan['size']}, {plan['sweep']})",
+        f"  instrument   resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s"
+        + (f", field of view {ins['field_of_view_nm']:g} nm" if ins["field_of_view_nm"] else ""),
+        f"  Tc           {_fmt(plan['tc_K'], plan['tc_err_K'])} ({plan['tc_method']})",
+        f"  break-up     {_edge_text(lo, elo, blo)} .. {_edge_text(hi, ehi, bhi)}",
+        "  resolved     " + ("none: " + plan["resolved_note"] if plan["resolved_window_K"] is None
+                            else f"{plan['resolved_window_K'][0]:.4g} .. {plan['resolved_window_K'][1]:.4g} K"),
+        f"  fluctuation  {min(taus):.3g}-{max(taus):.3g} ps (LLG, {plan['llg']['size']}^2 sites); "
+        f"verdicts: {', '.join(verdicts)}",
+        f"  schedule     {len(sched)} points {sched[0]:.4g}..{sched[-1]:.4g} K: "
+        + ", ".join(f"{s:g}" for s in sched),
+        f"  dwell        {_dwell(plan['dwell_s'])} per point (your choice), {_dwell(plan['total_dwell_s'])} total",
+        "  caution      model estimate; mind sample heating limits and sensor-film offsets; local "
+        "lab rules and the instrument maker's limits come first.",
+    ])
