@@ -56,18 +56,24 @@ def structure_factor_length(snapshots, positions_nm, box_nm, period=(1, 1), *, s
     nonzero = k2 > 0
     kmin2 = k2[nonzero].min()
 
-    def fit(s_mean):
-        xi2 = 1.0 / kmin2  # start: xi ~ 1/k_min
+    def line(s_mean, sel):
+        # 1/S has a relative scatter that is the same for every mode: weight by S (1/sigma)
+        slope, icpt = np.polyfit(k2[sel], 1.0 / s_mean[sel], 1, w=s_mean[sel])
+        if not icpt > 0 or not slope > 0:
+            return math.nan, math.nan
+        return math.sqrt(slope / icpt), 1.0 / icpt
+
+    def select(s_mean):
+        """Modes with k xi <= k_max_xi (at least the first three shells), iterated."""
+        xi2 = 1.0 / kmin2
+        sel = nonzero & (k2 <= 3.5 * kmin2)
         for _ in range(20):
-            sel = nonzero & (k2 <= max(k_max_xi**2 / max(xi2, 1e-300), 3.5 * kmin2))
-            slope, icpt = np.polyfit(k2[sel], 1.0 / s_mean[sel], 1)
-            if not icpt > 0 or not slope > 0:
-                return math.nan, math.nan, int(sel.sum())
-            new = slope / icpt
-            if abs(new - xi2) <= 1e-6 * new:
+            sel = nonzero & (k2 <= max(k_max_xi**2 / xi2, 3.5 * kmin2))
+            xi, _ = line(s_mean, sel)
+            if not math.isfinite(xi) or abs(xi * xi - xi2) <= 1e-9 * xi2:
                 break
-            xi2 = new
-        return math.sqrt(xi2), 1.0 / icpt, int(sel.sum())
+            xi2 = xi * xi
+        return sel
 
     blocks = np.array_split(np.arange(len(snaps)), min(n_blocks, len(snaps)))
     sums = []
@@ -76,11 +82,14 @@ def structure_factor_length(snapshots, positions_nm, box_nm, period=(1, 1), *, s
         sums.append(s * len(b))
     sums = np.array(sums)
     counts = np.array([len(b) for b in blocks], dtype=float)
-    xi, chi, n_modes = fit(sums.sum(0) / counts.sum())
+    s_all = sums.sum(0) / counts.sum()
+    sel = select(s_all)
+    xi, chi = line(s_all, sel)
+    n_modes = int(sel.sum())
     jack = []
     for i in range(len(blocks)):
         keep = np.arange(len(blocks)) != i
-        jack.append(fit(sums[keep].sum(0) / counts[keep].sum())[0])
+        jack.append(line(sums[keep].sum(0) / counts[keep].sum(), sel)[0])
     jack = np.array(jack)
     nb = len(blocks)
     err = math.sqrt((nb - 1) / nb * np.sum((jack - jack.mean()) ** 2)) if nb > 1 else math.nan
