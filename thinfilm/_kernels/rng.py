@@ -51,7 +51,7 @@ def key(seed, stream, step):
 @nb.njit(inline="always", cache=True)
 def hash64(k, counter):
     """64 random bits from a key and a counter (site * slots + slot)."""
-    return _mix(k ^ _mix((np.uint64(counter) + np.uint64(1)) * _G))
+    return _mix(np.uint64(k) ^ _mix((np.uint64(counter) + np.uint64(1)) * _G))
 
 
 @nb.njit(inline="always", cache=True)
@@ -183,6 +183,7 @@ def bm_pair(h):
     phi = q pi/2 + th is uniform on the circle. The quarter turn is done on the bit patterns
     (swap and sign flips) so the loop has no branches.
     """
+    h = np.uint64(h)
     u1 = (float(h >> _S32) + 1.0) * _INV32
     r = math.sqrt(-2.0 * fast_log(u1))
     lo = h & _MASK32
@@ -208,12 +209,14 @@ def normals_row(k, counter0, sigma, out):
     second normal of the last pair is unused. A pure function of (k, counter): results do not
     depend on how rows are split between threads.
     """
+    k = np.uint64(k)
+    c0 = np.uint64(counter0)
     n = out.size
     half = n // 2
     for p in range(half):
-        a, b = bm_pair(hash64(k, counter0 + p))
+        a, b = bm_pair(hash64(k, c0 + np.uint64(p)))
         out[2 * p] = sigma * a
         out[2 * p + 1] = sigma * b
     if n > 2 * half:
-        a, b = bm_pair(hash64(k, counter0 + half))
+        a, b = bm_pair(hash64(k, c0 + np.uint64(half)))
         out[n - 1] = sigma * a
