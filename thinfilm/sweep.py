@@ -33,7 +33,6 @@ from .sweep_point import (
     init_worker,
     point_name,
     point_seed,
-    sized_scenario,
 )
 from .sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
 
@@ -243,7 +242,9 @@ def _prepare(out, sc, resume, overwrite):
 
 
 def _jsonable(obj):
-    return json.loads(json.dumps(obj, default=lambda o: o.tolist() if hasattr(o, "tolist") else str(o)))
+    """Round-trip through JSON (arrays to lists) so manifests compare equal after reading."""
+    return json.loads(json.dumps(obj, default=lambda o: o.tolist() if hasattr(o, "tolist")
+                                 else str(o)))
 
 
 def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None,

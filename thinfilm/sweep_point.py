@@ -206,7 +206,8 @@ def _spatial(model, snaps, ordered):
               for f in fields]
     r_nm = curves[0][0]
     cs = np.array([c[1] for c in curves])
-    c_err = cs.std(axis=0, ddof=1) / math.sqrt(len(cs)) if len(cs) > 1 else np.full(r_nm.size, np.nan)
+    c_err = (cs.std(axis=0, ddof=1) / math.sqrt(len(cs)) if len(cs) > 1
+             else np.full(r_nm.size, np.nan))
     corr_rows = list(zip(r_nm, cs.mean(axis=0), c_err, strict=True))
     dom_rows, means, weighted, counts, largest = [], [], [], [], []
     for k, f in enumerate(fields):

@@ -35,8 +35,8 @@ COLUMN_UNITS = {
     "tau_int": "samples, integrated autocorrelation time (largest of e, |m|, m^2, |m vector|)",
     "n_effective": "effectively independent samples, n_samples/(2 tau_int)",
     "n_samples": "samples in the time series",
-    "correlation_length_nm": ("nm, second-moment estimator of S.n over the snapshots (ordered-phase "
-                              "form where binder > 0.4)"),
+    "correlation_length_nm": ("nm, second-moment estimator of S.n over the snapshots "
+                              "(ordered-phase form where binder > 0.4)"),
     "correlation_length_nm_err": "nm, jackknife over snapshots",
     "correlation_length_fit_nm": "nm, Ornstein-Zernike fit of C(r) of S.n",
     "correlation_length_fit_nm_err": "nm, jackknife over snapshots",
