@@ -1,0 +1,74 @@
+"""Fluctuation time of m_axis(t) in stochastic LLG: critical slowing down above Tc.
+
+Expectation: the relaxation time of the order parameter grows as Tc is approached from above,
+tau ~ xi^z (critical slowing down; Hohenberg & Halperin, Rev. Mod. Phys. 49, 435, 1977).
+Film: square lattice, moment 1 muB, J = 1 meV, easy axis K = 5 J. Its Tc lies below the
+Ising-limit value 2.269 J/kB (Onsager, Phys. Rev. 65, 117, 1944; finite K only adds transverse
+fluctuations, common knowledge), so T = 1.6, 1.3 and 1.1 x 2.269 J/kB are all above Tc and
+approach it in that order. With an axially symmetric energy, total m_z is conserved by
+precession and relaxes through the damping only (from the LLG equation itself).
+"""
+
+import math
+
+import numpy as np
+import pytest
+
+from thinfilm.fluctuation import exposure_verdict, fluctuation_time
+from thinfilm.lattice import Lattice
+from thinfilm.model import Model
+from thinfilm.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+
+TC_ISING = 2.0 / math.log(1.0 + math.sqrt(2.0))  # kB Tc / J, Onsager 1944
+JK = MEV_J / KB_J_PER_K  # J/kB in K for J = 1 meV
+
+
+def _model(n):
+    return Model(Lattice("square", n, n, 0.4, True), MU_B_J_PER_T, MEV_J, 5.0 * MEV_J,
+                 np.array([0.0, 0.0, 1.0]))
+
+
+def _taus(n, plan, seed=11):
+    m = _model(n)
+    return [fluctuation_time(m, f * TC_ISING * JK, damping=0.5, time_step_s=2e-15,
+                             duration_s=d, seed=seed, sample_every_s=0.05e-12, warmup_sweeps=200)
+            for f, d in plan]
+
+
+def _check(r):
+    r16, r13, r11 = r
+    s = lambda a, b: math.hypot(a["tau_err_ps"], b["tau_err_ps"])  # noqa: E731
+    # monotonic growth toward Tc: the end points must differ by 2 combined standard errors
+    # (Sokal's error of tau_int, ~sqrt(20 tau / run) relative), the middle point must sit in
+    # between (point estimates; one standard error apart at these run lengths)
+    assert r11["tau_ps"] - r16["tau_ps"] > 2 * s(r11, r16)
+    assert r11["tau_ps"] > r13["tau_ps"] > r16["tau_ps"]
+    # disordered film: m_axis fluctuates about zero (within 5 of its own standard deviations
+    # over sqrt(independent samples))
+    for x in r:
+        assert abs(x["m_axis_mean"]) < 5 * x["m_axis_std"] / math.sqrt(x["n_independent"])
+        assert 0.05 < x["tau_ps"] < 20  # ps: the exchange-field precession time scale
+
+
+def test_fluctuation_time_grows_toward_tc_from_above():
+    r = _taus(10, [(1.6, 100e-12), (1.3, 150e-12), (1.1, 300e-12)])
+    _check(r)
+    # the verdict flips with the exposure: a ps exposure catches a partly averaged pattern,
+    # a 10 ms exposure averages it out to grey; a 10 fs exposure freezes it
+    tau_s = r[-1]["tau_ps"] * 1e-12
+    assert exposure_verdict(tau_s, 1e-12) == "blurred/partly averaged"
+    assert exposure_verdict(tau_s, 10e-3) == "averaged out to grey"
+    assert exposure_verdict(tau_s, 1e-14) == "frozen"
+
+
+def test_fluctuation_time_inputs():
+    with pytest.raises(ValueError, match="temperature"):
+        fluctuation_time(_model(4), 0.0, damping=0.5, time_step_s=1e-15, duration_s=1e-12)
+    with pytest.raises(ValueError, match="samples"):
+        fluctuation_time(_model(4), 10.0, damping=0.5, time_step_s=1e-15, duration_s=1e-12,
+                         sample_every_s=0.5e-12)
+
+
+@pytest.mark.slow
+def test_fluctuation_time_grows_toward_tc_from_above_long():
+    _check(_taus(16, [(1.6, 400e-12), (1.3, 600e-12), (1.1, 1000e-12)], seed=5))
