@@ -24,6 +24,7 @@ import numpy as np
 from ._io import atomic_write_text, write_json
 from .errors import InputError, ScenarioError
 from .fluctuation import exposure_verdict, fluctuation_time
+from .plan_curves import clean_json as _clean
 from .plan_curves import crossing, fill_errors, schedule, smooth_log
 from .record import read_csv_table
 from .scenario import Scenario, load_scenario
@@ -292,21 +293,6 @@ def _points(a, runs, ins, tc):
                     "fluctuation_time_extrapolated": extrap,
                     "fluctuation_time_over_exposure": tau * 1e-12 / ins["exposure_s"], "verdict": verdict})
     return out
-
-
-def _clean(v):
-    """JSON-ready copy: arrays to lists, NaN and inf to None."""
-    if isinstance(v, dict):
-        return {k: _clean(x) for k, x in v.items()}
-    if isinstance(v, (list, tuple, np.ndarray)):
-        return [_clean(x) for x in (v.tolist() if isinstance(v, np.ndarray) else v)]
-    if isinstance(v, (bool, np.bool_)):
-        return bool(v)
-    if isinstance(v, (float, np.floating)):
-        return float(v) if math.isfinite(v) else None
-    if isinstance(v, np.integer):
-        return int(v)
-    return v
 
 
 def _edge(d):

@@ -203,7 +203,7 @@ def markdown(plan):
              f"{_edge_text(hi, ehi, bhi)}: from where the typical domain diameter falls below the view "
              f"limit ({plan['view_limit_nm']:.3g} nm) to where the {plan['breakup_upper_edge_from']} "
              f"falls below the resolution.",
-             f"- **Resolved window**: " + ("none. " if plan["resolved_window_K"] is None else
+             "- **Resolved window**: " + ("none. " if plan["resolved_window_K"] is None else
                                          f"{plan['resolved_window_K'][0]:.4g}-{plan['resolved_window_K'][1]:.4g} K. ")
              + plan["resolved_note"],
              f"- **Time scales**: {plan['timescale_note']}", "",
