@@ -40,13 +40,14 @@ _CHUNKS = 32
 def heun_work(ny, nx, nbands):
     """Work arrays (edge, ring_sp, ring_d1, ring_nz, hbuf) of ``heun_run`` for nbands bands.
 
-    edge (nbands, 4, nx, 3): first and last two rows of each band at the start of a step.
+    edge (nbands, 8, nx, 3): first and last two rows of each band at the start of a step
+    (slots 0-3 even steps, 4-7 odd steps).
     ring_sp (nbands, 6, 3, L): slots 0-2 start-of-step rows, 3-5 predictor rows (padded SoA).
     ring_d1 (nbands, 3, 3, L): predictor increments. ring_nz (nbands, 3, 3 nx): thermal field.
     hbuf (nbands, 2, 3, L): slot 0 an all-zero row (missing neighbours), slot 1 the field.
     """
     L = row_pad(nx)
-    return (np.empty((nbands, 4, nx, 3)), np.zeros((nbands, 6, 3, L)),
+    return (np.empty((nbands, 8, nx, 3)), np.zeros((nbands, 6, 3, L)),
             np.zeros((nbands, 3, 3, L)), np.zeros((nbands, 3, 3 * nx)),
             np.zeros((nbands, 2, 3, L)))
 
@@ -151,13 +152,23 @@ def _correct(pcur, h, old, d1, gdt, alpha, nx, out):
 
 
 @nb.njit(inline="always", **_OPT)
-def _old_row(s, edge, a, h, o, bnd, nbands):
+def _old_row(s, edge, a, h, o, bnd, nbands, base):
     """Row at band offset o (-2 .. h + 1) as it was at the start of the step."""
     if o < 0:
-        return edge[(bnd - 1) % nbands, 4 + o]
+        return edge[(bnd - 1) % nbands, base + 4 + o]
     if o >= h:
-        return edge[(bnd + 1) % nbands, o - h]
+        return edge[(bnd + 1) % nbands, base + o - h]
     return s[a + o]
+
+
+@nb.njit(**_OPT)
+def _save_edges(s, edge, base, bnd, nbands, ny):
+    a = bnd * ny // nbands
+    e = (bnd + 1) * ny // nbands
+    edge[bnd, base] = s[a]
+    edge[bnd, base + 1] = s[a + 1]
+    edge[bnd, base + 2] = s[e - 2]
+    edge[bnd, base + 3] = s[e - 1]
 
 
 @nb.njit(inline="always", **_OPT)
@@ -166,13 +177,13 @@ def _exists(a, o, ny, periodic):
 
 
 @nb.njit(**_OPT)
-def _band_predict(s, edge, a, h, o, bnd, nbands, ny, k, sigma, code, periodic, jt, kt, axis,
+def _band_predict(s, edge, base, a, h, o, bnd, nbands, ny, k, sigma, code, periodic, jt, kt, axis,
                   bx, by, bz, gdt, alpha, ring_sp, ring_d1, ring_nz, hbuf):
     """Predictor of band row o; loads start-of-step row o + 1 (rows o - 1, o are loaded)."""
     nx = s.shape[1]
     zero = hbuf[bnd, 0]
     if _exists(a, o + 1, ny, periodic):
-        load_row(_old_row(s, edge, a, h, o + 1, bnd, nbands), ring_sp[bnd, (o + 4) % 3],
+        load_row(_old_row(s, edge, a, h, o + 1, bnd, nbands, base), ring_sp[bnd, (o + 4) % 3],
                  periodic)
     rr = (a + o) % ny
     cur = ring_sp[bnd, (o + 3) % 3]
@@ -219,6 +230,10 @@ def heun_run(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db, temp
     """
     ny = s.shape[0]
     hbuf[:, 0] = 0.0
+    # edge rows double-buffered by step parity: each band saves its own edge rows when it
+    # finishes a step, so a step needs one synchronisation (the end of the prange) only
+    for bnd in nb.prange(nbands):
+        _save_edges(s, edge, 0, bnd, nbands, ny)
     for n in range(n_steps):
         temp = temp0 + dtemp * n
         if temp < 0.0:
@@ -228,33 +243,29 @@ def heun_run(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db, temp
         by = b0[1] + db[1] * n
         bz = b0[2] + db[2] * n
         k = key(seed, 0, step0 + n)
-        for bnd in nb.prange(nbands):
-            a = bnd * ny // nbands
-            e = (bnd + 1) * ny // nbands
-            edge[bnd, 0] = s[a]
-            edge[bnd, 1] = s[a + 1]
-            edge[bnd, 2] = s[e - 2]
-            edge[bnd, 3] = s[e - 1]
+        base = 4 * (n % 2)
         for bnd in nb.prange(nbands):
             a = bnd * ny // nbands
             e = (bnd + 1) * ny // nbands
             h = e - a
             start = -1 if _exists(a, -1, ny, periodic) else 0
             if _exists(a, start - 1, ny, periodic):
-                load_row(_old_row(s, edge, a, h, start - 1, bnd, nbands),
+                load_row(_old_row(s, edge, a, h, start - 1, bnd, nbands, base),
                          ring_sp[bnd, (start + 2) % 3], periodic)
-            load_row(_old_row(s, edge, a, h, start, bnd, nbands), ring_sp[bnd, (start + 3) % 3],
-                     periodic)
+            load_row(_old_row(s, edge, a, h, start, bnd, nbands, base),
+                     ring_sp[bnd, (start + 3) % 3], periodic)
             for o in range(start, 1):
-                _band_predict(s, edge, a, h, o, bnd, nbands, ny, k, sigma, code, periodic, jt,
-                              kt, axis, bx, by, bz, gdt, alpha, ring_sp, ring_d1, ring_nz, hbuf)
+                _band_predict(s, edge, base, a, h, o, bnd, nbands, ny, k, sigma, code,
+                              periodic, jt, kt, axis, bx, by, bz, gdt, alpha, ring_sp, ring_d1,
+                              ring_nz, hbuf)
             for o in range(h):
                 if _exists(a, o + 1, ny, periodic):
-                    _band_predict(s, edge, a, h, o + 1, bnd, nbands, ny, k, sigma, code,
+                    _band_predict(s, edge, base, a, h, o + 1, bnd, nbands, ny, k, sigma, code,
                                   periodic, jt, kt, axis, bx, by, bz, gdt, alpha, ring_sp,
                                   ring_d1, ring_nz, hbuf)
                 _band_correct(s, a, o, bnd, ny, code, periodic, jt, kt, axis, bx, by, bz, gdt,
                               alpha, ring_sp, ring_d1, ring_nz, hbuf)
+            _save_edges(s, edge, 4 - base, bnd, nbands, ny)
 
 
 @nb.njit(parallel=True, **_OPT)
