@@ -171,7 +171,7 @@ class SweepSpec:
     refine: str | None = None
     order: str = "independent"
     cluster: str | None = None
-    snapshots: int = 4
+    snapshots: int = 20
 
 
 @dataclass(frozen=True)
@@ -497,7 +497,7 @@ def load_scenario(source):
     cluster = sw.raw("cluster")
     if cluster is not None and (not isinstance(cluster, str) or "://" not in cluster):
         raise sw.error(f"must be a scheduler address such as 'tcp://host:8786', got {cluster!r}", "cluster")
-    n_snap = sw.number("snapshots", default=4, lo=1, integer=True)
+    n_snap = sw.number("snapshots", default=20, lo=1, integer=True)
     sweep = None
     if temps is not None and (len(temps) > 1 or sizes or refine):
         sweep = SweepSpec(temps, sizes, refine, order, cluster, n_snap)

@@ -39,6 +39,12 @@ COLUMN_UNITS = {
                               "(ordered-phase form where binder > 0.4)"),
     "correlation_length_nm_err": "nm, jackknife over snapshots",
     "correlation_length_fit_nm": "nm, Ornstein-Zernike fit of C(r) of S.n",
+    "correlation_length_sk_nm": ("nm, Ornstein-Zernike fit 1/S(k) = (1 + k^2 xi^2)/chi at small k != 0 "
+                                 "(connected correlations, both sides of Tc)"),
+    "correlation_length_sk_nm_err": "nm, jackknife over snapshots",
+    "correlation_length_instrument_nm": ("nm, as correlation_length_sk_nm but of the instrument view "
+                                         "(Gaussian PSF of FWHM = resolution, pixel size)"),
+    "correlation_length_instrument_nm_err": "nm, jackknife over snapshots",
     "correlation_length_fit_nm_err": "nm, jackknife over snapshots",
     "mean_domain_area_nm2": "nm^2, mean area of up and down domains, mean over snapshots",
     "mean_domain_area_nm2_err": "nm^2, standard error over snapshots",

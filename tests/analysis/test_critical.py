@@ -94,3 +94,18 @@ def test_estimate_tc_picks_the_method_by_the_number_of_sizes():
     one = estimate_tc({16: table[16]}, n_boot=30)
     assert one["method"] == "peak" and one["sizes"] == [16]
     assert one["tc_K"] == pytest.approx(t[0] + 3.2 * (t[1] - t[0]), rel=1e-6)
+
+
+def test_noise_in_the_ordered_plateau_does_not_fake_a_crossing():
+    # Below Tc both Binder curves sit at 2/3 (Binder 1981) with tiny errors; noise there can
+    # change the sign of U_L2 - U_L1. The real crossing, where the curves fall apart
+    # significantly, must win (common practice: look where the curves separate).
+    t = np.arange(20.0, 57.0, 3.0)
+    u16 = np.array([0.66599, 0.66558, 0.6654, 0.6642, 0.6628, 0.659, 0.652, 0.612, 0.481, 0.326,
+                    0.259, 0.135, 0.144])
+    u32 = np.array([0.66560, 0.66600, 0.6661, 0.6659, 0.6658, 0.665, 0.662, 0.652, 0.070, 0.077,
+                    0.127, 0.032, -0.076])
+    e16 = np.array([3e-5, 5e-5, 8e-5, 2e-4, 3e-4, 6e-4, 1e-3, 5e-3, 2e-2, 3e-2, 4e-2, 4e-2, 4e-2])
+    e32 = np.array([2e-5, 3e-5, 5e-5, 1e-4, 2e-4, 4e-4, 1e-3, 6e-3, 8e-2, 7e-2, 5e-2, 5e-2, 5e-2])
+    res = tc_from_binder_crossing(t, {16: (u16, e16), 32: (u32, e32)}, n_boot=200)
+    assert 41.0 < res["tc_K"] < 44.0, res["tc_K"]

@@ -44,6 +44,12 @@ def _crossing(t, ua, ea, ub, eb, idx, degree, t_guess):
     tc, uc = _crossing_deg(t, ua, ea, ub, eb, idx, degree, t_guess)
     if not np.isfinite(tc) and degree > 1:
         tc, uc = _crossing_deg(t, ua, ea, ub, eb, idx, 1, t_guess)
+    if not np.isfinite(tc):
+        # curves too sharp for smooth local fits (large L near Tc): linear interpolation
+        # between the bracketing temperatures of the (redrawn) data
+        r = _rough_crossing(t[idx], ua[idx], ub[idx], ea[idx], eb[idx])
+        if r is not None:
+            tc, uc = r, float(np.interp(r, t[idx], ua[idx]))
     return tc, uc
 
 
@@ -58,23 +64,35 @@ def _crossing_deg(t, ua, ea, ub, eb, idx, degree, t_guess):
         return np.nan, np.nan
     roots = np.polynomial.polynomial.polyroots(np.trim_zeros(diff, "b"))
     roots = roots[np.abs(roots.imag) < 1e-12].real + t0
-    lo, hi = tw[0], tw[-1]
-    pad = 0.25 * (hi - lo)
-    roots = roots[(roots >= lo - pad) & (roots <= hi + pad)]
+    # the crossing must stay near the bracket found in the data: within one local temperature
+    # step of the guess (a smooth fit that misplaces a sharp drop falls back to interpolation)
+    k = int(np.clip(np.searchsorted(t, t_guess), 1, t.size - 1))
+    step = t[k] - t[k - 1]
+    roots = roots[np.abs(roots - t_guess) <= step]
     if roots.size == 0:
         return np.nan, np.nan
     r = roots[np.argmin(np.abs(roots - t_guess))]
     return float(r), float(np.polynomial.polynomial.polyval(r - t0, ca))
 
 
-def _rough_crossing(t, ua, ub):
+def _rough_crossing(t, ua, ub, ea=None, eb=None):
+    """Bracket the crossing by linear interpolation of the data.
+
+    Where several sign changes of d = U_large - U_small occur (noise in the ordered plateau,
+    where both curves sit at 2/3 with tiny errors, can cross them), the most significant
+    change from d > 0 (below Tc) to d < 0 (above) is taken: the one whose smaller side, in
+    units of the combined error, is largest.
+    """
     d = ub - ua  # larger size minus smaller: > 0 below Tc, < 0 above
+    sig = np.ones_like(d) if ea is None or eb is None else np.sqrt(ea**2 + eb**2)
+    z = d / np.maximum(sig, 1e-300)
     changes = np.nonzero((d[:-1] > 0) & (d[1:] <= 0))[0]
     if changes.size == 0:
         changes = np.nonzero(np.sign(d[:-1]) != np.sign(d[1:]))[0]
     if changes.size == 0:
         return None
-    k = changes[0]
+    strength = np.minimum(np.abs(z[changes]), np.abs(z[changes + 1]))
+    k = changes[int(np.argmax(strength))]
     return float(t[k] + (t[k + 1] - t[k]) * d[k] / (d[k] - d[k + 1]))
 
 
@@ -117,7 +135,7 @@ def tc_from_binder_crossing(temps, curves, *, n_local=5, degree=2, n_boot=500, s
     t = data[sizes[0]][0]
     pairs = []
     for a, b in zip(sizes[:-1], sizes[1:], strict=True):
-        guess = _rough_crossing(t, data[a][1], data[b][1])
+        guess = _rough_crossing(t, data[a][1], data[b][1], data[a][2], data[b][2])
         if guess is None:
             raise ValueError(f"the Binder curves of L = {a} and {b} do not cross in "
                              f"[{t[0]:.4g}, {t[-1]:.4g}] K: widen the temperature range")
