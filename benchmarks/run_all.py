@@ -155,6 +155,9 @@ def engine_memory(n, threads):
     sim = LLGSimulation(model, temperature_K=10.0, damping=0.1, time_step_s=1e-15)
     sim.advance(1)
     del sim
+    import gc
+
+    gc.collect()
     tracemalloc.start()
     tracemalloc.reset_peak()
     sim = LLGSimulation(model, temperature_K=10.0, damping=0.1, time_step_s=1e-15)

@@ -50,10 +50,10 @@ def write_json(path, obj):
     return atomic_write_text(path, json.dumps(obj, indent=2, default=_default, allow_nan=True) + "\n")
 
 
-def write_npz(path, **arrays):
-    """Write a compressed NumPy .npz atomically."""
+def write_npz(path, *, compress=True, **arrays):
+    """Write a NumPy .npz atomically (compressed unless ``compress=False``, which is faster)."""
     buf = io.BytesIO()
-    np.savez_compressed(buf, **arrays)
+    (np.savez_compressed if compress else np.savez)(buf, **arrays)
     return atomic_write_bytes(path, buf.getvalue())
 
 

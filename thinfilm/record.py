@@ -115,7 +115,9 @@ class RunFolder:
     def write_snapshot(self, name, spins, lattice, **scalars):
         """Write ``snapshots/<name>.npz`` with spins, positions and geometry."""
         p = self.file(f"snapshots/{name}.npz") if "/" not in name else self.file(name)
-        write_npz(p, spins=np.asarray(spins, dtype=np.float64), positions_nm=lattice.positions_nm,
+        # uncompressed: a snapshot costs a memory copy, not a zlib pass (float spins barely compress)
+        write_npz(p, compress=False, spins=np.asarray(spins, dtype=np.float64),
+                  positions_nm=lattice.positions_nm,
                   spacing_nm=lattice.spacing_nm, box_nm=np.asarray(lattice.box_nm),
                   shape=lattice.shape, periodic=lattice.periodic,
                   **{k: np.asarray(v) for k, v in scalars.items()})
