@@ -42,8 +42,8 @@ COLUMN_UNITS = {
     "correlation_length_sk_nm": ("nm, Ornstein-Zernike fit 1/S(k) = (1 + k^2 xi^2)/chi at small k != 0 "
                                  "(connected correlations, both sides of Tc)"),
     "correlation_length_sk_nm_err": "nm, jackknife over snapshots",
-    "correlation_length_instrument_nm": ("nm, as correlation_length_sk_nm but of the instrument view "
-                                         "(Gaussian PSF of FWHM = resolution, pixel size)"),
+    "correlation_length_instrument_nm": ("nm, as correlation_length_nm (second moment) but of the "
+                                         "instrument view (Gaussian PSF of FWHM = resolution, pixel size)"),
     "correlation_length_instrument_nm_err": "nm, jackknife over snapshots",
     "correlation_length_fit_nm_err": "nm, jackknife over snapshots",
     "mean_domain_area_nm2": "nm^2, mean area of up and down domains, mean over snapshots",

@@ -309,10 +309,22 @@ def plot_sweep(
     if any(drawn):
         out.append(_save(fig, out_dir / "sweep_thermodynamics.png"))
 
-    fig, axes = _figure(1, 2)
-    ok = _curves(axes[0], table, "correlation_length_nm", tc, r"correlation length $\xi$ (nm)")
+    fig, axes = _figure(1, 3)
+    ok = _curves(axes[0], table, "correlation_length_nm", tc,
+                 r"$\xi$ (nm), second moment; dashed: instrument view")
+    ok += _curves(axes[1], table, "correlation_length_sk_nm", tc,
+                  r"$\xi$ (nm), Ornstein-Zernike fit of S(k)")
+    if "correlation_length_instrument_nm" in table and np.isfinite(
+            table["correlation_length_instrument_nm"]).any():
+        for k, (size, sel) in enumerate(_by_size(table)):
+            t = table["temperature_K"][sel]
+            o = np.argsort(t)
+            axes[0].plot(t[o], table["correlation_length_instrument_nm"][sel][o], ls="--",
+                         color=OKABE_ITO[k % 8], lw=1.0,
+                         label=f"L = {size}, instrument" if size is not None else "instrument")
+        axes[0].legend(fontsize=7)
     ok += _curves(
-        axes[1],
+        axes[2],
         table,
         "mean_domain_area_nm2",
         tc,
