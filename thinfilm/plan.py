@@ -346,7 +346,7 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     sc = _scenario(source)
     ins = instrument_values(sc, resolution, exposure, field_of_view)
     if isinstance(n_points, bool) or not isinstance(n_points, (int, np.integer)) or n_points < 3:
-        raise InputError(f"n_points {n_points!r}: must be a whole number of at least 3 temperatures")
+        raise InputError(f"--points (n_points) {n_points!r}: must be a whole number of at least 3 temperatures")
     if isinstance(llg_size, bool) or not isinstance(llg_size, (int, np.integer)) or llg_size < 4:
         raise InputError(f"llg_size {llg_size!r}: must be a whole number L >= 4 (L x L sites)")
     dwell_s = _quantity("dwell", dwell, "time", "5 min")
