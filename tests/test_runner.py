@@ -78,3 +78,17 @@ def test_refuses_to_overwrite_a_run(tmp_path):
     run_dynamics(sc, tmp_path / "r", progress=False)
     with pytest.raises(InputError, match="already holds a run"):
         run_dynamics(sc, tmp_path / "r", progress=False)
+
+
+def test_initial_state_from_a_saved_snapshot(tmp_path):
+    # A run started from a saved snapshot starts exactly from its spins (common practice).
+    out = tmp_path / "first"
+    run_dynamics(load_scenario(SC | {"dynamics": {"duration": "0.2 ps"}}), out, progress=False)
+    snap = out / "snapshots" / "final.npz"
+    sc = load_scenario(SC | {"initial": str(snap), "temperature": "0 K",
+                             "dynamics": {"duration": "0.1 ps", "damping": 0.2}})
+    second = tmp_path / "second"
+    run_dynamics(sc, second, progress=False)
+    first_spins = load_snapshot(snap)["spins"]
+    start = load_snapshot(second / "snapshots" / "snap_000000.npz")["spins"]
+    assert np.allclose(first_spins, start, rtol=0, atol=1e-15)  # renormalised on loading

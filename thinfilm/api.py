@@ -25,6 +25,13 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
 
         run_sweep(sc, out_dir, resume=resume, overwrite=overwrite, workers=workers,
                   cluster=cluster or sc.sweep.cluster, progress=progress)
+        if sc.movie:  # one frame per temperature (largest size): the pattern across the sweep
+            from .render.movie import write_movie
+
+            write_movie(out_dir, Path(out_dir) / ("sweep_movie.gif" if sc.movie["gif"] else "sweep_movie.mp4"),
+                        fps=max(1, min(sc.movie["fps"], 4)), colour=sc.movie["colour"],
+                        gif=sc.movie["gif"], source="sweep",
+                        instrument=True if sc.movie["instrument"] and sc.instrument else None)
     else:
         from .runner import run_dynamics
 
