@@ -35,7 +35,8 @@ def test_free_spins_follow_the_langevin_function():
 @pytest.mark.parametrize("reflection", [False, True])
 def test_uniaxial_spins_follow_the_boltzmann_distribution(reflection):
     # exact Boltzmann average for one uniaxial spin, sigma = K/(kB T) = 2:
-    # <cos^2> = int x^2 e^(2x^2) dx / int e^(2x^2) dx = 0.5313 (PHYSICS-REFERENCES group 4)
+    # <cos^2> = int x^2 e^(2x^2) dx / int e^(2x^2) dx = 0.5313 (Boltzmann weight e^(-E/kBT) of
+    # E = -K cos^2 theta with the uniform measure d(cos theta) on the sphere, by quadrature)
     temp = 3.0
     kj = 2.0 * KB_J_PER_K * temp
     num = integrate.quad(lambda x: x * x * np.exp(2 * x * x), -1, 1)[0]

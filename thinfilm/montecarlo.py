@@ -4,8 +4,9 @@ Units: spins are unit vectors; the sampled distribution is exp(-E/(kB T)) with E
 energy in joules. A model with moment 1 muB and J = 1 meV has kB T/J = t at
 T = t * 11.6045 K (J/kB = 11.6045 K for 1 meV).
 
-One sweep visits every site once, in the row colouring of
-:mod:`thinfilm._kernels.metropolis`; each visit makes a Gaussian trial step, an optional
+One sweep visits every site once, class by class in the site colouring of
+:mod:`thinfilm._kernels.metropolis` (checkerboard, three colours on the triangular lattice, or
+row x column classes for sizes that allow neither); each visit makes a Gaussian trial step, an optional
 axis reflection S -> S - 2(S.n)n and ``over_relaxation`` over-relaxation moves. The Gaussian
 width sigma is tuned toward acceptance 0.5 only inside :meth:`MonteCarlo.warmup`; it is frozen
 during sampling so detailed balance holds.

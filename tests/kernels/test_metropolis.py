@@ -1,25 +1,36 @@
-"""Metropolis kernel: row colouring, thread and order independence, local energy changes."""
+"""Metropolis kernel: site colouring, race freedom, thread independence, local energy changes."""
 
 import numba
 import numpy as np
 import pytest
 import reference
 
+from thinfilm._kernels import metropolis as mk
 from thinfilm._kernels.metropolis import (
+    colour_table,
+    kernel_energy_changes,
     metropolis_sweeps,
     metropolis_sweeps_serial,
     row_colouring,
     row_sums_serial,
+    site_classes,
+    site_colouring,
     site_energy_change,
 )
 from thinfilm.lattice import Lattice
 
-# (shape, nx, ny, periodic): odd row counts wherever the lattice allows them
+# (shape, nx, ny, periodic): odd and tiny sizes wherever the lattice allows them; the periodic
+# cases cover the checkerboard / three-colour classes and every fallback (odd nx, odd ny,
+# triangular nx % 3 != 0)
 CASES = [
     ("square", 6, 5, True), ("square", 7, 7, True), ("square", 5, 6, True),
-    ("square", 5, 5, False), ("square", 3, 2, True), ("square", 4, 3, True),
-    ("triangular", 6, 6, True), ("triangular", 5, 4, True), ("triangular", 5, 7, False),
-    ("honeycomb", 6, 4, True), ("honeycomb", 8, 6, True), ("honeycomb", 5, 7, False),
+    ("square", 6, 6, True), ("square", 5, 5, False), ("square", 3, 2, True),
+    ("square", 4, 3, True), ("square", 2, 2, True), ("square", 1, 1, False),
+    ("square", 7, 1, False), ("square", 1, 4, False),
+    ("triangular", 6, 6, True), ("triangular", 5, 4, True), ("triangular", 8, 4, True),
+    ("triangular", 3, 2, True), ("triangular", 5, 7, False), ("triangular", 2, 2, True),
+    ("honeycomb", 6, 4, True), ("honeycomb", 8, 6, True), ("honeycomb", 2, 2, True),
+    ("honeycomb", 5, 7, False), ("honeycomb", 1, 3, False),
 ]
 
 
@@ -34,100 +45,166 @@ def _params():
     return 1.3, 0.8, axis, np.array([0.1, -0.25, 0.4])  # jt, kt (T), axis, field (T)
 
 
+def _table(lat):
+    return site_colouring(lat.code, lat.nx, lat.ny, lat.periodic)
+
+
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
-def test_colouring_separates_every_bond_between_rows(shape, nx, ny, periodic):
-    # common practice (graph colouring): two rows updated together must share no bond
+def test_colouring_has_no_bond_inside_a_class(shape, nx, ny, periodic):
+    # graph colouring (common practice): sites updated together must share no bond
     lat = Lattice(shape, nx, ny, 0.3, periodic)
-    order, bounds = row_colouring(ny, periodic)
-    assert sorted(order.tolist()) == list(range(ny))
-    cls = np.empty(ny, dtype=int)
-    for c in range(len(bounds) - 1):
-        cls[order[bounds[c]:bounds[c + 1]]] = c
-    rows = lat.bonds() // nx
-    between = rows[:, 0] != rows[:, 1]
-    assert np.all(cls[rows[between, 0]] != cls[rows[between, 1]])
+    cls = site_classes(lat.code, nx, ny, periodic).ravel()
+    assert cls.min() >= 0
+    bonds = lat.bonds()
+    if len(bonds):
+        assert np.all(cls[bonds[:, 0]] != cls[bonds[:, 1]])
+    # neighbour table too (tiny periodic grids list a site's neighbour twice, never itself)
+    nb = lat.neighbours
+    for k in range(nb.shape[1]):
+        ok = nb[:, k] >= 0
+        assert np.all(cls[np.arange(lat.n_sites)[ok]] != cls[nb[ok, k]])
 
 
-def test_odd_periodic_rows_get_a_third_class():
-    order, bounds = row_colouring(5, True)
-    assert len(bounds) == 4 and order[bounds[2]:].tolist() == [4]
-    _, bounds_open = row_colouring(5, False)
-    assert len(bounds_open) == 3
+@pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
+def test_every_site_is_visited_once_per_sweep(shape, nx, ny, periodic):
+    lat = Lattice(shape, nx, ny, 0.3, periodic)
+    cb, bl = _table(lat)
+    seen = np.zeros((ny, nx), dtype=int)
+    visit = np.full((ny, nx), -1)
+    for i, j0, m, cnt, v0 in bl:
+        assert cnt >= 1 and j0 + m * (cnt - 1) < nx
+        seen[i, j0:j0 + m * cnt:m] += 1
+        visit[i, j0:j0 + m * cnt:m] = v0 + np.arange(cnt)
+    assert np.all(seen == 1)
+    assert sorted(visit.ravel().tolist()) == list(range(nx * ny))  # unique RNG counters
+    assert cb[0] == 0 and cb[-1] == len(bl) and np.all(np.diff(cb) > 0)
 
 
-def _run(kernel, s, order, bounds, lat, n=3, reflect=True, n_or=2, beta=2.0, sigma=0.6):
-    jt, kt, axis, b = _params()
+@pytest.mark.parametrize("shape,nx,ny,expected", [
+    ("square", 256, 256, 2), ("honeycomb", 256, 256, 2), ("triangular", 258, 256, 3),
+    ("triangular", 256, 256, 4), ("square", 255, 256, 6)])
+def test_number_of_classes(shape, nx, ny, expected):
+    cb, bl = site_colouring(Lattice(shape, nx, ny, 0.3, True).code, nx, ny, True)
+    assert len(cb) - 1 == expected
+    assert bl[:, 2].max() >= 2  # strided blocks (vectorised)
+
+
+def _run(kernel, s, lat, n=3, reflect=True, n_or=2, beta=2.0, sigma=0.6, params=None):
+    jt, kt, axis, b = params or _params()
+    order, bounds = row_colouring(lat.ny, lat.periodic)
     counts = np.zeros((lat.ny, 3), dtype=np.int64)
     kernel(s, order, bounds, lat.code, lat.periodic, jt, kt, axis, b, beta, sigma, 11, 1, 5,
            n, reflect, n_or, counts)
     return counts
 
 
+def _run_table(s, lat, cb, bl, n=3):
+    # the serial SoA sweep with a given block table (same random numbers per visit index)
+    jt, kt, axis, b = _params()
+    counts = np.zeros((lat.ny, 3), dtype=np.int64)
+    S, zero, buf, g = mk._work(s, bl)
+    mk._convert(s, S, lat.periodic, True, False)
+    mk._sweeps_soa_serial(S, zero, cb, bl, lat.nx, lat.code, lat.periodic, jt, kt, axis, b, 2.0,
+                          0.6, 11, 1, 5, n, True, 2, counts, buf, g)
+    mk._convert(s, S, lat.periodic, False, False)
+    return counts
+
+
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
-def test_result_does_not_depend_on_row_order_inside_a_class(shape, nx, ny, periodic, rng):
-    # a proper colouring makes rows of one class independent, so reversing them changes no bit
+def test_result_does_not_depend_on_block_order_inside_a_class(shape, nx, ny, periodic, rng):
+    # race freedom: blocks of one class are independent, so reversing them changes no bit
     lat = Lattice(shape, nx, ny, 0.3, periodic)
-    order, bounds = row_colouring(ny, periodic)
-    rev = order.copy()
-    for c in range(len(bounds) - 1):
-        rev[bounds[c]:bounds[c + 1]] = order[bounds[c]:bounds[c + 1]][::-1]
+    cb, bl = _table(lat)
+    rev = bl.copy()
+    for c in range(len(cb) - 1):
+        rev[cb[c]:cb[c + 1]] = bl[cb[c]:cb[c + 1]][::-1]
     s0 = _spins(rng, ny, nx)
     a, b = s0.copy(), s0.copy()
-    ca = _run(metropolis_sweeps_serial, a, order, bounds, lat)
-    cb = _run(metropolis_sweeps_serial, b, rev, bounds, lat)
-    assert np.array_equal(a, b) and np.array_equal(ca, cb)
+    ca = _run_table(a, lat, cb, bl)
+    cb_ = _run_table(b, lat, cb, rev)
+    assert np.array_equal(a, b) and np.array_equal(ca, cb_)
+    c = s0.copy()  # the public kernel is the same computation
+    assert np.array_equal(_run(metropolis_sweeps_serial, c, lat), ca) and np.array_equal(a, c)
 
 
 def test_order_check_detects_a_wrong_colouring(rng):
-    # sanity of the previous test: with all rows in one class, the order does matter
+    # sanity of the previous test: whole rows (stride 1) in one class, adjacent rows included
     lat = Lattice("square", 6, 6, 0.3, True)
-    order = np.arange(6, dtype=np.int64)
-    bounds = np.array([0, 6], dtype=np.int64)
+    bl = np.array([[i, 0, 1, 6, 6 * i] for i in range(6)], dtype=np.int64)
+    cb = np.array([0, 6], dtype=np.int64)
     s0 = _spins(rng, 6, 6)
     a, b = s0.copy(), s0.copy()
-    _run(metropolis_sweeps_serial, a, order, bounds, lat)
-    _run(metropolis_sweeps_serial, b, order[::-1].copy(), bounds, lat)
+    _run_table(a, lat, cb, bl)
+    _run_table(b, lat, cb, bl[::-1].copy())
     assert not np.array_equal(a, b)
 
 
-@pytest.mark.parametrize("shape,nx,ny,periodic", [c for c in CASES if c[2] >= 4])
+@pytest.mark.parametrize("shape,nx,ny,periodic", [c for c in CASES if c[1] * c[2] >= 12])
 def test_bitwise_independent_of_thread_count(shape, nx, ny, periodic, rng):
     lat = Lattice(shape, nx, ny, 0.3, periodic)
-    order, bounds = row_colouring(ny, periodic)
     s0 = _spins(rng, ny, nx)
     out = []
     saved = numba.get_num_threads()
     try:
-        for threads in sorted({1, numba.config.NUMBA_NUM_THREADS}):
+        for threads in sorted({1, 2, numba.config.NUMBA_NUM_THREADS}):
+            if threads > numba.config.NUMBA_NUM_THREADS:
+                continue
             numba.set_num_threads(threads)
             s = s0.copy()
-            c = _run(metropolis_sweeps, s, order, bounds, lat)
+            c = _run(metropolis_sweeps, s, lat)
             out.append((s, c))
     finally:
         numba.set_num_threads(saved)
     s = s0.copy()
-    out.append((s, _run(metropolis_sweeps_serial, s, order, bounds, lat)))
+    out.append((s, _run(metropolis_sweeps_serial, s, lat)))
     for s, c in out[1:]:
         assert np.array_equal(s, out[0][0]) and np.array_equal(c, out[0][1])
     assert not np.array_equal(out[0][0], s0)
 
 
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
-def test_local_energy_change_matches_full_reference_energy(shape, nx, ny, periodic, rng):
-    # exact: the energy difference of the full reference energy (bonds counted once)
+def test_kernel_energy_change_matches_full_reference_energy(shape, nx, ny, periodic, rng):
+    # exact: the energy difference of the full reference energy (bonds counted once), for a
+    # change of every site, through the sweep kernel's own gather (ghosts, zero rows, blocks)
     lat = Lattice(shape, nx, ny, 0.3, periodic)
     jt, kt, axis, b = _params()
     mu = 1.7
     kw = dict(exchange_J=jt * mu, anisotropy_J=kt * mu / 2, axis=axis, moment=mu, field_T=b)
     s = _spins(rng, ny, nx)
+    new = _spins(rng, ny, nx)
+    order, bounds = row_colouring(ny, periodic)
+    de = kernel_energy_changes(s, order, bounds, lat.code, periodic, jt, kt, axis, b, new) * mu
     e0 = reference.energy(lat, s, **kw)
-    for i, j in [(0, 0), (ny - 1, nx - 1), (0, nx - 1), (ny // 2, nx // 2), (ny - 1, 0)]:
-        new = rng.normal(size=3)
-        new /= np.linalg.norm(new)
-        de = site_energy_change(s, i, j, new, lat.code, periodic, jt, kt, axis, b) * mu
-        t = s.copy()
-        t[i, j] = new
-        assert de == pytest.approx(reference.energy(lat, t, **kw) - e0, rel=1e-10, abs=1e-12)
+    for i in range(ny):
+        for j in range(nx):
+            t = s.copy()
+            t[i, j] = new[i, j]
+            ref = reference.energy(lat, t, **kw) - e0
+            assert de[i, j] == pytest.approx(ref, rel=1e-10, abs=1e-12)
+            if (i + j) % 3 == 0:  # the AoS helper agrees as well
+                d2 = site_energy_change(s, i, j, new[i, j], lat.code, periodic, jt, kt, axis, b)
+                assert d2 * mu == pytest.approx(ref, rel=1e-10, abs=1e-12)
+
+
+@pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
+def test_over_relaxation_keeps_the_energy_exactly_without_anisotropy(shape, nx, ny, periodic,
+                                                                     rng):
+    # exact: with K = 0 and sigma = 0 every move keeps the energy (the over-relaxation reflects
+    # about the true local field), so sweeps must conserve it; stale ghost columns or a wrong
+    # neighbour row would not
+    lat = Lattice(shape, nx, ny, 0.3, periodic)
+    jt, _, axis, b = _params()
+    s = _spins(rng, ny, nx)
+    rows = np.empty((ny, 4))
+    row_sums_serial(s, lat.code, periodic, jt, 0.0, axis, b, rows)
+    e0 = rows[:, 3].sum()
+    s1 = s.copy()
+    c = _run(metropolis_sweeps_serial, s1, lat, n=3, reflect=False, n_or=1, sigma=0.0,
+             params=(jt, 0.0, axis, b))
+    row_sums_serial(s1, lat.code, periodic, jt, 0.0, axis, b, rows)
+    assert rows[:, 3].sum() == pytest.approx(e0, abs=1e-11 * lat.n_sites)
+    if lat.n_sites > 1 or b.any():
+        assert c[:, 2].sum() > 0 and not np.allclose(s1, s)
 
 
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
@@ -145,18 +222,51 @@ def test_row_sums_match_reference_energy_and_magnetisation(shape, nx, ny, period
     assert np.allclose(tot[:3], s.reshape(-1, 3).sum(axis=0), atol=1e-12)
 
 
-def test_zero_temperature_sweeps_never_raise_the_energy(rng):
+@pytest.mark.parametrize("shape,nx,ny", [("triangular", 8, 6), ("square", 7, 5),
+                                         ("honeycomb", 6, 4), ("triangular", 6, 6)])
+def test_zero_temperature_sweeps_never_raise_the_energy(shape, nx, ny, rng):
     # Metropolis rule: at beta -> infinity only moves with dE <= 0 are accepted
-    lat = Lattice("triangular", 8, 6, 0.3, True)
+    lat = Lattice(shape, nx, ny, 0.3, True)
     jt, kt, axis, b = _params()
-    order, bounds = row_colouring(lat.ny, True)
     s = _spins(rng, lat.ny, lat.nx)
     rows = np.empty((lat.ny, 4))
     energies = []
     for _ in range(5):
         row_sums_serial(s, lat.code, True, jt, kt, axis, b, rows)
         energies.append(rows[:, 3].sum())
-        _run(metropolis_sweeps_serial, s, order, bounds, lat, n=1, beta=1e12)
+        _run(metropolis_sweeps_serial, s, lat, n=1, beta=1e12)
     assert np.all(np.diff(energies) <= 1e-9)
     assert energies[-1] < energies[0]
     assert np.allclose(np.linalg.norm(s, axis=-1), 1.0, atol=1e-12)
+
+
+def test_colour_table_uses_the_row_classes_for_the_fallback():
+    order, bounds = row_colouring(5, True)
+    cb, bl = colour_table(0, 6, 5, True, order, bounds)
+    assert len(cb) - 1 == 6  # 3 row classes x 2 column classes
+    assert set(bl[cb[4]:cb[6], 0].tolist()) == {4}
+
+
+@pytest.mark.parametrize("shape,nx,ny", [("square", 16, 1), ("square", 15, 1)])
+def test_open_chain_follows_the_exact_heisenberg_chain_correlation(shape, nx, ny):
+    # exact (Fisher, Am. J. Phys. 32, 343 (1964)): in an open classical Heisenberg chain the
+    # bond vectors are independent, <S_i.S_i+1> = L(beta J) = coth(beta J) - 1/(beta J)
+    # (Langevin function); here beta J = 1.5 -> 0.4262315
+    lat = Lattice(shape, nx, ny, 0.3, False)
+    kj = 1.5
+    axis = np.array([0.0, 0.0, 1.0])
+    s = _spins(np.random.default_rng(4), ny, nx)
+    order, bounds = row_colouring(ny, False)
+    counts = np.zeros((ny, 3), dtype=np.int64)
+    vals = []
+    for t in range(3000):
+        metropolis_sweeps_serial(s, order, bounds, lat.code, False, 1.0, 0.0, axis,
+                                 np.zeros(3), kj, 0.9, 3, 1, t, 1, False, 1, counts)
+        if t >= 200:
+            vals.append(np.mean(np.einsum("ij,ij->i", s[0, 1:], s[0, :-1])))
+    vals = np.array(vals)
+    exact = 1.0 / np.tanh(kj) - 1.0 / kj
+    # tolerance: 5 standard errors from 50 blocks of the series (common practice)
+    blocks = vals[:len(vals) // 50 * 50].reshape(50, -1).mean(axis=1)
+    err = blocks.std(ddof=1) / np.sqrt(50)
+    assert abs(vals.mean() - exact) < 5 * err and err < 0.01
