@@ -43,3 +43,16 @@ def heun_step(lattice, s, noise_T, dt, *, gamma, alpha, **field_kw):
     d2 = llg_rhs(sp, h2, gamma, alpha) * dt
     out = s + 0.5 * (d1 + d2)
     return out / np.linalg.norm(out, axis=-1, keepdims=True)
+
+
+def random_spins(rng, ny, nx):
+    """Uniformly random unit spins, C-contiguous (ny, nx, 3)."""
+    s = rng.normal(size=(ny, nx, 3))
+    return np.ascontiguousarray(s / np.linalg.norm(s, axis=-1, keepdims=True))
+
+
+def kernel_params():
+    """(jt, kt, axis, field) in tesla for kernel tests: generic, all terms on."""
+    axis = np.array([0.3, -0.2, 0.9])
+    axis /= np.linalg.norm(axis)
+    return 1.3, 0.8, axis, np.array([0.1, -0.25, 0.4])

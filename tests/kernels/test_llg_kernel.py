@@ -34,15 +34,8 @@ GAMMA = 1.7
 DT = 0.01
 
 
-def _spins(rng, ny, nx):
-    s = rng.normal(size=(ny, nx, 3))
-    return np.ascontiguousarray(s / np.linalg.norm(s, axis=-1, keepdims=True))
-
-
-def _params():
-    axis = np.array([0.3, -0.2, 0.9])
-    axis /= np.linalg.norm(axis)
-    return 1.3, 0.8, axis, np.array([0.1, -0.25, 0.4])  # jt, kt (T), axis, field (T)
+_spins = reference.random_spins
+_params = reference.kernel_params  # jt, kt (T), axis, field (T)
 
 
 def _run(s, lat, n_steps, step0, seed, temp0, dtemp, b0, db, sigma_coef, *, fused, nbands=None):
