@@ -1,4 +1,5 @@
-"""Metropolis kernel: site colouring, race freedom, thread independence, local energy changes."""
+"""Metropolis kernel: row colouring and chunks, race freedom, thread independence, local energy
+changes against the full reference energy, exact equilibrium of an open chain."""
 
 import numba
 import numpy as np
@@ -7,21 +8,17 @@ import reference
 
 from thinfilm._kernels import metropolis as mk
 from thinfilm._kernels.metropolis import (
-    colour_table,
+    chunk_table,
     kernel_energy_changes,
     metropolis_sweeps,
     metropolis_sweeps_serial,
     row_colouring,
     row_sums_serial,
-    site_classes,
-    site_colouring,
     site_energy_change,
 )
 from thinfilm.lattice import Lattice
 
-# (shape, nx, ny, periodic): odd and tiny sizes wherever the lattice allows them; the periodic
-# cases cover the checkerboard / three-colour classes and every fallback (odd nx, odd ny,
-# triangular nx % 3 != 0)
+# (shape, nx, ny, periodic): odd and tiny sizes wherever the lattice allows them
 CASES = [
     ("square", 6, 5, True), ("square", 7, 7, True), ("square", 5, 6, True),
     ("square", 6, 6, True), ("square", 5, 5, False), ("square", 3, 2, True),
@@ -45,48 +42,55 @@ def _params():
     return 1.3, 0.8, axis, np.array([0.1, -0.25, 0.4])  # jt, kt (T), axis, field (T)
 
 
-def _table(lat):
-    return site_colouring(lat.code, lat.nx, lat.ny, lat.periodic)
+def _tables(lat, split_rows=False):
+    order, bounds = row_colouring(lat.ny, lat.periodic)
+    cb, ch = chunk_table(order, bounds)
+    if split_rows:  # one chunk per row: the finest split the kernel allows
+        ch = np.array([[order[r], 1, r] for r in range(lat.ny)], dtype=np.int64)
+        cb = bounds.copy()
+    return cb, ch
 
 
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
-def test_colouring_has_no_bond_inside_a_class(shape, nx, ny, periodic):
-    # graph colouring (common practice): sites updated together must share no bond
+def test_colouring_separates_every_bond_between_rows(shape, nx, ny, periodic):
+    # graph colouring (common practice): two rows updated together must share no bond
     lat = Lattice(shape, nx, ny, 0.3, periodic)
-    cls = site_classes(lat.code, nx, ny, periodic).ravel()
-    assert cls.min() >= 0
-    bonds = lat.bonds()
-    if len(bonds):
-        assert np.all(cls[bonds[:, 0]] != cls[bonds[:, 1]])
-    # neighbour table too (tiny periodic grids list a site's neighbour twice, never itself)
-    nb = lat.neighbours
-    for k in range(nb.shape[1]):
-        ok = nb[:, k] >= 0
-        assert np.all(cls[np.arange(lat.n_sites)[ok]] != cls[nb[ok, k]])
+    order, bounds = row_colouring(ny, periodic)
+    assert sorted(order.tolist()) == list(range(ny))
+    cls = np.empty(ny, dtype=int)
+    for c in range(len(bounds) - 1):
+        cls[order[bounds[c]:bounds[c + 1]]] = c
+    rows = lat.bonds() // nx
+    between = rows[:, 0] != rows[:, 1]
+    assert np.all(cls[rows[between, 0]] != cls[rows[between, 1]])
 
 
-@pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
-def test_every_site_is_visited_once_per_sweep(shape, nx, ny, periodic):
-    lat = Lattice(shape, nx, ny, 0.3, periodic)
-    cb, bl = _table(lat)
-    seen = np.zeros((ny, nx), dtype=int)
-    visit = np.full((ny, nx), -1)
-    for i, j0, m, cnt, v0 in bl:
-        assert cnt >= 1 and j0 + m * (cnt - 1) < nx
-        seen[i, j0:j0 + m * cnt:m] += 1
-        visit[i, j0:j0 + m * cnt:m] = v0 + np.arange(cnt)
-    assert np.all(seen == 1)
-    assert sorted(visit.ravel().tolist()) == list(range(nx * ny))  # unique RNG counters
-    assert cb[0] == 0 and cb[-1] == len(bl) and np.all(np.diff(cb) > 0)
+def test_odd_periodic_rows_get_a_third_class():
+    order, bounds = row_colouring(5, True)
+    assert len(bounds) == 4 and order[bounds[2]:].tolist() == [4]
+    _, bounds_open = row_colouring(5, False)
+    assert len(bounds_open) == 3
 
 
-@pytest.mark.parametrize("shape,nx,ny,expected", [
-    ("square", 256, 256, 2), ("honeycomb", 256, 256, 2), ("triangular", 258, 256, 3),
-    ("triangular", 256, 256, 4), ("square", 255, 256, 6)])
-def test_number_of_classes(shape, nx, ny, expected):
-    cb, bl = site_colouring(Lattice(shape, nx, ny, 0.3, True).code, nx, ny, True)
-    assert len(cb) - 1 == expected
-    assert bl[:, 2].max() >= 2  # strided blocks (vectorised)
+@pytest.mark.parametrize("ny,periodic", [(1, False), (2, True), (3, True), (7, True), (7, False),
+                                         (64, True), (256, True), (257, True), (1024, True)])
+def test_chunks_cover_every_row_once_with_unique_random_counters(ny, periodic):
+    order, bounds = row_colouring(ny, periodic)
+    cb, ch = chunk_table(order, bounds)
+    nx = 5
+    rows = []
+    visits = []
+    for c in range(len(cb) - 1):
+        cls_rows = set(order[bounds[c]:bounds[c + 1]].tolist())
+        for i0, n, r0 in ch[cb[c]:cb[c + 1]]:
+            chunk_rows = list(range(i0, i0 + 2 * n, 2))
+            assert set(chunk_rows) <= cls_rows and order[r0] == i0
+            rows += chunk_rows
+            visits += [r0 * nx + j * n + q for j in range(nx) for q in range(n)]
+    assert sorted(rows) == list(range(ny))
+    assert sorted(visits) == list(range(nx * ny))  # counters 2 v0 + p and (2 + u) N + v unique
+    if ny >= 256 and ny % 2 == 0:
+        assert ch[:, 1].min() >= 64  # long SIMD loops
 
 
 def _run(kernel, s, lat, n=3, reflect=True, n_or=2, beta=2.0, sigma=0.6, params=None):
@@ -98,44 +102,49 @@ def _run(kernel, s, lat, n=3, reflect=True, n_or=2, beta=2.0, sigma=0.6, params=
     return counts
 
 
-def _run_table(s, lat, cb, bl, n=3):
-    # the serial SoA sweep with a given block table (same random numbers per visit index)
+def _run_table(s, lat, cb, ch, n=3):
+    # the serial sweep with a given chunk table
     jt, kt, axis, b = _params()
     counts = np.zeros((lat.ny, 3), dtype=np.int64)
-    S, zero, buf, g = mk._work(s, bl)
-    mk._convert(s, S, lat.periodic, True, False)
-    mk._sweeps_soa_serial(S, zero, cb, bl, lat.nx, lat.code, lat.periodic, jt, kt, axis, b, 2.0,
-                          0.6, 11, 1, 5, n, True, 2, counts, buf, g)
-    mk._convert(s, S, lat.periodic, False, False)
+    T, zc, buf, g, cnt = mk._work(s, ch)
+    mk._convert(s, T, lat.periodic, True, False)
+    mk._run_sweeps(T, zc, cb, ch, lat.ny, lat.code, lat.periodic, jt, kt, axis, b, 2.0, 0.6, 11,
+                   1, 5, n, True, 2, counts, buf, g, cnt, False)
+    mk._convert(s, T, lat.periodic, False, False)
     return counts
 
 
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
-def test_result_does_not_depend_on_block_order_inside_a_class(shape, nx, ny, periodic, rng):
-    # race freedom: blocks of one class are independent, so reversing them changes no bit
+def test_result_does_not_depend_on_chunk_order_inside_a_class(shape, nx, ny, periodic, rng):
+    # race freedom: the rows of one class are independent, so running the (one-row) chunks of
+    # a class in reverse order changes no bit
     lat = Lattice(shape, nx, ny, 0.3, periodic)
-    cb, bl = _table(lat)
-    rev = bl.copy()
+    cb, ch = _tables(lat, split_rows=True)
+    rev = ch.copy()
     for c in range(len(cb) - 1):
-        rev[cb[c]:cb[c + 1]] = bl[cb[c]:cb[c + 1]][::-1]
+        rev[cb[c]:cb[c + 1]] = ch[cb[c]:cb[c + 1]][::-1]
     s0 = _spins(rng, ny, nx)
     a, b = s0.copy(), s0.copy()
-    ca = _run_table(a, lat, cb, bl)
+    ca = _run_table(a, lat, cb, ch)
     cb_ = _run_table(b, lat, cb, rev)
     assert np.array_equal(a, b) and np.array_equal(ca, cb_)
-    c = s0.copy()  # the public kernel is the same computation
-    assert np.array_equal(_run(metropolis_sweeps_serial, c, lat), ca) and np.array_equal(a, c)
+    assert not np.array_equal(a, s0)
+    c = s0.copy()  # the public kernel is the same computation with its own chunks
+    cb2, ch2 = _tables(lat)
+    cc = _run_table(c, lat, cb2, ch2)
+    d = s0.copy()
+    assert np.array_equal(_run(metropolis_sweeps_serial, d, lat), cc) and np.array_equal(c, d)
 
 
 def test_order_check_detects_a_wrong_colouring(rng):
-    # sanity of the previous test: whole rows (stride 1) in one class, adjacent rows included
+    # sanity of the previous test: with all rows in one class, the order does matter
     lat = Lattice("square", 6, 6, 0.3, True)
-    bl = np.array([[i, 0, 1, 6, 6 * i] for i in range(6)], dtype=np.int64)
+    ch = np.array([[i, 1, i] for i in range(6)], dtype=np.int64)
     cb = np.array([0, 6], dtype=np.int64)
     s0 = _spins(rng, 6, 6)
     a, b = s0.copy(), s0.copy()
-    _run_table(a, lat, cb, bl)
-    _run_table(b, lat, cb, bl[::-1].copy())
+    _run_table(a, lat, cb, ch)
+    _run_table(b, lat, cb, ch[::-1].copy())
     assert not np.array_equal(a, b)
 
 
@@ -238,13 +247,6 @@ def test_zero_temperature_sweeps_never_raise_the_energy(shape, nx, ny, rng):
     assert np.all(np.diff(energies) <= 1e-9)
     assert energies[-1] < energies[0]
     assert np.allclose(np.linalg.norm(s, axis=-1), 1.0, atol=1e-12)
-
-
-def test_colour_table_uses_the_row_classes_for_the_fallback():
-    order, bounds = row_colouring(5, True)
-    cb, bl = colour_table(0, 6, 5, True, order, bounds)
-    assert len(cb) - 1 == 6  # 3 row classes x 2 column classes
-    assert set(bl[cb[4]:cb[6], 0].tolist()) == {4}
 
 
 @pytest.mark.parametrize("shape,nx,ny", [("square", 16, 1), ("square", 15, 1)])

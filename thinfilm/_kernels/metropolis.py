@@ -1,21 +1,23 @@
-"""Metropolis sweeps (Gaussian step, axis reflection, over-relaxation) on site colour classes.
+"""Metropolis sweeps (Gaussian step, axis reflection, over-relaxation) over row classes,
+vectorised across the rows of a class.
 
-Site colouring. On all three lattices a site couples only to sites in its own row and in rows
-i - 1 and i + 1 (see :mod:`thinfilm.lattice`). :func:`site_colouring` splits the sites into
-classes with no bond inside a class, each class made of *blocks*: one row i, the columns
-j0, j0 + m, ..., (count sites, stride m). The sites of one class are updated independently
-(in parallel over blocks, vectorised inside a block); classes are swept one after the other,
-so every site is visited once per sweep in a fixed order.
+Row colouring. On all three lattices a site couples only to sites in its own row and in rows
+i - 1 and i + 1 (see :mod:`thinfilm.lattice`), so two rows may be updated at the same time
+whenever they are not adjacent. :func:`row_colouring` puts the rows in classes:
 
-* square and honeycomb (bipartite; open edges, or periodic with nx and ny even): checkerboard,
-  class p holds the sites with (i + j) % 2 == p, stride 2. On the honeycomb brick wall every
-  site of one block then has its vertical bond on the same side.
-* triangular (open edges, or periodic with nx % 3 == 0): 3 classes,
-  c = (j - i - floor(i/2)) mod 3, stride 3. The six neighbour offsets change c by +-1 or +-2,
-  and a shift by ny rows (ny even) changes it by -3 ny/2 = 0 mod 3.
-* otherwise (periodic square with an odd side, periodic triangular with nx % 3 != 0): the row
-  classes of :func:`row_colouring` times column classes (even columns, odd columns, and for
-  odd nx the last column alone, which the wrap bonds to column 0), stride 2.
+* class 0: even rows, class 1: odd rows;
+* periodic edges with an odd number of rows: the last row (even) is adjacent to row 0 (even)
+  through the wrap, so it forms a class 2 of its own.
+
+Visiting order: classes one after the other; inside a class every row is swept left to right
+(j = 0 .. nx - 1), each site seeing its already updated left neighbour. The rows of a class are
+independent, so the kernel updates column j of all rows of a chunk of the class at once: the
+spins are held transposed during the sweeps, T[j, c, 1 + i] (column j, component c, row i, one
+ghost row on each side: wrapped copies for periodic edges, zeros for open ones), and one
+column step is a stride-2 gather of spins and local fields into contiguous buffers followed by
+branch-free loops over the rows (candidate, energy change and acceptance computed for every
+row, the outcome selected), which compile to SIMD code. Chunks of a class (a fixed split of its
+rows, independent of the thread count) run in parallel.
 
 Moves at every visited site, all with symmetric proposals accepted by the Metropolis rule
 min(1, exp(-dE/kBT)), tested as log(u) <= -dE/kBT with u uniform in (0, 1]:
@@ -27,19 +29,13 @@ min(1, exp(-dE/kBT)), tested as log(u) <= -dE/kBT with u uniform in (0, 1]:
    S' = 2 (S.f) f/abs(f)^2 - S. It keeps the exchange + Zeeman energy; the anisotropy change
    is accepted by Metropolis.
 
-Inside a block the kernel gathers the spins and local fields of its sites into contiguous
-buffers and makes each move as one branch-free loop (candidate, energy change and acceptance
-computed for every site, the outcome selected), so the loops compile to SIMD code. The spins
-live in padded structure-of-arrays rows with ghost columns during the sweeps (see
-:mod:`.field`).
-
-Random numbers: counter-based, keyed by (seed, stream, sweep) (``rng.key``). With N sites and
-v the visit index of a site (its rank in the colouring order, blocks numbered in class order),
-a block of `count` sites starting at visit index v0 takes its 3 count Gaussian numbers from
-``normals_row`` at counters 2 v0 + p (component c of its q-th site is normal c count + q), and
-the uniform of move slot u (0 Gaussian, 1 reflection, 2 + r over-relaxation r) of a site from
-counter (2 + u) N + v. Results are therefore bitwise independent of the thread count, of the
-chunking of blocks and of the order of blocks inside a class.
+Random numbers: counter-based, keyed by (seed, stream, sweep) (``rng.key``). Sites are numbered
+in visiting order, v = (r0 + q) nx ... : a chunk of n rows whose first row has rank r0 in
+``order`` takes, at column j, the visit indices v0 + q with v0 = r0 nx + j n (q < n, row
+r0 + q of the order). Its 3 n Gaussian numbers come from ``normals_row`` at counters 2 v0 + p
+(component c of row q is normal c n + q), the uniform of move slot u (0 Gaussian,
+1 reflection, 2 + r over-relaxation r) from counter (2 + u) N + v (N sites). Results are
+therefore bitwise independent of the thread count and of the order of the chunks in a class.
 
 Energies: the local energy of S at a site with neighbour-spin sum h is, in units of mu_s * T,
 e(S) = -(jt h + b).S - (kt/2) (S.n)^2 with jt = J/mu_s and kt = 2K/mu_s (tesla). The kernels
@@ -51,15 +47,15 @@ import math
 import numba as nb
 import numpy as np
 
-from .field import load_row, neighbour_rows, row_pad
+from .field import neighbour_rows, row_pad
 from .rng import _bits_f64, fast_log, hash64, key, normals_row
 
 __all__ = [
     "row_colouring",
-    "site_colouring",
-    "colour_table",
+    "chunk_table",
     "neighbour_sum",
     "site_energy_change",
+    "kernel_energy_changes",
     "metropolis_sweeps",
     "metropolis_sweeps_serial",
     "row_sums",
@@ -69,11 +65,11 @@ __all__ = [
 
 N_COUNTS = 3  # accepted: gaussian, reflection, over-relaxation
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
-_CHUNKS = 32  # blocks of one class are split into at most this many chunks (scratch sets)
+CHUNK_ROWS = 64  # rows per chunk of a class (at least): long column loops; 3 x 64 normals
+# are 96 Box-Muller pairs, a whole number of SIMD iterations
+MAX_CHUNKS = 8  # chunks per class (at most): parallel work units
 _ONE_BITS = np.uint64(0x3FF0000000000000)
 _S12 = np.uint64(12)
-# block table columns
-B_ROW, B_J0, B_STRIDE, B_COUNT, B_VISIT = 0, 1, 2, 3, 4
 
 
 def row_colouring(ny, periodic):
@@ -104,97 +100,6 @@ def row_colouring(ny, periodic):
     order = np.array([r for c in classes for r in c], dtype=np.int64)
     bounds = np.cumsum([0] + [len(c) for c in classes]).astype(np.int64)
     return order, bounds
-
-
-@nb.njit(cache=True)
-def colour_table(code, nx, ny, periodic, order, bounds):
-    """Block table of the site colouring (see the module docstring).
-
-    order, bounds : row classes from :func:`row_colouring` (used by the fallback colouring).
-
-    Returns
-    -------
-    cbounds : int64 (n_classes + 1,)
-        Blocks blocks[cbounds[c]:cbounds[c + 1]] form class c.
-    blocks : int64 (n_blocks, 5)
-        Per block: row, first column j0, stride, count (>= 1), visit index of its first site.
-    """
-    mode = 2  # 0 checkerboard, 1 three colours, 2 rows x columns
-    if code != 1 and (not periodic or (nx % 2 == 0 and ny % 2 == 0)):
-        mode = 0
-    elif code == 1 and (not periodic or nx % 3 == 0):
-        mode = 1
-    if mode == 0:
-        n_cls = 2
-    elif mode == 1:
-        n_cls = 3
-    else:
-        n_cls = (bounds.shape[0] - 1) * (3 if nx % 2 == 1 and periodic else 2)
-    blocks = np.zeros((n_cls * ny, 5), dtype=np.int64)
-    cbounds = np.zeros(n_cls + 1, dtype=np.int64)
-    nb_ = 0
-    n_out = 0
-    visit = 0
-    for c in range(n_cls):
-        if mode == 0 or mode == 1:
-            m = 2 if mode == 0 else 3
-            for i in range(ny):
-                if mode == 0:
-                    j0 = (i + c) % 2
-                else:
-                    j0 = (c + i + i // 2) % 3
-                cnt = (nx - j0 + m - 1) // m
-                if cnt > 0:
-                    blocks[nb_, 0] = i
-                    blocks[nb_, 1] = j0
-                    blocks[nb_, 2] = m
-                    blocks[nb_, 3] = cnt
-                    blocks[nb_, 4] = visit
-                    visit += cnt
-                    nb_ += 1
-        else:
-            n_col = 3 if nx % 2 == 1 and periodic else 2
-            rc = c // n_col
-            cc = c % n_col
-            for r in range(bounds[rc], bounds[rc + 1]):
-                i = order[r]
-                if cc == 2:
-                    j0 = nx - 1
-                    m = 1
-                    cnt = 1
-                else:
-                    j0 = cc
-                    m = 2
-                    jend = nx - 1 if n_col == 3 else nx
-                    cnt = (jend - j0 + 1) // 2
-                if cnt > 0:
-                    blocks[nb_, 0] = i
-                    blocks[nb_, 1] = j0
-                    blocks[nb_, 2] = m
-                    blocks[nb_, 3] = cnt
-                    blocks[nb_, 4] = visit
-                    visit += cnt
-                    nb_ += 1
-        if nb_ > cbounds[n_out]:  # drop empty classes (tiny lattices)
-            n_out += 1
-            cbounds[n_out] = nb_
-    return cbounds[:n_out + 1], blocks[:nb_]
-
-
-def site_colouring(code, nx, ny, periodic):
-    """(cbounds, blocks) of :func:`colour_table` for a lattice code and size."""
-    order, bounds = row_colouring(ny, periodic)
-    return colour_table(code, nx, ny, periodic, order, bounds)
-
-
-def site_classes(code, nx, ny, periodic):
-    """Class of every site as an (ny, nx) int array (for tests and pictures)."""
-    cb, bl = site_colouring(code, nx, ny, periodic)
-    cls = -np.ones((ny, nx), dtype=np.int64)
-    for c in range(len(cb) - 1):
-        for i, j0, m, cnt, _ in bl[cb[c]:cb[c + 1]]:
-            cls[i, j0:j0 + m * cnt:m] = c
-    return cls
 
 
 @nb.njit(inline="always", cache=True)
@@ -276,7 +181,7 @@ def site_energy_change(s, i, j, new, code, periodic, jt, kt, axis, b):
     return -(fx * dx + fy * dy + fz * dz) - 0.5 * kt * (pn * pn - sn * sn)
 
 
-# ---------------------------------------------------------------- block update
+# ---------------------------------------------------------------- moves
 
 @nb.njit(inline="always", **_OPT)
 def _log_u(k, counter):
@@ -293,73 +198,10 @@ def _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, half_kt):
     return -(fx * (px - sx) + fy * (py - sy) + fz * (pz - sz)) - half_kt * (pn * pn - sn * sn)
 
 
-@nb.njit(inline="always", **_OPT)
-def _gather(code, m, t0, cna, sh, cur, rd, ru, jt, bx, by, bz, buf):
-    """Spins and local fields f = jt h + b of the sites t0 + m q (q < cna) into buf[0:6]."""
-    cx = cur[0]
-    cy = cur[1]
-    cz = cur[2]
-    ux = ru[0]
-    uy = ru[1]
-    uz = ru[2]
-    dx = rd[0]
-    dy = rd[1]
-    dz = rd[2]
-    sx = buf[0]
-    sy = buf[1]
-    sz = buf[2]
-    fx = buf[3]
-    fy = buf[4]
-    fz = buf[5]
-    if code == 0:
-        for q in range(cna):
-            t = t0 + m * q
-            sx[q] = cx[t]
-            sy[q] = cy[t]
-            sz[q] = cz[t]
-            fx[q] = jt * (cx[t - 1] + cx[t + 1] + ux[t] + dx[t]) + bx
-            fy[q] = jt * (cy[t - 1] + cy[t + 1] + uy[t] + dy[t]) + by
-            fz[q] = jt * (cz[t - 1] + cz[t + 1] + uz[t] + dz[t]) + bz
-    elif code == 1:
-        for q in range(cna):
-            t = t0 + m * q
-            u = t + sh
-            sx[q] = cx[t]
-            sy[q] = cy[t]
-            sz[q] = cz[t]
-            fx[q] = jt * (cx[t - 1] + cx[t + 1] + ux[t] + dx[t] + ux[u] + dx[u]) + bx
-            fy[q] = jt * (cy[t - 1] + cy[t + 1] + uy[t] + dy[t] + uy[u] + dy[u]) + by
-            fz[q] = jt * (cz[t - 1] + cz[t + 1] + uz[t] + dz[t] + uz[u] + dz[u]) + bz
-    else:  # honeycomb: ru is the one vertical neighbour row of the whole block
-        for q in range(cna):
-            t = t0 + m * q
-            sx[q] = cx[t]
-            sy[q] = cy[t]
-            sz[q] = cz[t]
-            fx[q] = jt * (cx[t - 1] + cx[t + 1] + ux[t]) + bx
-            fy[q] = jt * (cy[t - 1] + cy[t + 1] + uy[t]) + by
-            fz[q] = jt * (cz[t - 1] + cz[t + 1] + uz[t]) + bz
-
-
-@nb.njit(inline="always", **_OPT)
-def _scatter(m, t0, cna, cur, buf):
-    cx = cur[0]
-    cy = cur[1]
-    cz = cur[2]
-    sx = buf[0]
-    sy = buf[1]
-    sz = buf[2]
-    for q in range(cna):
-        t = t0 + m * q
-        cx[t] = sx[q]
-        cy[t] = sy[q]
-        cz[t] = sz[q]
-
-
 @nb.njit(**_OPT)
-def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, buf, g):
-    """The three moves for the na sites in buf (rows 0-2 spin, 3-5 local field); returns the
-    accepted counts (gaussian, reflection, over-relaxation)."""
+def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, buf, g, cnt):
+    """The three moves for the na sites in buf (rows 0-2 spin, 3-5 local field); accepted
+    moves (gaussian, reflection, over-relaxation) of site q are added to cnt[:, q]."""
     sx_ = buf[0]
     sy_ = buf[1]
     sz_ = buf[2]
@@ -370,7 +212,6 @@ def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, b
     normals_row(k, 2 * v0, sigma, gv)
     # 1. Gaussian step
     c0 = np.uint64(2 * nsites + v0)
-    n_gauss = 0
     for q in range(na):
         sx = sx_[q]
         sy = sy_[q]
@@ -390,9 +231,8 @@ def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, b
         sx_[q] = px if acc else sx
         sy_[q] = py if acc else sy
         sz_[q] = pz if acc else sz
-        n_gauss += 1 if acc else 0
+        cnt[0, q] += 1 if acc else 0
     # 2. reflection through the plane normal to the axis (anisotropy unchanged)
-    n_refl = 0
     if reflect:
         c0 = np.uint64(3 * nsites + v0)
         for q in range(na):
@@ -406,9 +246,8 @@ def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, b
             sx_[q] = sx - w * ax
             sy_[q] = sy - w * ay
             sz_[q] = sz - w * az
-            n_refl += 1 if acc else 0
+            cnt[1, q] += 1 if acc else 0
     # 3. over-relaxation about the exchange + Zeeman field
-    n_over = 0
     for r in range(n_or):
         c0 = np.uint64((4 + r) * nsites + v0)
         for q in range(na):
@@ -431,195 +270,283 @@ def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, b
             sx_[q] = px if acc else sx
             sy_[q] = py if acc else sy
             sz_[q] = pz if acc else sz
-            n_over += 1 if acc else 0
-    return n_gauss, n_refl, n_over
+            cnt[2, q] += 1 if acc else 0
+
+
+@nb.njit(cache=True)
+def chunk_table(order, bounds):
+    """Chunks of the row classes: cbounds (n_classes + 1,), chunks (n_chunks, 3).
+
+    chunks[cbounds[c]:cbounds[c + 1]] split class c; a chunk is (first row, n rows, rank of
+    its first row in order); its rows are first row + 2 q (q < n). The split depends only on
+    the class sizes (CHUNK_ROWS, MAX_CHUNKS), not on the thread count.
+    """
+    n_cls = bounds.shape[0] - 1
+    tot = 0
+    for c in range(n_cls):
+        tot += min(MAX_CHUNKS, max(1, (bounds[c + 1] - bounds[c]) // CHUNK_ROWS))
+    chunks = np.zeros((tot, 3), dtype=np.int64)
+    cbounds = np.zeros(n_cls + 1, dtype=np.int64)
+    e = 0
+    for c in range(n_cls):
+        n = bounds[c + 1] - bounds[c]
+        nch = min(MAX_CHUNKS, max(1, n // CHUNK_ROWS))
+        for ch in range(nch):
+            a = ch * n // nch
+            chunks[e, 0] = order[bounds[c] + a]
+            chunks[e, 1] = (ch + 1) * n // nch - a
+            chunks[e, 2] = bounds[c] + a
+            e += 1
+        cbounds[c + 1] = e
+    return cbounds, chunks
 
 
 @nb.njit(inline="always", **_OPT)
-def _block_rows(S, zero, i, j0, code, periodic):
-    """(row, row below, row above, triangular shift) buffers of a block of row i; a missing
-    row is the zero buffer; on the honeycomb the "above" buffer is the block's one vertical
-    neighbour row."""
-    dn, up, has_dn, has_up = neighbour_rows(i, S.shape[0], periodic)
-    rd = S[dn] if has_dn else zero
-    ru = S[up] if has_up else zero
-    sh = 0
+def _columns(T, zc, j, i0, code, periodic):
+    """(own, left, right, shifted) column buffers (3, LP) of column j for rows of parity
+    i0 % 2; a missing column is the zero buffer zc. shifted: the column j + s of the
+    triangular diagonal bonds (s = -1 from even rows, +1 from odd rows)."""
+    nx = T.shape[0]
+    if j > 0:
+        lft = T[j - 1]
+    else:
+        lft = T[nx - 1] if periodic else zc
+    if j < nx - 1:
+        rgt = T[j + 1]
+    else:
+        rgt = T[0] if periodic else zc
+    dia = zc
     if code == 1:
-        sh = -1 if i % 2 == 0 else 1
-    elif code == 2 and (i + j0) % 2 == 1:
-        ru = rd  # (i + j) odd on the whole block: the vertical bond goes down
-    return S[i], rd, ru, sh
-
-
-@nb.njit(**_OPT)
-def _block(S, zero, i, j0, m, cnt, v0, nsites, nx, code, periodic, jt, kt, ax, ay, az, bx, by,
-           bz, beta, sigma, k, reflect, n_or, counts, buf, g):
-    """Update the cnt sites (i, j0 + m q) of one block in the SoA spins S (ny, 3, L)."""
-    cur, rd, ru, sh = _block_rows(S, zero, i, j0, code, periodic)
-    t0 = j0 + 1
-    if m == 2:
-        _gather(code, 2, t0, cnt, sh, cur, rd, ru, jt, bx, by, bz, buf)
-    elif m == 3:
-        _gather(code, 3, t0, cnt, sh, cur, rd, ru, jt, bx, by, bz, buf)
-    else:
-        _gather(code, m, t0, cnt, sh, cur, rd, ru, jt, bx, by, bz, buf)
-    n1, n2, n3 = _moves(cnt, k, v0, nsites, ax, ay, az, 0.5 * kt, beta, sigma, reflect, n_or,
-                        buf, g)
-    if m == 2:
-        _scatter(2, t0, cnt, cur, buf)
-    elif m == 3:
-        _scatter(3, t0, cnt, cur, buf)
-    else:
-        _scatter(m, t0, cnt, cur, buf)
-    if periodic:  # refresh the ghost copies of updated edge sites
-        if j0 == 0:
-            for c in range(3):
-                cur[c, nx + 1] = cur[c, 1]
-        if j0 + m * (cnt - 1) == nx - 1:
-            for c in range(3):
-                cur[c, 0] = cur[c, nx]
-    counts[i, 0] += n1
-    counts[i, 1] += n2
-    counts[i, 2] += n3
-
-
-
-
-
-@nb.njit(**_OPT)
-def kernel_energy_changes(s, order, bounds, code, periodic, jt, kt, axis, b, new):
-    """Energy change (mu_s T) of every site (i, j) of s changing alone to new[i, j], computed
-    through the sweep kernel's own path (SoA rows, ghosts, block gather, move energy); s is not
-    modified. For tests against a full reference energy."""
-    ny, nx = s.shape[0], s.shape[1]
-    cbounds, blocks = colour_table(code, nx, ny, periodic, order, bounds)
-    S, zero, buf, g = _work(s, blocks)
-    _convert(s, S, periodic, True, False)
-    out = np.empty((ny, nx))
-    bb = buf[0]
-    for e in range(blocks.shape[0]):
-        i, j0, m, cnt = blocks[e, 0], blocks[e, 1], blocks[e, 2], blocks[e, 3]
-        cur, rd, ru, sh = _block_rows(S, zero, i, j0, code, periodic)
-        _gather(code, m, j0 + 1, cnt, sh, cur, rd, ru, jt, b[0], b[1], b[2], bb)
-        for q in range(cnt):
-            j = j0 + m * q
-            out[i, j] = _de(bb[0, q], bb[1, q], bb[2, q], new[i, j, 0], new[i, j, 1],
-                            new[i, j, 2], bb[3, q], bb[4, q], bb[5, q], axis[0], axis[1],
-                            axis[2], 0.5 * kt)
-    return out
-
-
-@nb.njit(**_OPT)
-def _to_soa(s, S, periodic, lo, hi):
-    for i in range(lo, hi):
-        load_row(s[i], S[i], periodic)
-
-
-@nb.njit(**_OPT)
-def _from_soa(S, s, lo, hi):
-    nx = s.shape[1]
-    for i in range(lo, hi):
-        f = s[i].reshape(3 * nx)
-        bx = S[i, 0]
-        by = S[i, 1]
-        bz = S[i, 2]
-        for j in range(nx):
-            f[3 * j] = bx[j + 1]
-            f[3 * j + 1] = by[j + 1]
-            f[3 * j + 2] = bz[j + 1]
-
-
-@nb.njit(**_OPT)
-def _work(s, blocks):
-    """SoA spins (ny, 3, L), a zero row (3, L) and per-chunk scratch (buf, g)."""
-    ny, nx = s.shape[0], s.shape[1]
-    L = row_pad(nx)
-    w = 1
-    for b in range(blocks.shape[0]):
-        w = max(w, blocks[b, B_COUNT])
-    w = (w + 7) // 8 * 8
-    return (np.empty((ny, 3, L)), np.zeros((3, L)), np.empty((_CHUNKS, 6, w)),
-            np.empty((_CHUNKS, 3 * w + 8)))
+        js = j - 1 if i0 % 2 == 0 else j + 1
+        if js >= 0 and js < nx:
+            dia = T[js]
+        elif periodic:
+            dia = T[js % nx]
+    return T[j], lft, rgt, dia
 
 
 @nb.njit(inline="always", **_OPT)
-def _chunk(S, zero, cbounds, blocks, c, ch, nch, nsites, nx, code, periodic, jt, kt, ax, ay,
-           az, bx, by, bz, beta, sigma, k, reflect, n_or, counts, buf, g):
-    a = cbounds[c]
-    n = cbounds[c + 1] - a
-    for e in range(a + ch * n // nch, a + (ch + 1) * n // nch):
-        _block(S, zero, blocks[e, 0], blocks[e, 1], blocks[e, 2], blocks[e, 3], blocks[e, 4],
-               nsites, nx, code, periodic, jt, kt, ax, ay, az, bx, by, bz, beta, sigma, k,
-               reflect, n_or, counts, buf[ch], g[ch])
+def _gather(code, vo, t0, n, cur, lft, rgt, dia, jt, bx, by, bz, buf):
+    """Spins and local fields f = jt h + b of rows t0 + 2 q (buffer index, q < n) into buf.
 
-
-@nb.njit(parallel=True, **_OPT)
-def _sweeps_soa(S, zero, cbounds, blocks, nx, code, periodic, jt, kt, axis, b, beta, sigma,
-                seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g):
-    """n_sweeps sweeps of the SoA spins; the blocks of one class run in parallel chunks."""
-    nsites = S.shape[0] * nx
-    ax, ay, az = axis[0], axis[1], axis[2]
-    bx, by, bz = b[0], b[1], b[2]
-    for t in range(n_sweeps):
-        k = key(seed, stream, sweep0 + t)
-        for c in range(cbounds.shape[0] - 1):
-            nch = min(_CHUNKS, cbounds[c + 1] - cbounds[c])
-            for ch in nb.prange(nch):
-                _chunk(S, zero, cbounds, blocks, c, ch, nch, nsites, nx, code, periodic, jt, kt,
-                       ax, ay, az, bx, by, bz, beta, sigma, k, reflect, n_or, counts, buf, g)
-
-
-@nb.njit(**_OPT)
-def _sweeps_soa_serial(S, zero, cbounds, blocks, nx, code, periodic, jt, kt, axis, b, beta,
-                       sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g):
-    """Single-thread twin of :func:`_sweeps_soa` (same chunks, same results bit for bit)."""
-    nsites = S.shape[0] * nx
-    ax, ay, az = axis[0], axis[1], axis[2]
-    bx, by, bz = b[0], b[1], b[2]
-    for t in range(n_sweeps):
-        k = key(seed, stream, sweep0 + t)
-        for c in range(cbounds.shape[0] - 1):
-            nch = min(_CHUNKS, cbounds[c + 1] - cbounds[c])
-            for ch in range(nch):
-                _chunk(S, zero, cbounds, blocks, c, ch, nch, nsites, nx, code, periodic, jt, kt,
-                       ax, ay, az, bx, by, bz, beta, sigma, k, reflect, n_or, counts, buf, g)
-
-
-@nb.njit(parallel=True, **_OPT)
-def _convert_par(s, S, periodic, to_soa):
-    ny = s.shape[0]
-    nch = min(_CHUNKS, ny)
-    for ch in nb.prange(nch):
-        if to_soa:
-            _to_soa(s, S, periodic, ch * ny // nch, (ch + 1) * ny // nch)
-        else:
-            _from_soa(S, s, ch * ny // nch, (ch + 1) * ny // nch)
-
-
-@nb.njit(**_OPT)
-def _convert(s, S, periodic, to_soa, parallel):
-    if parallel:
-        _convert_par(s, S, periodic, to_soa)
-    elif to_soa:
-        _to_soa(s, S, periodic, 0, s.shape[0])
+    vo : honeycomb vertical offset (+1 bond up, -1 bond down) of these rows in this column.
+    """
+    cx = cur[0]
+    cy = cur[1]
+    cz = cur[2]
+    lx = lft[0]
+    ly = lft[1]
+    lz = lft[2]
+    rx = rgt[0]
+    ry = rgt[1]
+    rz = rgt[2]
+    sx = buf[0]
+    sy = buf[1]
+    sz = buf[2]
+    fx = buf[3]
+    fy = buf[4]
+    fz = buf[5]
+    if code == 0:
+        for q in range(n):
+            t = t0 + 2 * q
+            sx[q] = cx[t]
+            sy[q] = cy[t]
+            sz[q] = cz[t]
+            fx[q] = jt * (lx[t] + rx[t] + cx[t + 1] + cx[t - 1]) + bx
+            fy[q] = jt * (ly[t] + ry[t] + cy[t + 1] + cy[t - 1]) + by
+            fz[q] = jt * (lz[t] + rz[t] + cz[t + 1] + cz[t - 1]) + bz
+    elif code == 1:
+        dx = dia[0]
+        dy = dia[1]
+        dz = dia[2]
+        for q in range(n):
+            t = t0 + 2 * q
+            sx[q] = cx[t]
+            sy[q] = cy[t]
+            sz[q] = cz[t]
+            fx[q] = jt * (lx[t] + rx[t] + cx[t + 1] + cx[t - 1] + dx[t + 1] + dx[t - 1]) + bx
+            fy[q] = jt * (ly[t] + ry[t] + cy[t + 1] + cy[t - 1] + dy[t + 1] + dy[t - 1]) + by
+            fz[q] = jt * (lz[t] + rz[t] + cz[t + 1] + cz[t - 1] + dz[t + 1] + dz[t - 1]) + bz
     else:
-        _from_soa(S, s, 0, s.shape[0])
+        for q in range(n):
+            t = t0 + 2 * q
+            u = t + vo
+            sx[q] = cx[t]
+            sy[q] = cy[t]
+            sz[q] = cz[t]
+            fx[q] = jt * (lx[t] + rx[t] + cx[u]) + bx
+            fy[q] = jt * (ly[t] + ry[t] + cy[u]) + by
+            fz[q] = jt * (lz[t] + rz[t] + cz[u]) + bz
+
+
+@nb.njit(inline="always", **_OPT)
+def _scatter(t0, n, cur, buf):
+    cx = cur[0]
+    cy = cur[1]
+    cz = cur[2]
+    sx = buf[0]
+    sy = buf[1]
+    sz = buf[2]
+    for q in range(n):
+        t = t0 + 2 * q
+        cx[t] = sx[q]
+        cy[t] = sy[q]
+        cz[t] = sz[q]
+
+
+@nb.njit(**_OPT)
+def _chunk_sweep(T, zc, i0, n, r0, ny, code, periodic, jt, kt, ax, ay, az, bx, by, bz, beta,
+                 sigma, k, reflect, n_or, counts, buf, g, cnt):
+    """Sweep the n rows i0 + 2 q of one chunk, column by column, left to right."""
+    nx = T.shape[0]
+    nsites = nx * ny
+    t0 = i0 + 1
+    last = i0 + 2 * (n - 1)
+    cnt[:, :n] = 0
+    for j in range(nx):
+        cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
+        vo = 1 if (i0 + j) % 2 == 0 else -1  # honeycomb: (i + j) even bonds up
+        _gather(code, vo, t0, n, cur, lft, rgt, dia, jt, bx, by, bz, buf)
+        _moves(n, k, r0 * nx + j * n, nsites, ax, ay, az, 0.5 * kt, beta, sigma, reflect, n_or,
+               buf, g, cnt)
+        _scatter(t0, n, cur, buf)
+        if periodic:  # ghost rows: copies of rows ny - 1 (index 0) and 0 (index ny + 1)
+            if i0 == 0:
+                for c in range(3):
+                    cur[c, ny + 1] = cur[c, 1]
+            if last == ny - 1:
+                for c in range(3):
+                    cur[c, 0] = cur[c, ny]
+    for q in range(n):
+        for c in range(3):
+            counts[i0 + 2 * q, c] += cnt[c, q]
+
+
+@nb.njit(**_OPT)
+def _work(s, chunks):
+    """Transposed spins T (nx, 3, LP), a zero column (3, LP), per-chunk scratch buf, g, cnt."""
+    ny, nx = s.shape[0], s.shape[1]
+    LP = row_pad(ny)
+    w = 1
+    for e in range(chunks.shape[0]):
+        w = max(w, chunks[e, 1])
+    w = (w + 7) // 8 * 8
+    nch = max(1, chunks.shape[0])
+    return (np.zeros((nx, 3, LP)), np.zeros((3, LP)), np.empty((nch, 6, w)),
+            np.empty((nch, 3 * w + 8)), np.empty((nch, 3, w), dtype=np.int64))
+
+
+_TILE = 16  # rows per tile of the transposes (16 cache lines stay in L1 across columns)
+
+
+@nb.njit(**_OPT)
+def _to_t(s, T, periodic, lo, hi):
+    """Rows lo..hi of s (ny, nx, 3) into T (nx, 3, LP) at 1 + i; the ghost rows when the
+    range holds row 0 or ny - 1 (copies of the wrapped rows, or zeros)."""
+    ny, nx = s.shape[0], s.shape[1]
+    for a in range(lo, hi, _TILE):
+        e = min(a + _TILE, hi)
+        for j in range(nx):
+            for c in range(3):
+                col = T[j, c]
+                for i in range(a, e):
+                    col[i + 1] = s[i, j, c]
+    for j in range(nx):
+        for c in range(3):
+            if lo == 0:
+                T[j, c, ny + 1] = s[0, j, c] if periodic else 0.0
+            if hi == ny:
+                T[j, c, 0] = s[ny - 1, j, c] if periodic else 0.0
+
+
+@nb.njit(**_OPT)
+def _from_t(T, s, lo, hi):
+    nx = s.shape[1]
+    for a in range(lo, hi, _TILE):
+        e = min(a + _TILE, hi)
+        for j in range(nx):
+            for c in range(3):
+                col = T[j, c]
+                for i in range(a, e):
+                    s[i, j, c] = col[i + 1]
+
+
+@nb.njit(parallel=True, **_OPT)
+def _convert_par(s, T, periodic, to_t):
+    ny = s.shape[0]
+    nch = min(32, ny)
+    for ch in nb.prange(nch):
+        if to_t:
+            _to_t(s, T, periodic, ch * ny // nch, (ch + 1) * ny // nch)
+        else:
+            _from_t(T, s, ch * ny // nch, (ch + 1) * ny // nch)
+
+
+@nb.njit(**_OPT)
+def _convert(s, T, periodic, to_t, parallel):
+    if parallel:
+        _convert_par(s, T, periodic, to_t)
+    elif to_t:
+        _to_t(s, T, periodic, 0, s.shape[0])
+    else:
+        _from_t(T, s, 0, s.shape[0])
+
+
+@nb.njit(inline="always", **_OPT)
+def _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma, k, reflect,
+              n_or, counts, buf, g, cnt):
+    _chunk_sweep(T, zc, chunks[e, 0], chunks[e, 1], chunks[e, 2], ny, code, periodic, jt, kt,
+                 axis[0], axis[1], axis[2], b[0], b[1], b[2], beta, sigma, k, reflect, n_or,
+                 counts, buf[e], g[e], cnt[e])
+
+
+@nb.njit(parallel=True, **_OPT)
+def _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
+              stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
+    """n_sweeps sweeps of the transposed spins; the chunks of one class run in parallel."""
+    for t in range(n_sweeps):
+        k = key(seed, stream, sweep0 + t)
+        for c in range(cbounds.shape[0] - 1):
+            a = cbounds[c]
+            for e in nb.prange(cbounds[c + 1] - a):
+                _do_chunk(T, zc, chunks, a + e, ny, code, periodic, jt, kt, axis, b, beta,
+                          sigma, k, reflect, n_or, counts, buf, g, cnt)
+
+
+@nb.njit(**_OPT)
+def _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                     seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
+    """Single-thread twin of :func:`_sweeps_t` (same chunks, same results bit for bit)."""
+    for t in range(n_sweeps):
+        k = key(seed, stream, sweep0 + t)
+        for c in range(cbounds.shape[0] - 1):
+            for e in range(cbounds[c], cbounds[c + 1]):
+                _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                          k, reflect, n_or, counts, buf, g, cnt)
+
+
+@nb.njit(**_OPT)
+def _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
+                stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel):
+    if parallel:
+        _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                  seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt)
+    else:
+        _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta,
+                         sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g,
+                         cnt)
 
 
 @nb.njit(**_OPT)
 def _sweeps(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed, stream,
             sweep0, n_sweeps, reflect, n_or, counts, parallel):
-    ny, nx = s.shape[0], s.shape[1]
-    cbounds, blocks = colour_table(code, nx, ny, periodic, order, bounds)
-    S, zero, buf, g = _work(s, blocks)
-    _convert(s, S, periodic, True, parallel)
-    if parallel:
-        _sweeps_soa(S, zero, cbounds, blocks, nx, code, periodic, jt, kt, axis, b, beta, sigma,
-                    seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g)
-    else:
-        _sweeps_soa_serial(S, zero, cbounds, blocks, nx, code, periodic, jt, kt, axis, b, beta,
-                           sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g)
-    _convert(s, S, periodic, False, parallel)
+    cbounds, chunks = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks)
+    _convert(s, T, periodic, True, parallel)
+    _run_sweeps(T, zc, cbounds, chunks, s.shape[0], code, periodic, jt, kt, axis, b, beta,
+                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt,
+                parallel)
+    _convert(s, T, periodic, False, parallel)
 
 
 @nb.njit(**_OPT)
@@ -629,8 +556,7 @@ def metropolis_sweeps(s, order, bounds, code, periodic, jt, kt, axis, b, beta, s
 
     Parameters
     ----------
-    order, bounds : int64 row classes from :func:`row_colouring` (used when the lattice size
-        does not allow the checkerboard or three-colour classes; see :func:`colour_table`).
+    order, bounds : int64 arrays from :func:`row_colouring`.
     code, periodic : lattice code (0 square, 1 triangular, 2 honeycomb) and edges.
     jt, kt : J/mu_s and 2K/mu_s (T). axis (3,) unit anisotropy axis; b (3,) field (T).
     beta : mu_s/(kB T) (1/T).
@@ -650,11 +576,35 @@ def metropolis_sweeps_serial(s, order, bounds, code, periodic, jt, kt, axis, b, 
                              seed, stream, sweep0, n_sweeps, reflect, n_or, counts):
     """Single-thread twin of :func:`metropolis_sweeps` (same results bit for bit).
 
-    Cheaper for small lattices, where waking threads several times per sweep costs more than
-    the work.
+    Cheaper for small lattices, where waking threads twice per sweep costs more than the work.
     """
     _sweeps(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed, stream,
             sweep0, n_sweeps, reflect, n_or, counts, False)
+
+
+@nb.njit(**_OPT)
+def kernel_energy_changes(s, order, bounds, code, periodic, jt, kt, axis, b, new):
+    """Energy change (mu_s T) of every site (i, j) of s changing alone to new[i, j], computed
+    through the sweep kernel's own path (transposed columns, ghost rows, gather, move energy);
+    s is not modified. For tests against a full reference energy."""
+    ny, nx = s.shape[0], s.shape[1]
+    cbounds, chunks = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks)
+    _convert(s, T, periodic, True, False)
+    out = np.empty((ny, nx))
+    bb = buf[0]
+    for e in range(chunks.shape[0]):
+        i0, n = chunks[e, 0], chunks[e, 1]
+        for j in range(nx):
+            cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
+            vo = 1 if (i0 + j) % 2 == 0 else -1
+            _gather(code, vo, i0 + 1, n, cur, lft, rgt, dia, jt, b[0], b[1], b[2], bb)
+            for q in range(n):
+                i = i0 + 2 * q
+                out[i, j] = _de(bb[0, q], bb[1, q], bb[2, q], new[i, j, 0], new[i, j, 1],
+                                new[i, j, 2], bb[3, q], bb[4, q], bb[5, q], axis[0], axis[1],
+                                axis[2], 0.5 * kt)
+    return out
 
 
 @nb.njit(cache=True)
@@ -709,22 +659,17 @@ def metropolis_samples(s, order, bounds, code, periodic, jt, kt, axis, b, beta, 
 
     out : (n_samples, 4) float64; energy in units of mu_s * T (multiply by mu_s for J).
     rows : (ny, 4) scratch. parallel : use the threaded sweep and sums (same results).
-    Other arguments as :func:`metropolis_sweeps`. The SoA work arrays are made once.
+    Other arguments as :func:`metropolis_sweeps`. The work arrays are made once.
     """
-    ny, nx = s.shape[0], s.shape[1]
-    cbounds, blocks = colour_table(code, nx, ny, periodic, order, bounds)
-    S, zero, buf, g = _work(s, blocks)
-    _convert(s, S, periodic, True, parallel)
+    ny = s.shape[0]
+    cbounds, chunks = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks)
+    _convert(s, T, periodic, True, parallel)
     for k in range(n_samples):
-        sw = sweep0 + k * sample_every
-        if parallel:
-            _sweeps_soa(S, zero, cbounds, blocks, nx, code, periodic, jt, kt, axis, b, beta,
-                        sigma, seed, stream, sw, sample_every, reflect, n_or, counts, buf, g)
-        else:
-            _sweeps_soa_serial(S, zero, cbounds, blocks, nx, code, periodic, jt, kt, axis, b,
-                               beta, sigma, seed, stream, sw, sample_every, reflect, n_or,
-                               counts, buf, g)
-        _convert(s, S, periodic, False, parallel)
+        _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                    seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or,
+                    counts, buf, g, cnt, parallel)
+        _convert(s, T, periodic, False, parallel)
         if parallel:
             row_sums(s, code, periodic, jt, kt, axis, b, rows)
         else:
