@@ -106,10 +106,10 @@ def _run_table(s, lat, cb, ch, n=3):
     # the serial sweep with a given chunk table
     jt, kt, axis, b = _params()
     counts = np.zeros((lat.ny, 3), dtype=np.int64)
-    T, zc, buf, g, cnt = mk._work(s, ch)
+    T, zc, w = mk._work(s, ch)
     mk._convert(s, T, lat.periodic, True, False)
     mk._run_sweeps(T, zc, cb, ch, lat.ny, lat.code, lat.periodic, jt, kt, axis, b, 2.0, 0.6, 11,
-                   1, 5, n, True, 2, counts, buf, g, cnt, False)
+                   1, 5, n, True, 2, counts, w, False)
     mk._convert(s, T, lat.periodic, False, False)
     return counts
 

@@ -12,9 +12,10 @@ whenever they are not adjacent. :func:`row_colouring` puts the rows in classes:
 Visiting order: classes one after the other; inside a class every row is swept left to right
 (j = 0 .. nx - 1), each site seeing its already updated left neighbour. The rows of a class are
 independent, so the kernel updates column j of all rows of a chunk of the class at once: the
-spins are held transposed during the sweeps, T[j, c, 1 + i] (column j, component c, row i, one
-ghost row on each side: wrapped copies for periodic edges, zeros for open ones), and one
-column step is a stride-2 gather of spins and local fields into contiguous buffers followed by
+spins are held transposed during the sweeps: column j, component c, padded row P = i + 1 (one
+ghost row on each side: wrapped copies for periodic edges, zeros for open ones) at
+T[j, c, P % 2, P // 2], so the rows of a class and their neighbour rows are contiguous. One
+column step is a gather of spins and local fields into contiguous buffers followed by
 branch-free loops over the rows (candidate, energy change and acceptance computed for every
 row, the outcome selected), which compile to SIMD code. Chunks of a class (a fixed split of its
 rows, independent of the thread count) run in parallel.
@@ -67,7 +68,8 @@ N_COUNTS = 3  # accepted: gaussian, reflection, over-relaxation
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 CHUNK_ROWS = 64  # rows per chunk of a class (at least): long column loops; 3 x 64 normals
 # are 96 Box-Muller pairs, a whole number of SIMD iterations
-MAX_CHUNKS = 8  # chunks per class (at most): parallel work units
+MAX_CHUNKS = 8  # chunks per class (at most, unless a chunk would exceed W rows)
+W = 128  # scratch row length: the most rows in one chunk
 _ONE_BITS = np.uint64(0x3FF0000000000000)
 _S12 = np.uint64(12)
 
@@ -199,64 +201,64 @@ def _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, half_kt):
 
 
 @nb.njit(**_OPT)
-def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, buf, g, cnt):
-    """The three moves for the na sites in buf (rows 0-2 spin, 3-5 local field); accepted
-    moves (gaussian, reflection, over-relaxation) of site q are added to cnt[:, q]."""
-    sx_ = buf[0]
-    sy_ = buf[1]
-    sz_ = buf[2]
-    fx_ = buf[3]
-    fy_ = buf[4]
-    fz_ = buf[5]
-    gv = g[:3 * na]
-    normals_row(k, 2 * v0, sigma, gv)
+def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, w):
+    """The three moves for the na <= W sites in the scratch row w (see :func:`_work`);
+    accepted moves (gaussian, reflection, over-relaxation) of site q are added to
+    w[(9 + m) W + q].
+
+    One base pointer with constant row offsets lets the loops vectorise without runtime
+    alias checks.
+    """
+    h = (na + 1) // 2
+    for c in range(3):
+        normals_row(k, 4 * v0 + c * h, sigma, w[(6 + c) * W:(6 + c) * W + na])
     # 1. Gaussian step
-    c0 = np.uint64(2 * nsites + v0)
+    c0 = np.uint64(4 * nsites + v0)
     for q in range(na):
-        sx = sx_[q]
-        sy = sy_[q]
-        sz = sz_[q]
-        fx = fx_[q]
-        fy = fy_[q]
-        fz = fz_[q]
-        px = sx + gv[q]
-        py = sy + gv[na + q]
-        pz = sz + gv[2 * na + q]
+        sx = w[q]
+        sy = w[W + q]
+        sz = w[2 * W + q]
+        fx = w[3 * W + q]
+        fy = w[4 * W + q]
+        fz = w[5 * W + q]
+        px = sx + w[6 * W + q]
+        py = sy + w[7 * W + q]
+        pz = sz + w[8 * W + q]
         inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
         px *= inv
         py *= inv
         pz *= inv
         de = _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, half_kt)
         acc = _log_u(k, c0 + np.uint64(q)) <= -beta * de
-        sx_[q] = px if acc else sx
-        sy_[q] = py if acc else sy
-        sz_[q] = pz if acc else sz
-        cnt[0, q] += 1 if acc else 0
+        w[q] = px if acc else sx
+        w[W + q] = py if acc else sy
+        w[2 * W + q] = pz if acc else sz
+        w[9 * W + q] += 1.0 if acc else 0.0
     # 2. reflection through the plane normal to the axis (anisotropy unchanged)
     if reflect:
-        c0 = np.uint64(3 * nsites + v0)
+        c0 = np.uint64(5 * nsites + v0)
         for q in range(na):
-            sx = sx_[q]
-            sy = sy_[q]
-            sz = sz_[q]
+            sx = w[q]
+            sy = w[W + q]
+            sz = w[2 * W + q]
             sn = sx * ax + sy * ay + sz * az
-            de = 2.0 * sn * (fx_[q] * ax + fy_[q] * ay + fz_[q] * az)
+            de = 2.0 * sn * (w[3 * W + q] * ax + w[4 * W + q] * ay + w[5 * W + q] * az)
             acc = _log_u(k, c0 + np.uint64(q)) <= -beta * de
-            w = 2.0 * sn if acc else 0.0
-            sx_[q] = sx - w * ax
-            sy_[q] = sy - w * ay
-            sz_[q] = sz - w * az
-            cnt[1, q] += 1 if acc else 0
+            t = 2.0 * sn if acc else 0.0
+            w[q] = sx - t * ax
+            w[W + q] = sy - t * ay
+            w[2 * W + q] = sz - t * az
+            w[10 * W + q] += 1.0 if acc else 0.0
     # 3. over-relaxation about the exchange + Zeeman field
     for r in range(n_or):
-        c0 = np.uint64((4 + r) * nsites + v0)
+        c0 = np.uint64((6 + r) * nsites + v0)
         for q in range(na):
-            sx = sx_[q]
-            sy = sy_[q]
-            sz = sz_[q]
-            fx = fx_[q]
-            fy = fy_[q]
-            fz = fz_[q]
+            sx = w[q]
+            sy = w[W + q]
+            sz = w[2 * W + q]
+            fx = w[3 * W + q]
+            fy = w[4 * W + q]
+            fz = w[5 * W + q]
             f2 = fx * fx + fy * fy + fz * fz
             ok = f2 > 0.0
             c = 2.0 * (sx * fx + sy * fy + sz * fz) / (f2 if ok else 1.0)
@@ -267,10 +269,17 @@ def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, b
             pn = px * ax + py * ay + pz * az
             de = -half_kt * (pn * pn - sn * sn)
             acc = ok and _log_u(k, c0 + np.uint64(q)) <= -beta * de
-            sx_[q] = px if acc else sx
-            sy_[q] = py if acc else sy
-            sz_[q] = pz if acc else sz
-            cnt[2, q] += 1 if acc else 0
+            w[q] = px if acc else sx
+            w[W + q] = py if acc else sy
+            w[2 * W + q] = pz if acc else sz
+            w[11 * W + q] += 1.0 if acc else 0.0
+
+
+@nb.njit(inline="always", cache=True)
+def _n_chunks(n):
+    """Chunks of a class of n rows: about n / CHUNK_ROWS, at most MAX_CHUNKS unless that
+    would make a chunk longer than W rows."""
+    return max(min(MAX_CHUNKS, n // CHUNK_ROWS), (n + W - 1) // W, 1)
 
 
 @nb.njit(cache=True)
@@ -279,18 +288,18 @@ def chunk_table(order, bounds):
 
     chunks[cbounds[c]:cbounds[c + 1]] split class c; a chunk is (first row, n rows, rank of
     its first row in order); its rows are first row + 2 q (q < n). The split depends only on
-    the class sizes (CHUNK_ROWS, MAX_CHUNKS), not on the thread count.
+    the class sizes (CHUNK_ROWS, MAX_CHUNKS, W), not on the thread count.
     """
     n_cls = bounds.shape[0] - 1
     tot = 0
     for c in range(n_cls):
-        tot += min(MAX_CHUNKS, max(1, (bounds[c + 1] - bounds[c]) // CHUNK_ROWS))
+        tot += _n_chunks(bounds[c + 1] - bounds[c])
     chunks = np.zeros((tot, 3), dtype=np.int64)
     cbounds = np.zeros(n_cls + 1, dtype=np.int64)
     e = 0
     for c in range(n_cls):
         n = bounds[c + 1] - bounds[c]
-        nch = min(MAX_CHUNKS, max(1, n // CHUNK_ROWS))
+        nch = _n_chunks(n)
         for ch in range(nch):
             a = ch * n // nch
             chunks[e, 0] = order[bounds[c] + a]
@@ -303,7 +312,7 @@ def chunk_table(order, bounds):
 
 @nb.njit(inline="always", **_OPT)
 def _columns(T, zc, j, i0, code, periodic):
-    """(own, left, right, shifted) column buffers (3, LP) of column j for rows of parity
+    """(own, left, right, shifted) column buffers (3, 2, LH) of column j for rows of parity
     i0 % 2; a missing column is the zero buffer zc. shifted: the column j + s of the
     triangular diagonal bonds (s = -1 from even rows, +1 from odd rows)."""
     nx = T.shape[0]
@@ -326,114 +335,106 @@ def _columns(T, zc, j, i0, code, periodic):
 
 
 @nb.njit(inline="always", **_OPT)
-def _gather(code, vo, t0, n, cur, lft, rgt, dia, jt, bx, by, bz, buf):
-    """Spins and local fields f = jt h + b of rows t0 + 2 q (buffer index, q < n) into buf.
+def _gather(code, vo, i0, n, cur, lft, rgt, dia, jt, bx, by, bz, w):
+    """Spins and local fields f = jt h + b of rows i0 + 2 q (q < n) into w (rows 0-5).
 
-    vo : honeycomb vertical offset (+1 bond up, -1 bond down) of these rows in this column.
+    Padded row index P = i + 1 lives at [P % 2, P // 2]: the rows of the chunk are
+    contiguous in half pp = P % 2, their neighbour rows P -/+ 1 in the other half at
+    m - 1 + pp and m + pp. vo : honeycomb vertical offset (+1 bond up, -1 bond down).
+    One loop per component keeps the number of pointers (alias checks) small.
     """
-    cx = cur[0]
-    cy = cur[1]
-    cz = cur[2]
-    lx = lft[0]
-    ly = lft[1]
-    lz = lft[2]
-    rx = rgt[0]
-    ry = rgt[1]
-    rz = rgt[2]
-    sx = buf[0]
-    sy = buf[1]
-    sz = buf[2]
-    fx = buf[3]
-    fy = buf[4]
-    fz = buf[5]
-    if code == 0:
-        for q in range(n):
-            t = t0 + 2 * q
-            sx[q] = cx[t]
-            sy[q] = cy[t]
-            sz[q] = cz[t]
-            fx[q] = jt * (lx[t] + rx[t] + cx[t + 1] + cx[t - 1]) + bx
-            fy[q] = jt * (ly[t] + ry[t] + cy[t + 1] + cy[t - 1]) + by
-            fz[q] = jt * (lz[t] + rz[t] + cz[t + 1] + cz[t - 1]) + bz
-    elif code == 1:
-        dx = dia[0]
-        dy = dia[1]
-        dz = dia[2]
-        for q in range(n):
-            t = t0 + 2 * q
-            sx[q] = cx[t]
-            sy[q] = cy[t]
-            sz[q] = cz[t]
-            fx[q] = jt * (lx[t] + rx[t] + cx[t + 1] + cx[t - 1] + dx[t + 1] + dx[t - 1]) + bx
-            fy[q] = jt * (ly[t] + ry[t] + cy[t + 1] + cy[t - 1] + dy[t + 1] + dy[t - 1]) + by
-            fz[q] = jt * (lz[t] + rz[t] + cz[t + 1] + cz[t - 1] + dz[t + 1] + dz[t - 1]) + bz
-    else:
-        for q in range(n):
-            t = t0 + 2 * q
-            u = t + vo
-            sx[q] = cx[t]
-            sy[q] = cy[t]
-            sz[q] = cz[t]
-            fx[q] = jt * (lx[t] + rx[t] + cx[u]) + bx
-            fy[q] = jt * (ly[t] + ry[t] + cy[u]) + by
-            fz[q] = jt * (lz[t] + rz[t] + cz[u]) + bz
+    pp = (i0 + 1) % 2
+    po = 1 - pp
+    m0 = (i0 + 1) // 2
+    d0 = m0 - 1 + pp  # other half: row below of q = 0 (row above at d0 + 1)
+    bc = (bx, by, bz)
+    for c in range(3):
+        cc = cur[c, pp]
+        oc = cur[c, po]
+        lc = lft[c, pp]
+        rc = rgt[c, pp]
+        b = bc[c]
+        so = c * W
+        fo = (3 + c) * W
+        if code == 0:
+            for q in range(n):
+                t = m0 + q
+                u = d0 + q
+                w[so + q] = cc[t]
+                w[fo + q] = jt * (lc[t] + rc[t] + oc[u] + oc[u + 1]) + b
+        elif code == 1:
+            dc = dia[c, po]
+            for q in range(n):
+                t = m0 + q
+                u = d0 + q
+                w[so + q] = cc[t]
+                w[fo + q] = jt * (lc[t] + rc[t] + oc[u] + oc[u + 1] + dc[u] + dc[u + 1]) + b
+        else:
+            v0 = d0 + (1 if vo > 0 else 0)
+            for q in range(n):
+                t = m0 + q
+                w[so + q] = cc[t]
+                w[fo + q] = jt * (lc[t] + rc[t] + oc[v0 + q]) + b
 
 
 @nb.njit(inline="always", **_OPT)
-def _scatter(t0, n, cur, buf):
-    cx = cur[0]
-    cy = cur[1]
-    cz = cur[2]
-    sx = buf[0]
-    sy = buf[1]
-    sz = buf[2]
-    for q in range(n):
-        t = t0 + 2 * q
-        cx[t] = sx[q]
-        cy[t] = sy[q]
-        cz[t] = sz[q]
+def _scatter(i0, n, cur, w):
+    pp = (i0 + 1) % 2
+    m0 = (i0 + 1) // 2
+    for c in range(3):
+        cc = cur[c, pp]
+        so = c * W
+        for q in range(n):
+            cc[m0 + q] = w[so + q]
+
+
+@nb.njit(inline="always", **_OPT)
+def _put(col, P, v):
+    col[P % 2, P // 2] = v
+
+
+@nb.njit(inline="always", **_OPT)
+def _get(col, P):
+    return col[P % 2, P // 2]
 
 
 @nb.njit(**_OPT)
 def _chunk_sweep(T, zc, i0, n, r0, ny, code, periodic, jt, kt, ax, ay, az, bx, by, bz, beta,
-                 sigma, k, reflect, n_or, counts, buf, g, cnt):
+                 sigma, k, reflect, n_or, counts, w):
     """Sweep the n rows i0 + 2 q of one chunk, column by column, left to right."""
     nx = T.shape[0]
     nsites = nx * ny
-    t0 = i0 + 1
     last = i0 + 2 * (n - 1)
-    cnt[:, :n] = 0
+    w[9 * W:] = 0.0
     for j in range(nx):
         cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
         vo = 1 if (i0 + j) % 2 == 0 else -1  # honeycomb: (i + j) even bonds up
-        _gather(code, vo, t0, n, cur, lft, rgt, dia, jt, bx, by, bz, buf)
+        _gather(code, vo, i0, n, cur, lft, rgt, dia, jt, bx, by, bz, w)
         _moves(n, k, r0 * nx + j * n, nsites, ax, ay, az, 0.5 * kt, beta, sigma, reflect, n_or,
-               buf, g, cnt)
-        _scatter(t0, n, cur, buf)
-        if periodic:  # ghost rows: copies of rows ny - 1 (index 0) and 0 (index ny + 1)
+               w)
+        _scatter(i0, n, cur, w)
+        if periodic:  # ghost rows: copies of rows ny - 1 (P = 0) and 0 (P = ny + 1)
             if i0 == 0:
                 for c in range(3):
-                    cur[c, ny + 1] = cur[c, 1]
+                    _put(cur[c], ny + 1, _get(cur[c], 1))
             if last == ny - 1:
                 for c in range(3):
-                    cur[c, 0] = cur[c, ny]
+                    _put(cur[c], 0, _get(cur[c], ny))
     for q in range(n):
         for c in range(3):
-            counts[i0 + 2 * q, c] += cnt[c, q]
+            counts[i0 + 2 * q, c] += np.int64(w[(9 + c) * W + q])
 
 
 @nb.njit(**_OPT)
 def _work(s, chunks):
-    """Transposed spins T (nx, 3, LP), a zero column (3, LP), per-chunk scratch buf, g, cnt."""
+    """Transposed spins T (nx, 3, 2, LH), a zero column (3, 2, LH) and per-chunk scratch w
+    (n_chunks, 12 W): rows of W doubles, 0-2 spins, 3-5 local fields, 6-8 Gaussian numbers,
+    9-11 accepted-move counts. Column j, component c, padded row P = i + 1 (ghost rows P = 0
+    and ny + 1) at T[j, c, P % 2, P // 2]."""
     ny, nx = s.shape[0], s.shape[1]
-    LP = row_pad(ny)
-    w = 1
-    for e in range(chunks.shape[0]):
-        w = max(w, chunks[e, 1])
-    w = (w + 7) // 8 * 8
+    LH = row_pad((ny + 3) // 2 - 2)  # >= (ny + 3) // 2, a multiple of 8 doubles
     nch = max(1, chunks.shape[0])
-    return (np.zeros((nx, 3, LP)), np.zeros((3, LP)), np.empty((nch, 6, w)),
-            np.empty((nch, 3 * w + 8)), np.empty((nch, 3, w), dtype=np.int64))
+    return np.zeros((nx, 3, 2, LH)), np.zeros((3, 2, LH)), np.zeros((nch, 12 * W))
 
 
 _TILE = 16  # rows per tile of the transposes (16 cache lines stay in L1 across columns)
@@ -441,8 +442,8 @@ _TILE = 16  # rows per tile of the transposes (16 cache lines stay in L1 across 
 
 @nb.njit(**_OPT)
 def _to_t(s, T, periodic, lo, hi):
-    """Rows lo..hi of s (ny, nx, 3) into T (nx, 3, LP) at 1 + i; the ghost rows when the
-    range holds row 0 or ny - 1 (copies of the wrapped rows, or zeros)."""
+    """Rows lo..hi of s (ny, nx, 3) into T; the ghost rows when the range holds row 0 or
+    ny - 1 (copies of the wrapped rows, or zeros)."""
     ny, nx = s.shape[0], s.shape[1]
     for a in range(lo, hi, _TILE):
         e = min(a + _TILE, hi)
@@ -450,13 +451,13 @@ def _to_t(s, T, periodic, lo, hi):
             for c in range(3):
                 col = T[j, c]
                 for i in range(a, e):
-                    col[i + 1] = s[i, j, c]
+                    _put(col, i + 1, s[i, j, c])
     for j in range(nx):
         for c in range(3):
             if lo == 0:
-                T[j, c, ny + 1] = s[0, j, c] if periodic else 0.0
+                _put(T[j, c], ny + 1, s[0, j, c] if periodic else 0.0)
             if hi == ny:
-                T[j, c, 0] = s[ny - 1, j, c] if periodic else 0.0
+                _put(T[j, c], 0, s[ny - 1, j, c] if periodic else 0.0)
 
 
 @nb.njit(**_OPT)
@@ -468,7 +469,7 @@ def _from_t(T, s, lo, hi):
             for c in range(3):
                 col = T[j, c]
                 for i in range(a, e):
-                    s[i, j, c] = col[i + 1]
+                    s[i, j, c] = _get(col, i + 1)
 
 
 @nb.njit(parallel=True, **_OPT)
@@ -494,15 +495,15 @@ def _convert(s, T, periodic, to_t, parallel):
 
 @nb.njit(inline="always", **_OPT)
 def _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma, k, reflect,
-              n_or, counts, buf, g, cnt):
+              n_or, counts, w):
     _chunk_sweep(T, zc, chunks[e, 0], chunks[e, 1], chunks[e, 2], ny, code, periodic, jt, kt,
                  axis[0], axis[1], axis[2], b[0], b[1], b[2], beta, sigma, k, reflect, n_or,
-                 counts, buf[e], g[e], cnt[e])
+                 counts, w[e])
 
 
 @nb.njit(parallel=True, **_OPT)
 def _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
-              stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
+              stream, sweep0, n_sweeps, reflect, n_or, counts, w):
     """n_sweeps sweeps of the transposed spins; the chunks of one class run in parallel."""
     for t in range(n_sweeps):
         k = key(seed, stream, sweep0 + t)
@@ -510,42 +511,40 @@ def _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta,
             a = cbounds[c]
             for e in nb.prange(cbounds[c + 1] - a):
                 _do_chunk(T, zc, chunks, a + e, ny, code, periodic, jt, kt, axis, b, beta,
-                          sigma, k, reflect, n_or, counts, buf, g, cnt)
+                          sigma, k, reflect, n_or, counts, w)
 
 
 @nb.njit(**_OPT)
 def _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                     seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
+                     seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w):
     """Single-thread twin of :func:`_sweeps_t` (same chunks, same results bit for bit)."""
     for t in range(n_sweeps):
         k = key(seed, stream, sweep0 + t)
         for c in range(cbounds.shape[0] - 1):
             for e in range(cbounds[c], cbounds[c + 1]):
                 _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                          k, reflect, n_or, counts, buf, g, cnt)
+                          k, reflect, n_or, counts, w)
 
 
 @nb.njit(**_OPT)
 def _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
-                stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel):
+                stream, sweep0, n_sweeps, reflect, n_or, counts, w, parallel):
     if parallel:
         _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                  seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt)
+                  seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w)
     else:
         _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta,
-                         sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g,
-                         cnt)
+                         sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w)
 
 
 @nb.njit(**_OPT)
 def _sweeps(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed, stream,
             sweep0, n_sweeps, reflect, n_or, counts, parallel):
     cbounds, chunks = chunk_table(order, bounds)
-    T, zc, buf, g, cnt = _work(s, chunks)
+    T, zc, w = _work(s, chunks)
     _convert(s, T, periodic, True, parallel)
     _run_sweeps(T, zc, cbounds, chunks, s.shape[0], code, periodic, jt, kt, axis, b, beta,
-                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt,
-                parallel)
+                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w, parallel)
     _convert(s, T, periodic, False, parallel)
 
 
@@ -589,21 +588,21 @@ def kernel_energy_changes(s, order, bounds, code, periodic, jt, kt, axis, b, new
     s is not modified. For tests against a full reference energy."""
     ny, nx = s.shape[0], s.shape[1]
     cbounds, chunks = chunk_table(order, bounds)
-    T, zc, buf, g, cnt = _work(s, chunks)
+    T, zc, w = _work(s, chunks)
     _convert(s, T, periodic, True, False)
     out = np.empty((ny, nx))
-    bb = buf[0]
+    bb = w[0]
     for e in range(chunks.shape[0]):
         i0, n = chunks[e, 0], chunks[e, 1]
         for j in range(nx):
             cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
             vo = 1 if (i0 + j) % 2 == 0 else -1
-            _gather(code, vo, i0 + 1, n, cur, lft, rgt, dia, jt, b[0], b[1], b[2], bb)
+            _gather(code, vo, i0, n, cur, lft, rgt, dia, jt, b[0], b[1], b[2], bb)
             for q in range(n):
                 i = i0 + 2 * q
-                out[i, j] = _de(bb[0, q], bb[1, q], bb[2, q], new[i, j, 0], new[i, j, 1],
-                                new[i, j, 2], bb[3, q], bb[4, q], bb[5, q], axis[0], axis[1],
-                                axis[2], 0.5 * kt)
+                out[i, j] = _de(bb[q], bb[W + q], bb[2 * W + q], new[i, j, 0], new[i, j, 1],
+                                new[i, j, 2], bb[3 * W + q], bb[4 * W + q], bb[5 * W + q],
+                                axis[0], axis[1], axis[2], 0.5 * kt)
     return out
 
 
@@ -663,12 +662,12 @@ def metropolis_samples(s, order, bounds, code, periodic, jt, kt, axis, b, beta, 
     """
     ny = s.shape[0]
     cbounds, chunks = chunk_table(order, bounds)
-    T, zc, buf, g, cnt = _work(s, chunks)
+    T, zc, w = _work(s, chunks)
     _convert(s, T, periodic, True, parallel)
     for k in range(n_samples):
         _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
                     seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or,
-                    counts, buf, g, cnt, parallel)
+                    counts, w, parallel)
         _convert(s, T, periodic, False, parallel)
         if parallel:
             row_sums(s, code, periodic, jt, kt, axis, b, rows)
