@@ -12,10 +12,9 @@ whenever they are not adjacent. :func:`row_colouring` puts the rows in classes:
 Visiting order: classes one after the other; inside a class every row is swept left to right
 (j = 0 .. nx - 1), each site seeing its already updated left neighbour. The rows of a class are
 independent, so the kernel updates column j of all rows of a chunk of the class at once: the
-spins are held transposed during the sweeps: column j, component c, padded row P = i + 1 (one
-ghost row on each side: wrapped copies for periodic edges, zeros for open ones) at
-T[j, c, P % 2, P // 2], so the rows of a class and their neighbour rows are contiguous. One
-column step is a gather of spins and local fields into contiguous buffers followed by
+spins are held transposed during the sweeps, T[j, c, 1 + i] (column j, component c, row i, one
+ghost row on each side: wrapped copies for periodic edges, zeros for open ones), and one
+column step is a stride-2 gather of spins and local fields into contiguous buffers followed by
 branch-free loops over the rows (candidate, energy change and acceptance computed for every
 row, the outcome selected), which compile to SIMD code. Chunks of a class (a fixed split of its
 rows, independent of the thread count) run in parallel.
@@ -31,12 +30,12 @@ min(1, exp(-dE/kBT)), tested as log(u) <= -dE/kBT with u uniform in (0, 1]:
    is accepted by Metropolis.
 
 Random numbers: counter-based, keyed by (seed, stream, sweep) (``rng.key``). Sites are numbered
-in visiting order, v = (r0 + q) nx ... : a chunk of n rows whose first row has rank r0 in
-``order`` takes, at column j, the visit indices v0 + q with v0 = r0 nx + j n (q < n, row
-r0 + q of the order). Its 3 n Gaussian numbers come from ``normals_row`` at counters 2 v0 + p
-(component c of row q is normal c n + q), the uniform of move slot u (0 Gaussian,
-1 reflection, 2 + r over-relaxation r) from counter (2 + u) N + v (N sites). Results are
-therefore bitwise independent of the thread count and of the order of the chunks in a class.
+in visiting order: a chunk of n rows whose first row has rank r0 in ``order`` takes, at column
+j, the visit indices v0 + q with v0 = r0 nx + j n (q < n, row r0 + q of the order). Component c
+of its Gaussian numbers comes from ``normals_row`` at counters 4 v0 + c ceil(n/2) + p (row q is
+normal q), the uniform of move slot u (0 Gaussian, 1 reflection, 2 + r over-relaxation r) of a
+site from counter (4 + u) N + v (N sites). Results are therefore bitwise independent of the
+thread count and of the order of the chunks in a class.
 
 Energies: the local energy of S at a site with neighbour-spin sum h is, in units of mu_s * T,
 e(S) = -(jt h + b).S - (kt/2) (S.n)^2 with jt = J/mu_s and kt = 2K/mu_s (tesla). The kernels
@@ -47,10 +46,6 @@ import math
 
 import numba as nb
 import numpy as np
-from llvmlite import ir
-from numba import types
-from numba.core import cgutils
-from numba.extending import intrinsic
 
 from .field import neighbour_rows, row_pad
 from .rng import _bits_f64, fast_log, hash64, key, normals_row
@@ -70,9 +65,9 @@ __all__ = [
 
 N_COUNTS = 3  # accepted: gaussian, reflection, over-relaxation
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
-BAND_ROWS = 128  # rows per band (at least): chunks of 64 rows of one class, long column loops
-PREFETCH = 2  # columns prefetched ahead
-W = 128  # scratch row length: the most rows of one class in a band (bands <= 2 W rows)
+CHUNK_ROWS = 64  # rows per chunk of a class (at least): long column loops; 3 x 64 normals
+# are 96 Box-Muller pairs, a whole number of SIMD iterations
+MAX_CHUNKS = 8  # chunks per class (at most): parallel work units
 _ONE_BITS = np.uint64(0x3FF0000000000000)
 _S12 = np.uint64(12)
 
@@ -204,64 +199,66 @@ def _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, half_kt):
 
 
 @nb.njit(**_OPT)
-def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, w):
-    """The three moves for the na <= W sites in the scratch row w (see :func:`_work`);
-    accepted moves (gaussian, reflection, over-relaxation) of site q are added to
-    w[(9 + m) W + q].
-
-    One base pointer with constant row offsets lets the loops vectorise without runtime
-    alias checks.
-    """
+def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, buf, g, cnt):
+    """The three moves for the na sites in buf (rows 0-2 spin, 3-5 local field); accepted
+    moves (gaussian, reflection, over-relaxation) of site q are added to cnt[:, q]."""
+    sx_ = buf[0]
+    sy_ = buf[1]
+    sz_ = buf[2]
+    fx_ = buf[3]
+    fy_ = buf[4]
+    fz_ = buf[5]
+    gv = g[:3 * na]
     h = (na + 1) // 2
-    for c in range(3):
-        normals_row(k, 4 * v0 + c * h, sigma, w[(6 + c) * W:(6 + c) * W + na])
+    for c in range(3):  # component c: counters 4 v0 + c h + p
+        normals_row(k, 4 * v0 + c * h, sigma, gv[c * na:(c + 1) * na])
     # 1. Gaussian step
     c0 = np.uint64(4 * nsites + v0)
     for q in range(na):
-        sx = w[q]
-        sy = w[W + q]
-        sz = w[2 * W + q]
-        fx = w[3 * W + q]
-        fy = w[4 * W + q]
-        fz = w[5 * W + q]
-        px = sx + w[6 * W + q]
-        py = sy + w[7 * W + q]
-        pz = sz + w[8 * W + q]
+        sx = sx_[q]
+        sy = sy_[q]
+        sz = sz_[q]
+        fx = fx_[q]
+        fy = fy_[q]
+        fz = fz_[q]
+        px = sx + gv[q]
+        py = sy + gv[na + q]
+        pz = sz + gv[2 * na + q]
         inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
         px *= inv
         py *= inv
         pz *= inv
         de = _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, half_kt)
         acc = _log_u(k, c0 + np.uint64(q)) <= -beta * de
-        w[q] = px if acc else sx
-        w[W + q] = py if acc else sy
-        w[2 * W + q] = pz if acc else sz
-        w[9 * W + q] += 1.0 if acc else 0.0
+        sx_[q] = px if acc else sx
+        sy_[q] = py if acc else sy
+        sz_[q] = pz if acc else sz
+        cnt[0, q] += 1 if acc else 0
     # 2. reflection through the plane normal to the axis (anisotropy unchanged)
     if reflect:
         c0 = np.uint64(5 * nsites + v0)
         for q in range(na):
-            sx = w[q]
-            sy = w[W + q]
-            sz = w[2 * W + q]
+            sx = sx_[q]
+            sy = sy_[q]
+            sz = sz_[q]
             sn = sx * ax + sy * ay + sz * az
-            de = 2.0 * sn * (w[3 * W + q] * ax + w[4 * W + q] * ay + w[5 * W + q] * az)
+            de = 2.0 * sn * (fx_[q] * ax + fy_[q] * ay + fz_[q] * az)
             acc = _log_u(k, c0 + np.uint64(q)) <= -beta * de
-            t = 2.0 * sn if acc else 0.0
-            w[q] = sx - t * ax
-            w[W + q] = sy - t * ay
-            w[2 * W + q] = sz - t * az
-            w[10 * W + q] += 1.0 if acc else 0.0
+            w = 2.0 * sn if acc else 0.0
+            sx_[q] = sx - w * ax
+            sy_[q] = sy - w * ay
+            sz_[q] = sz - w * az
+            cnt[1, q] += 1 if acc else 0
     # 3. over-relaxation about the exchange + Zeeman field
     for r in range(n_or):
         c0 = np.uint64((6 + r) * nsites + v0)
         for q in range(na):
-            sx = w[q]
-            sy = w[W + q]
-            sz = w[2 * W + q]
-            fx = w[3 * W + q]
-            fy = w[4 * W + q]
-            fz = w[5 * W + q]
+            sx = sx_[q]
+            sy = sy_[q]
+            sz = sz_[q]
+            fx = fx_[q]
+            fy = fy_[q]
+            fz = fz_[q]
             f2 = fx * fx + fy * fy + fz * fz
             ok = f2 > 0.0
             c = 2.0 * (sx * fx + sy * fy + sz * fz) / (f2 if ok else 1.0)
@@ -272,60 +269,43 @@ def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, w
             pn = px * ax + py * ay + pz * az
             de = -half_kt * (pn * pn - sn * sn)
             acc = ok and _log_u(k, c0 + np.uint64(q)) <= -beta * de
-            w[q] = px if acc else sx
-            w[W + q] = py if acc else sy
-            w[2 * W + q] = pz if acc else sz
-            w[11 * W + q] += 1.0 if acc else 0.0
-
-
-@nb.njit(cache=True)
-def band_table(ny):
-    """Row bands [bands[b], bands[b + 1]): contiguous, even starts, about BAND_ROWS rows and at
-    most 2 W rows each. They depend only on ny (not on the thread count)."""
-    nb_ = max(ny // BAND_ROWS, (ny + 2 * W - 1) // (2 * W), 1)
-    bands = np.empty(nb_ + 1, dtype=np.int64)
-    for b in range(nb_):
-        bands[b] = 2 * ((b * ny // nb_) // 2)
-    bands[nb_] = ny
-    return bands
+            sx_[q] = px if acc else sx
+            sy_[q] = py if acc else sy
+            sz_[q] = pz if acc else sz
+            cnt[2, q] += 1 if acc else 0
 
 
 @nb.njit(cache=True)
 def chunk_table(order, bounds):
-    """Chunks of the row classes: cbounds (n_classes + 1,), chunks (n_chunks, 4), bands.
+    """Chunks of the row classes: cbounds (n_classes + 1,), chunks (n_chunks, 3).
 
-    chunks[cbounds[c]:cbounds[c + 1]] split class c by band (see :func:`band_table`); a chunk
-    is (band, first row, n rows, rank of its first row in order); its rows are first row + 2 q
-    (q < n).
+    chunks[cbounds[c]:cbounds[c + 1]] split class c; a chunk is (first row, n rows, rank of
+    its first row in order); its rows are first row + 2 q (q < n). The split depends only on
+    the class sizes (CHUNK_ROWS, MAX_CHUNKS), not on the thread count.
     """
-    ny = order.shape[0]
-    bands = band_table(ny)
     n_cls = bounds.shape[0] - 1
-    band_of = np.empty(ny, dtype=np.int64)
-    for b in range(bands.shape[0] - 1):
-        band_of[bands[b]:bands[b + 1]] = b
-    chunks = np.zeros((ny, 4), dtype=np.int64)
-    cbounds = np.zeros(n_cls + 1, dtype=np.int64)
-    e = -1
+    tot = 0
     for c in range(n_cls):
-        prev = -1
-        for r in range(bounds[c], bounds[c + 1]):
-            i = order[r]
-            if band_of[i] != prev:
-                e += 1
-                prev = band_of[i]
-                chunks[e, 0] = prev
-                chunks[e, 1] = i
-                chunks[e, 2] = 0
-                chunks[e, 3] = r
-            chunks[e, 2] += 1
-        cbounds[c + 1] = e + 1
-    return cbounds, chunks[:e + 1], bands
+        tot += min(MAX_CHUNKS, max(1, (bounds[c + 1] - bounds[c]) // CHUNK_ROWS))
+    chunks = np.zeros((tot, 3), dtype=np.int64)
+    cbounds = np.zeros(n_cls + 1, dtype=np.int64)
+    e = 0
+    for c in range(n_cls):
+        n = bounds[c + 1] - bounds[c]
+        nch = min(MAX_CHUNKS, max(1, n // CHUNK_ROWS))
+        for ch in range(nch):
+            a = ch * n // nch
+            chunks[e, 0] = order[bounds[c] + a]
+            chunks[e, 1] = (ch + 1) * n // nch - a
+            chunks[e, 2] = bounds[c] + a
+            e += 1
+        cbounds[c + 1] = e
+    return cbounds, chunks
 
 
 @nb.njit(inline="always", **_OPT)
 def _columns(T, zc, j, i0, code, periodic):
-    """(own, left, right, shifted) column buffers (3, 2, LH) of column j for rows of parity
+    """(own, left, right, shifted) column buffers (3, LP) of column j for rows of parity
     i0 % 2; a missing column is the zero buffer zc. shifted: the column j + s of the
     triangular diagonal bonds (s = -1 from even rows, +1 from odd rows)."""
     nx = T.shape[0]
@@ -348,260 +328,227 @@ def _columns(T, zc, j, i0, code, periodic):
 
 
 @nb.njit(inline="always", **_OPT)
-def _gather(code, vo, i0, n, cur, lft, rgt, dia, jt, bx, by, bz, w):
-    """Spins and local fields f = jt h + b of rows i0 + 2 q (q < n) into w (rows 0-5).
+def _gather(code, vo, t0, n, cur, lft, rgt, dia, jt, bx, by, bz, buf):
+    """Spins and local fields f = jt h + b of rows t0 + 2 q (buffer index, q < n) into buf.
 
-    Padded row index P = i + 1 lives at [P % 2, P // 2]: the rows of the chunk are
-    contiguous in half pp = P % 2, their neighbour rows P -/+ 1 in the other half at
-    m - 1 + pp and m + pp. vo : honeycomb vertical offset (+1 bond up, -1 bond down).
-    One loop per component keeps the number of pointers (alias checks) small.
+    vo : honeycomb vertical offset (+1 bond up, -1 bond down) of these rows in this column.
     """
-    pp = (i0 + 1) % 2
-    po = 1 - pp
-    m0 = (i0 + 1) // 2
-    d0 = m0 - 1 + pp  # other half: row below of q = 0 (row above at d0 + 1)
-    bc = (bx, by, bz)
-    for c in range(3):
-        cc = cur[c, pp]
-        oc = cur[c, po]
-        lc = lft[c, pp]
-        rc = rgt[c, pp]
-        b = bc[c]
-        so = c * W
-        fo = (3 + c) * W
-        if code == 0:
-            for q in range(n):
-                t = m0 + q
-                u = d0 + q
-                w[so + q] = cc[t]
-                w[fo + q] = jt * (lc[t] + rc[t] + oc[u] + oc[u + 1]) + b
-        elif code == 1:
-            dc = dia[c, po]
-            for q in range(n):
-                t = m0 + q
-                u = d0 + q
-                w[so + q] = cc[t]
-                w[fo + q] = jt * (lc[t] + rc[t] + oc[u] + oc[u + 1] + dc[u] + dc[u + 1]) + b
-        else:
-            v0 = d0 + (1 if vo > 0 else 0)
-            for q in range(n):
-                t = m0 + q
-                w[so + q] = cc[t]
-                w[fo + q] = jt * (lc[t] + rc[t] + oc[v0 + q]) + b
-
-
-@nb.njit(inline="always", **_OPT)
-def _scatter(i0, n, cur, w):
-    pp = (i0 + 1) % 2
-    m0 = (i0 + 1) // 2
-    for c in range(3):
-        cc = cur[c, pp]
-        so = c * W
+    cx = cur[0]
+    cy = cur[1]
+    cz = cur[2]
+    lx = lft[0]
+    ly = lft[1]
+    lz = lft[2]
+    rx = rgt[0]
+    ry = rgt[1]
+    rz = rgt[2]
+    sx = buf[0]
+    sy = buf[1]
+    sz = buf[2]
+    fx = buf[3]
+    fy = buf[4]
+    fz = buf[5]
+    if code == 0:
         for q in range(n):
-            cc[m0 + q] = w[so + q]
-
-
-@intrinsic
-def _prefetch(typingctx, arr, idx):
-    """Software prefetch (read, keep in all levels) of element idx of a 1D array."""
-    def codegen(context, builder, sig, args):
-        aryty = sig.args[0]
-        ary = context.make_array(aryty)(context, builder, args[0])
-        ptr = cgutils.get_item_pointer(context, builder, aryty, ary, [args[1]])
-        i8p = ir.IntType(8).as_pointer()
-        i32 = ir.IntType(32)
-        fnty = ir.FunctionType(ir.VoidType(), [i8p, i32, i32, i32])
-        fn = cgutils.get_or_insert_function(builder.module, fnty, "llvm.prefetch.p0i8")
-        builder.call(fn, [builder.bitcast(ptr, i8p), ir.Constant(i32, 0), ir.Constant(i32, 3),
-                          ir.Constant(i32, 1)])
-        return context.get_dummy_value()
-
-    return types.void(arr, types.intp), codegen
+            t = t0 + 2 * q
+            sx[q] = cx[t]
+            sy[q] = cy[t]
+            sz[q] = cz[t]
+            fx[q] = jt * (lx[t] + rx[t] + cx[t - 1] + cx[t + 1]) + bx
+            fy[q] = jt * (ly[t] + ry[t] + cy[t - 1] + cy[t + 1]) + by
+            fz[q] = jt * (lz[t] + rz[t] + cz[t - 1] + cz[t + 1]) + bz
+    elif code == 1:
+        dx = dia[0]
+        dy = dia[1]
+        dz = dia[2]
+        for q in range(n):
+            t = t0 + 2 * q
+            sx[q] = cx[t]
+            sy[q] = cy[t]
+            sz[q] = cz[t]
+            fx[q] = jt * (lx[t] + rx[t] + cx[t - 1] + cx[t + 1] + dx[t - 1] + dx[t + 1]) + bx
+            fy[q] = jt * (ly[t] + ry[t] + cy[t - 1] + cy[t + 1] + dy[t - 1] + dy[t + 1]) + by
+            fz[q] = jt * (lz[t] + rz[t] + cz[t - 1] + cz[t + 1] + dz[t - 1] + dz[t + 1]) + bz
+    else:
+        for q in range(n):
+            t = t0 + 2 * q
+            u = t + vo
+            sx[q] = cx[t]
+            sy[q] = cy[t]
+            sz[q] = cz[t]
+            fx[q] = jt * (lx[t] + rx[t] + cx[u]) + bx
+            fy[q] = jt * (ly[t] + ry[t] + cy[u]) + by
+            fz[q] = jt * (lz[t] + rz[t] + cz[u]) + bz
 
 
 @nb.njit(inline="always", **_OPT)
-def _put(col, P, v):
-    col[P % 2, P // 2] = v
-
-
-@nb.njit(inline="always", **_OPT)
-def _get(col, P):
-    return col[P % 2, P // 2]
+def _scatter(t0, n, cur, buf):
+    cx = cur[0]
+    cy = cur[1]
+    cz = cur[2]
+    sx = buf[0]
+    sy = buf[1]
+    sz = buf[2]
+    for q in range(n):
+        t = t0 + 2 * q
+        cx[t] = sx[q]
+        cy[t] = sy[q]
+        cz[t] = sz[q]
 
 
 @nb.njit(**_OPT)
-def _chunk_sweep(T, zc, bands, bnd, i0, n, r0, ny, code, periodic, jt, kt, ax, ay, az, bx, by,
-                 bz, beta, sigma, k, reflect, n_or, counts, w):
-    """Sweep the n rows i0 + 2 q of one chunk (in band bnd), column by column, left to
-    right; refresh the ghost copies of its band-edge rows in the neighbouring bands."""
-    nx = T.shape[1]
-    nbands = bands.shape[0] - 1
+def _chunk_sweep(T, zc, i0, n, r0, ny, code, periodic, jt, kt, ax, ay, az, bx, by, bz, beta,
+                 sigma, k, reflect, n_or, counts, buf, g, cnt):
+    """Sweep the n rows i0 + 2 q of one chunk, column by column, left to right."""
+    nx = T.shape[0]
     nsites = nx * ny
-    a = bands[bnd]
-    ln = bands[bnd + 1] - a
-    il = i0 - a  # local row (bands start on even rows: same parity)
-    last = il + 2 * (n - 1)
-    bp = (bnd - 1) % nbands
-    bn = (bnd + 1) % nbands
-    to_prev = il == 0 and (periodic or bnd > 0)
-    to_next = last == ln - 1 and (periodic or bnd < nbands - 1)
-    lp = bands[bp + 1] - bands[bp]
-    tb = T[bnd]
-    w[9 * W:] = 0.0
-    csz = tb.shape[1] * tb.shape[2] * tb.shape[3]  # doubles per column
+    t0 = i0 + 1
+    last = i0 + 2 * (n - 1)
+    cnt[:, :n] = 0
     for j in range(nx):
-        if j + PREFETCH < nx:  # columns are streamed from L3 on big lattices
-            f = tb[j + PREFETCH].reshape(csz)
-            for x in range(0, csz, 8):
-                _prefetch(f, x)
-        cur, lft, rgt, dia = _columns(tb, zc, j, i0, code, periodic)
+        cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
         vo = 1 if (i0 + j) % 2 == 0 else -1  # honeycomb: (i + j) even bonds up
-        _gather(code, vo, il, n, cur, lft, rgt, dia, jt, bx, by, bz, w)
+        _gather(code, vo, t0, n, cur, lft, rgt, dia, jt, bx, by, bz, buf)
         _moves(n, k, r0 * nx + j * n, nsites, ax, ay, az, 0.5 * kt, beta, sigma, reflect, n_or,
-               w)
-        _scatter(il, n, cur, w)
-        if to_prev:  # row a is the ghost P = lp + 1 of the previous band
-            for c in range(3):
-                _put(T[bp, j, c], lp + 1, _get(cur[c], 1))
-        if to_next:  # row a + ln - 1 is the ghost P = 0 of the next band
-            for c in range(3):
-                _put(T[bn, j, c], 0, _get(cur[c], ln))
+               buf, g, cnt)
+        _scatter(t0, n, cur, buf)
+        if periodic:  # ghost rows: copies of rows ny - 1 (index 0) and 0 (index ny + 1)
+            if i0 == 0:
+                for c in range(3):
+                    cur[c, ny + 1] = cur[c, 1]
+            if last == ny - 1:
+                for c in range(3):
+                    cur[c, 0] = cur[c, ny]
     for q in range(n):
         for c in range(3):
-            counts[i0 + 2 * q, c] += np.int64(w[(9 + c) * W + q])
+            counts[i0 + 2 * q, c] += cnt[c, q]
 
 
 @nb.njit(**_OPT)
-def _work(s, chunks, bands):
-    """Transposed spins T (n_bands, nx, 3, 2, LH), a zero column (3, 2, LH) and per-chunk
-    scratch w (n_chunks, 12 W): rows of W doubles, 0-2 spins, 3-5 local fields, 6-8 Gaussian
-    numbers, 9-11 accepted-move counts. Band b, column j, component c, local padded row
-    P = i - bands[b] + 1 (ghost rows P = 0 and P = band length + 1: the rows next to the
-    band) at T[b, j, c, P % 2, P // 2]."""
-    nx = s.shape[1]
-    lmax = 1
-    for b in range(bands.shape[0] - 1):
-        lmax = max(lmax, bands[b + 1] - bands[b])
-    LH = row_pad((lmax + 3) // 2 - 2)  # >= (lmax + 3) // 2, a multiple of 8 doubles
+def _work(s, chunks):
+    """Transposed spins T (nx, 3, LP), a zero column (3, LP), per-chunk scratch buf, g, cnt."""
+    ny, nx = s.shape[0], s.shape[1]
+    LP = row_pad(ny)
+    w = 1
+    for e in range(chunks.shape[0]):
+        w = max(w, chunks[e, 1])
+    w = (w + 7) // 8 * 8
     nch = max(1, chunks.shape[0])
-    return (np.zeros((bands.shape[0] - 1, nx, 3, 2, LH)), np.zeros((3, 2, LH)),
-            np.zeros((nch, 12 * W)))
+    return (np.zeros((nx, 3, LP)), np.zeros((3, LP)), np.empty((nch, 6, w)),
+            np.empty((nch, 3 * w + 8)), np.empty((nch, 3, w), dtype=np.int64))
 
 
 _TILE = 16  # rows per tile of the transposes (16 cache lines stay in L1 across columns)
 
 
 @nb.njit(**_OPT)
-def _to_t(s, T, bands, b, periodic):
-    """Band b of s (ny, nx, 3) into T[b] with its ghost rows (neighbour rows or zeros)."""
+def _to_t(s, T, periodic, lo, hi):
+    """Rows lo..hi of s (ny, nx, 3) into T (nx, 3, LP) at 1 + i; the ghost rows when the
+    range holds row 0 or ny - 1 (copies of the wrapped rows, or zeros)."""
     ny, nx = s.shape[0], s.shape[1]
-    lo = bands[b]
-    hi = bands[b + 1]
-    tb = T[b]
     for a in range(lo, hi, _TILE):
         e = min(a + _TILE, hi)
         for j in range(nx):
             for c in range(3):
-                col = tb[j, c]
+                col = T[j, c]
                 for i in range(a, e):
-                    _put(col, i - lo + 1, s[i, j, c])
-    below = lo - 1 if lo > 0 else (ny - 1 if periodic else -1)
-    above = hi if hi < ny else (0 if periodic else -1)
+                    col[i + 1] = s[i, j, c]
     for j in range(nx):
         for c in range(3):
-            _put(tb[j, c], 0, s[below, j, c] if below >= 0 else 0.0)
-            _put(tb[j, c], hi - lo + 1, s[above, j, c] if above >= 0 else 0.0)
+            if lo == 0:
+                T[j, c, ny + 1] = s[0, j, c] if periodic else 0.0
+            if hi == ny:
+                T[j, c, 0] = s[ny - 1, j, c] if periodic else 0.0
 
 
 @nb.njit(**_OPT)
-def _from_t(T, s, bands, b):
+def _from_t(T, s, lo, hi):
     nx = s.shape[1]
-    lo = bands[b]
-    hi = bands[b + 1]
-    tb = T[b]
     for a in range(lo, hi, _TILE):
         e = min(a + _TILE, hi)
         for j in range(nx):
             for c in range(3):
-                col = tb[j, c]
+                col = T[j, c]
                 for i in range(a, e):
-                    s[i, j, c] = _get(col, i - lo + 1)
+                    s[i, j, c] = col[i + 1]
 
 
 @nb.njit(parallel=True, **_OPT)
-def _convert_par(s, T, bands, periodic, to_t):
-    for b in nb.prange(bands.shape[0] - 1):
+def _convert_par(s, T, periodic, to_t):
+    ny = s.shape[0]
+    nch = min(32, ny)
+    for ch in nb.prange(nch):
         if to_t:
-            _to_t(s, T, bands, b, periodic)
+            _to_t(s, T, periodic, ch * ny // nch, (ch + 1) * ny // nch)
         else:
-            _from_t(T, s, bands, b)
+            _from_t(T, s, ch * ny // nch, (ch + 1) * ny // nch)
 
 
 @nb.njit(**_OPT)
-def _convert(s, T, bands, periodic, to_t, parallel):
+def _convert(s, T, periodic, to_t, parallel):
     if parallel:
-        _convert_par(s, T, bands, periodic, to_t)
+        _convert_par(s, T, periodic, to_t)
+    elif to_t:
+        _to_t(s, T, periodic, 0, s.shape[0])
     else:
-        for b in range(bands.shape[0] - 1):
-            if to_t:
-                _to_t(s, T, bands, b, periodic)
-            else:
-                _from_t(T, s, bands, b)
+        _from_t(T, s, 0, s.shape[0])
 
 
 @nb.njit(inline="always", **_OPT)
-def _do_chunk(T, zc, chunks, bands, e, ny, code, periodic, jt, kt, axis, b, beta, sigma, k,
-              reflect, n_or, counts, w):
-    _chunk_sweep(T, zc, bands, chunks[e, 0], chunks[e, 1], chunks[e, 2], chunks[e, 3], ny, code,
-                 periodic, jt, kt, axis[0], axis[1], axis[2], b[0], b[1], b[2], beta, sigma, k,
-                 reflect, n_or, counts, w[e])
+def _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma, k, reflect,
+              n_or, counts, buf, g, cnt):
+    _chunk_sweep(T, zc, chunks[e, 0], chunks[e, 1], chunks[e, 2], ny, code, periodic, jt, kt,
+                 axis[0], axis[1], axis[2], b[0], b[1], b[2], beta, sigma, k, reflect, n_or,
+                 counts, buf[e], g[e], cnt[e])
 
 
 @nb.njit(parallel=True, **_OPT)
-def _sweeps_t(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
-              stream, sweep0, n_sweeps, reflect, n_or, counts, w):
+def _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
+              stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
     """n_sweeps sweeps of the transposed spins; the chunks of one class run in parallel."""
     for t in range(n_sweeps):
         k = key(seed, stream, sweep0 + t)
         for c in range(cbounds.shape[0] - 1):
             a = cbounds[c]
             for e in nb.prange(cbounds[c + 1] - a):
-                _do_chunk(T, zc, chunks, bands, a + e, ny, code, periodic, jt, kt, axis, b,
-                          beta, sigma, k, reflect, n_or, counts, w)
+                _do_chunk(T, zc, chunks, a + e, ny, code, periodic, jt, kt, axis, b, beta,
+                          sigma, k, reflect, n_or, counts, buf, g, cnt)
 
 
 @nb.njit(**_OPT)
-def _sweeps_t_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
-                     sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w):
+def _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                     seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
     """Single-thread twin of :func:`_sweeps_t` (same chunks, same results bit for bit)."""
     for t in range(n_sweeps):
         k = key(seed, stream, sweep0 + t)
         for c in range(cbounds.shape[0] - 1):
             for e in range(cbounds[c], cbounds[c + 1]):
-                _do_chunk(T, zc, chunks, bands, e, ny, code, periodic, jt, kt, axis, b, beta,
-                          sigma, k, reflect, n_or, counts, w)
+                _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                          k, reflect, n_or, counts, buf, g, cnt)
 
 
 @nb.njit(**_OPT)
-def _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w, parallel):
+def _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
+                stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel):
     if parallel:
-        _sweeps_t(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                  seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w)
+        _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                  seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt)
     else:
-        _sweeps_t_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
-                         sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w)
+        _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta,
+                         sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g,
+                         cnt)
 
 
 @nb.njit(**_OPT)
 def _sweeps(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed, stream,
             sweep0, n_sweeps, reflect, n_or, counts, parallel):
-    cbounds, chunks, bands = chunk_table(order, bounds)
-    T, zc, w = _work(s, chunks, bands)
-    _convert(s, T, bands, periodic, True, parallel)
-    _run_sweeps(T, zc, cbounds, chunks, bands, s.shape[0], code, periodic, jt, kt, axis, b, beta,
-                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, w, parallel)
-    _convert(s, T, bands, periodic, False, parallel)
+    cbounds, chunks = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks)
+    _convert(s, T, periodic, True, parallel)
+    _run_sweeps(T, zc, cbounds, chunks, s.shape[0], code, periodic, jt, kt, axis, b, beta,
+                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt,
+                parallel)
+    _convert(s, T, periodic, False, parallel)
 
 
 @nb.njit(**_OPT)
@@ -643,22 +590,22 @@ def kernel_energy_changes(s, order, bounds, code, periodic, jt, kt, axis, b, new
     through the sweep kernel's own path (transposed columns, ghost rows, gather, move energy);
     s is not modified. For tests against a full reference energy."""
     ny, nx = s.shape[0], s.shape[1]
-    cbounds, chunks, bands = chunk_table(order, bounds)
-    T, zc, w = _work(s, chunks, bands)
-    _convert(s, T, bands, periodic, True, False)
+    cbounds, chunks = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks)
+    _convert(s, T, periodic, True, False)
     out = np.empty((ny, nx))
-    bb = w[0]
+    bb = buf[0]
     for e in range(chunks.shape[0]):
-        bnd, i0, n = chunks[e, 0], chunks[e, 1], chunks[e, 2]
+        i0, n = chunks[e, 0], chunks[e, 1]
         for j in range(nx):
-            cur, lft, rgt, dia = _columns(T[bnd], zc, j, i0, code, periodic)
+            cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
             vo = 1 if (i0 + j) % 2 == 0 else -1
-            _gather(code, vo, i0 - bands[bnd], n, cur, lft, rgt, dia, jt, b[0], b[1], b[2], bb)
+            _gather(code, vo, i0 + 1, n, cur, lft, rgt, dia, jt, b[0], b[1], b[2], bb)
             for q in range(n):
                 i = i0 + 2 * q
-                out[i, j] = _de(bb[q], bb[W + q], bb[2 * W + q], new[i, j, 0], new[i, j, 1],
-                                new[i, j, 2], bb[3 * W + q], bb[4 * W + q], bb[5 * W + q],
-                                axis[0], axis[1], axis[2], 0.5 * kt)
+                out[i, j] = _de(bb[0, q], bb[1, q], bb[2, q], new[i, j, 0], new[i, j, 1],
+                                new[i, j, 2], bb[3, q], bb[4, q], bb[5, q], axis[0], axis[1],
+                                axis[2], 0.5 * kt)
     return out
 
 
@@ -717,14 +664,14 @@ def metropolis_samples(s, order, bounds, code, periodic, jt, kt, axis, b, beta, 
     Other arguments as :func:`metropolis_sweeps`. The work arrays are made once.
     """
     ny = s.shape[0]
-    cbounds, chunks, bands = chunk_table(order, bounds)
-    T, zc, w = _work(s, chunks, bands)
-    _convert(s, T, bands, periodic, True, parallel)
+    cbounds, chunks = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks)
+    _convert(s, T, periodic, True, parallel)
     for k in range(n_samples):
-        _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+        _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
                     seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or,
-                    counts, w, parallel)
-        _convert(s, T, bands, periodic, False, parallel)
+                    counts, buf, g, cnt, parallel)
+        _convert(s, T, periodic, False, parallel)
         if parallel:
             row_sums(s, code, periodic, jt, kt, axis, b, rows)
         else:
