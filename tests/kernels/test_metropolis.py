@@ -29,7 +29,7 @@ CASES = [
     ("honeycomb", 6, 4, True), ("honeycomb", 8, 6, True), ("honeycomb", 2, 2, True),
     ("honeycomb", 5, 7, False), ("honeycomb", 1, 3, False),
 ]
-# several chunks per class: tall, narrow lattices
+# several row bands (ghost rows copied between bands): tall, narrow lattices
 TALL = [("square", 3, 258, True), ("square", 4, 257, True), ("square", 3, 300, False),
         ("triangular", 3, 260, True), ("triangular", 4, 262, False),
         ("honeycomb", 4, 258, True), ("honeycomb", 3, 259, False)]
@@ -48,11 +48,13 @@ def _params():
 
 def _tables(lat, split_rows=False):
     order, bounds = row_colouring(lat.ny, lat.periodic)
-    cb, ch = chunk_table(order, bounds)
+    cb, ch, bands = chunk_table(order, bounds)
     if split_rows:  # one chunk per row: the finest split the kernel allows
-        ch = np.array([[order[r], 1, r] for r in range(lat.ny)], dtype=np.int64)
+        band_of = np.searchsorted(bands, np.arange(lat.ny), side="right") - 1
+        ch = np.array([[band_of[order[r]], order[r], 1, r] for r in range(lat.ny)],
+                      dtype=np.int64)
         cb = bounds.copy()
-    return cb, ch
+    return cb, ch, bands
 
 
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
@@ -81,21 +83,24 @@ def test_odd_periodic_rows_get_a_third_class():
                                          (1024, True), (4096, True)])
 def test_chunks_cover_every_row_once_with_unique_random_counters(ny, periodic):
     order, bounds = row_colouring(ny, periodic)
-    cb, ch = chunk_table(order, bounds)
+    cb, ch, bands = chunk_table(order, bounds)
+    assert bands[0] == 0 and bands[-1] == ny and np.all(bands[:-1] % 2 == 0)
+    assert np.all(np.diff(bands) <= 2 * mk.W)
     nx = 5
     rows = []
     visits = []
     for c in range(len(cb) - 1):
         cls_rows = set(order[bounds[c]:bounds[c + 1]].tolist())
-        for i0, n, r0 in ch[cb[c]:cb[c + 1]]:
+        for bnd, i0, n, r0 in ch[cb[c]:cb[c + 1]]:
             chunk_rows = list(range(i0, i0 + 2 * n, 2))
-            assert set(chunk_rows) <= cls_rows and order[r0] == i0
+            assert set(chunk_rows) <= cls_rows and order[r0] == i0 and n <= mk.W
+            assert bands[bnd] <= i0 and chunk_rows[-1] < bands[bnd + 1]
             rows += chunk_rows
             visits += [r0 * nx + j * n + q for j in range(nx) for q in range(n)]
     assert sorted(rows) == list(range(ny))
     assert sorted(visits) == list(range(nx * ny))  # counters 4 v0 + p and (4 + u) N + v unique
     if ny >= 256 and ny % 2 == 0:
-        assert ch[:, 1].min() >= 64  # long SIMD loops
+        assert ch[:, 2].min() >= 64  # long SIMD loops
 
 
 def _run(kernel, s, lat, n=3, reflect=True, n_or=2, beta=2.0, sigma=0.6, params=None):
@@ -107,15 +112,15 @@ def _run(kernel, s, lat, n=3, reflect=True, n_or=2, beta=2.0, sigma=0.6, params=
     return counts
 
 
-def _run_table(s, lat, cb, ch, n=3):
+def _run_table(s, lat, cb, ch, bands, n=3):
     # the serial sweep with a given chunk table
     jt, kt, axis, b = _params()
     counts = np.zeros((lat.ny, 3), dtype=np.int64)
-    T, zc, buf, g, cnt = mk._work(s, ch)
-    mk._convert(s, T, lat.periodic, True, False)
-    mk._run_sweeps(T, zc, cb, ch, lat.ny, lat.code, lat.periodic, jt, kt, axis, b, 2.0, 0.6, 11,
-                   1, 5, n, True, 2, counts, buf, g, cnt, False)
-    mk._convert(s, T, lat.periodic, False, False)
+    T, zc, buf, g, cnt = mk._work(s, ch, bands)
+    mk._convert(s, T, bands, lat.periodic, True, False)
+    mk._run_sweeps(T, zc, cb, ch, bands, lat.ny, lat.code, lat.periodic, jt, kt, axis, b, 2.0,
+                   0.6, 11, 1, 5, n, True, 2, counts, buf, g, cnt, False)
+    mk._convert(s, T, bands, lat.periodic, False, False)
     return counts
 
 
@@ -124,19 +129,19 @@ def test_result_does_not_depend_on_chunk_order_inside_a_class(shape, nx, ny, per
     # race freedom: the rows of one class are independent, so running the (one-row) chunks of
     # a class in reverse order changes no bit
     lat = Lattice(shape, nx, ny, 0.3, periodic)
-    cb, ch = _tables(lat, split_rows=True)
+    cb, ch, bands = _tables(lat, split_rows=True)
     rev = ch.copy()
     for c in range(len(cb) - 1):
         rev[cb[c]:cb[c + 1]] = ch[cb[c]:cb[c + 1]][::-1]
     s0 = _spins(rng, ny, nx)
     a, b = s0.copy(), s0.copy()
-    ca = _run_table(a, lat, cb, ch)
-    cb_ = _run_table(b, lat, cb, rev)
+    ca = _run_table(a, lat, cb, ch, bands)
+    cb_ = _run_table(b, lat, cb, rev, bands)
     assert np.array_equal(a, b) and np.array_equal(ca, cb_)
     assert not np.array_equal(a, s0)
     c = s0.copy()  # the public kernel is the same computation with its own chunks
-    cb2, ch2 = _tables(lat)
-    cc = _run_table(c, lat, cb2, ch2)
+    cb2, ch2, bands2 = _tables(lat)
+    cc = _run_table(c, lat, cb2, ch2, bands2)
     d = s0.copy()
     assert np.array_equal(_run(metropolis_sweeps_serial, d, lat), cc) and np.array_equal(c, d)
 
@@ -144,12 +149,13 @@ def test_result_does_not_depend_on_chunk_order_inside_a_class(shape, nx, ny, per
 def test_order_check_detects_a_wrong_colouring(rng):
     # sanity of the previous test: with all rows in one class, the order does matter
     lat = Lattice("square", 6, 6, 0.3, True)
-    ch = np.array([[i, 1, i] for i in range(6)], dtype=np.int64)
+    ch = np.array([[0, i, 1, i] for i in range(6)], dtype=np.int64)
     cb = np.array([0, 6], dtype=np.int64)
+    bands = np.array([0, 6], dtype=np.int64)
     s0 = _spins(rng, 6, 6)
     a, b = s0.copy(), s0.copy()
-    _run_table(a, lat, cb, ch)
-    _run_table(b, lat, cb, ch[::-1].copy())
+    _run_table(a, lat, cb, ch, bands)
+    _run_table(b, lat, cb, ch[::-1].copy(), bands)
     assert not np.array_equal(a, b)
 
 

@@ -12,12 +12,13 @@ whenever they are not adjacent. :func:`row_colouring` puts the rows in classes:
 Visiting order: classes one after the other; inside a class every row is swept left to right
 (j = 0 .. nx - 1), each site seeing its already updated left neighbour. The rows of a class are
 independent, so the kernel updates column j of all rows of a chunk of the class at once: the
-spins are held transposed during the sweeps, T[j, c, 1 + i] (column j, component c, row i, one
-ghost row on each side: wrapped copies for periodic edges, zeros for open ones), and one
-column step is a stride-2 gather of spins and local fields into contiguous buffers followed by
-branch-free loops over the rows (candidate, energy change and acceptance computed for every
-row, the outcome selected), which compile to SIMD code. Chunks of a class (a fixed split of its
-rows, independent of the thread count) run in parallel.
+spins are held transposed during the sweeps, in row bands of about BAND_ROWS rows with their
+own memory: T[b, j, c, P] (band b, column j, component c, local padded row P, one ghost row on
+each side holding the neighbouring band's edge row, or the wrapped row, or zeros at open
+edges). One column step is a stride-2 gather of spins and local fields into contiguous buffers
+followed by branch-free loops over the rows (candidate, energy change and acceptance computed
+for every row, the outcome selected), which compile to SIMD code. The chunks of a class (its
+rows in one band; the split depends only on ny, not on the thread count) run in parallel.
 
 Moves at every visited site, all with symmetric proposals accepted by the Metropolis rule
 min(1, exp(-dE/kBT)), tested as log(u) <= -dE/kBT with u uniform in (0, 1]:
@@ -46,6 +47,10 @@ import math
 
 import numba as nb
 import numpy as np
+from llvmlite import ir
+from numba import types
+from numba.core import cgutils
+from numba.extending import intrinsic
 
 from .field import neighbour_rows, row_pad
 from .rng import _bits_f64, fast_log, hash64, key, normals_row
@@ -65,9 +70,9 @@ __all__ = [
 
 N_COUNTS = 3  # accepted: gaussian, reflection, over-relaxation
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
-CHUNK_ROWS = 64  # rows per chunk of a class (at least): long column loops; 3 x 64 normals
-# are 96 Box-Muller pairs, a whole number of SIMD iterations
-MAX_CHUNKS = 8  # chunks per class (at most): parallel work units
+BAND_ROWS = 128  # rows per band (at least): chunks of 64 rows of one class, long column loops
+PREFETCH = 2  # columns prefetched ahead
+W = 128  # scratch row length: the most rows of one class in a band (bands <= 2 W rows)
 _ONE_BITS = np.uint64(0x3FF0000000000000)
 _S12 = np.uint64(12)
 
@@ -276,31 +281,48 @@ def _moves(na, k, v0, nsites, ax, ay, az, half_kt, beta, sigma, reflect, n_or, b
 
 
 @nb.njit(cache=True)
-def chunk_table(order, bounds):
-    """Chunks of the row classes: cbounds (n_classes + 1,), chunks (n_chunks, 3).
+def band_table(ny):
+    """Row bands [bands[b], bands[b + 1]): contiguous, even starts, about BAND_ROWS rows and at
+    most 2 W rows each. They depend only on ny (not on the thread count)."""
+    nb_ = max(ny // BAND_ROWS, (ny + 2 * W - 1) // (2 * W), 1)
+    bands = np.empty(nb_ + 1, dtype=np.int64)
+    for b in range(nb_):
+        bands[b] = 2 * ((b * ny // nb_) // 2)
+    bands[nb_] = ny
+    return bands
 
-    chunks[cbounds[c]:cbounds[c + 1]] split class c; a chunk is (first row, n rows, rank of
-    its first row in order); its rows are first row + 2 q (q < n). The split depends only on
-    the class sizes (CHUNK_ROWS, MAX_CHUNKS), not on the thread count.
+
+@nb.njit(cache=True)
+def chunk_table(order, bounds):
+    """Chunks of the row classes: cbounds (n_classes + 1,), chunks (n_chunks, 4), bands.
+
+    chunks[cbounds[c]:cbounds[c + 1]] split class c by band (see :func:`band_table`); a chunk
+    is (band, first row, n rows, rank of its first row in order); its rows are first row + 2 q
+    (q < n).
     """
+    ny = order.shape[0]
+    bands = band_table(ny)
     n_cls = bounds.shape[0] - 1
-    tot = 0
-    for c in range(n_cls):
-        tot += min(MAX_CHUNKS, max(1, (bounds[c + 1] - bounds[c]) // CHUNK_ROWS))
-    chunks = np.zeros((tot, 3), dtype=np.int64)
+    band_of = np.empty(ny, dtype=np.int64)
+    for b in range(bands.shape[0] - 1):
+        band_of[bands[b]:bands[b + 1]] = b
+    chunks = np.zeros((ny, 4), dtype=np.int64)
     cbounds = np.zeros(n_cls + 1, dtype=np.int64)
-    e = 0
+    e = -1
     for c in range(n_cls):
-        n = bounds[c + 1] - bounds[c]
-        nch = min(MAX_CHUNKS, max(1, n // CHUNK_ROWS))
-        for ch in range(nch):
-            a = ch * n // nch
-            chunks[e, 0] = order[bounds[c] + a]
-            chunks[e, 1] = (ch + 1) * n // nch - a
-            chunks[e, 2] = bounds[c] + a
-            e += 1
-        cbounds[c + 1] = e
-    return cbounds, chunks
+        prev = -1
+        for r in range(bounds[c], bounds[c + 1]):
+            i = order[r]
+            if band_of[i] != prev:
+                e += 1
+                prev = band_of[i]
+                chunks[e, 0] = prev
+                chunks[e, 1] = i
+                chunks[e, 2] = 0
+                chunks[e, 3] = r
+            chunks[e, 2] += 1
+        cbounds[c + 1] = e + 1
+    return cbounds, chunks[:e + 1], bands
 
 
 @nb.njit(inline="always", **_OPT)
@@ -396,114 +418,166 @@ def _scatter(t0, n, cur, buf):
         cz[t] = sz[q]
 
 
+@intrinsic
+def _prefetch(typingctx, arr, idx):
+    """Software prefetch (read, keep in all levels) of element idx of a 1D array."""
+    def codegen(context, builder, sig, args):
+        aryty = sig.args[0]
+        ary = context.make_array(aryty)(context, builder, args[0])
+        ptr = cgutils.get_item_pointer(context, builder, aryty, ary, [args[1]])
+        i8p = ir.IntType(8).as_pointer()
+        i32 = ir.IntType(32)
+        fnty = ir.FunctionType(ir.VoidType(), [i8p, i32, i32, i32])
+        fn = cgutils.get_or_insert_function(builder.module, fnty, "llvm.prefetch.p0i8")
+        builder.call(fn, [builder.bitcast(ptr, i8p), ir.Constant(i32, 0), ir.Constant(i32, 3),
+                          ir.Constant(i32, 1)])
+        return context.get_dummy_value()
+
+    return types.void(arr, types.intp), codegen
+
+
+@nb.njit(inline="always", **_OPT)
+def _put(col, P, v):
+    col[P] = v
+
+
+@nb.njit(inline="always", **_OPT)
+def _get(col, P):
+    return col[P]
+
+
 @nb.njit(**_OPT)
-def _chunk_sweep(T, zc, i0, n, r0, ny, code, periodic, jt, kt, ax, ay, az, bx, by, bz, beta,
-                 sigma, k, reflect, n_or, counts, buf, g, cnt):
-    """Sweep the n rows i0 + 2 q of one chunk, column by column, left to right."""
-    nx = T.shape[0]
+def _chunk_sweep(T, zc, bands, bnd, i0, n, r0, ny, code, periodic, jt, kt, ax, ay, az, bx, by,
+                 bz, beta, sigma, k, reflect, n_or, counts, buf, g, cnt):
+    """Sweep the n rows i0 + 2 q of one chunk (in band bnd), column by column, left to
+    right; refresh the ghost copies of its band-edge rows in the neighbouring bands."""
+    nx = T.shape[1]
+    nbands = bands.shape[0] - 1
     nsites = nx * ny
-    t0 = i0 + 1
-    last = i0 + 2 * (n - 1)
+    a = bands[bnd]
+    ln = bands[bnd + 1] - a
+    il = i0 - a  # local row (bands start on even rows: same parity)
+    last = il + 2 * (n - 1)
+    bp = (bnd - 1) % nbands
+    bn = (bnd + 1) % nbands
+    to_prev = il == 0 and (periodic or bnd > 0)
+    to_next = last == ln - 1 and (periodic or bnd < nbands - 1)
+    lp = bands[bp + 1] - bands[bp]
+    tb = T[bnd]
     cnt[:, :n] = 0
+    csz = tb.shape[1] * tb.shape[2]  # doubles per column
     for j in range(nx):
-        cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
+        if j + PREFETCH < nx:  # columns are streamed from L3 on big lattices
+            f = tb[j + PREFETCH].reshape(csz)
+            for x in range(0, csz, 8):
+                _prefetch(f, x)
+        cur, lft, rgt, dia = _columns(tb, zc, j, i0, code, periodic)
         vo = 1 if (i0 + j) % 2 == 0 else -1  # honeycomb: (i + j) even bonds up
-        _gather(code, vo, t0, n, cur, lft, rgt, dia, jt, bx, by, bz, buf)
+        _gather(code, vo, il + 1, n, cur, lft, rgt, dia, jt, bx, by, bz, buf)
         _moves(n, k, r0 * nx + j * n, nsites, ax, ay, az, 0.5 * kt, beta, sigma, reflect, n_or,
                buf, g, cnt)
-        _scatter(t0, n, cur, buf)
-        if periodic:  # ghost rows: copies of rows ny - 1 (index 0) and 0 (index ny + 1)
-            if i0 == 0:
-                for c in range(3):
-                    cur[c, ny + 1] = cur[c, 1]
-            if last == ny - 1:
-                for c in range(3):
-                    cur[c, 0] = cur[c, ny]
+        _scatter(il + 1, n, cur, buf)
+        if to_prev:  # row a is the ghost P = lp + 1 of the previous band
+            for c in range(3):
+                _put(T[bp, j, c], lp + 1, _get(cur[c], 1))
+        if to_next:  # row a + ln - 1 is the ghost P = 0 of the next band
+            for c in range(3):
+                _put(T[bn, j, c], 0, _get(cur[c], ln))
     for q in range(n):
         for c in range(3):
             counts[i0 + 2 * q, c] += cnt[c, q]
 
 
 @nb.njit(**_OPT)
-def _work(s, chunks):
-    """Transposed spins T (nx, 3, LP), a zero column (3, LP), per-chunk scratch buf, g, cnt."""
-    ny, nx = s.shape[0], s.shape[1]
-    LP = row_pad(ny)
-    w = 1
-    for e in range(chunks.shape[0]):
-        w = max(w, chunks[e, 1])
-    w = (w + 7) // 8 * 8
+def _work(s, chunks, bands):
+    """Transposed spins T (n_bands, nx, 3, LP), a zero column (3, LP) and per-chunk scratch
+    buf (n_chunks, 6, W) (spins, local fields), g (n_chunks, 3 W + 8) (Gaussian numbers) and
+    cnt (n_chunks, 3, W) (accepted moves). Band b, column j, component c, local padded row
+    P = i - bands[b] + 1 (ghost rows P = 0 and P = band length + 1: the rows next to the band)
+    at T[b, j, c, P]. Each band has its own memory, so threads share no cache lines inside a
+    class."""
+    nx = s.shape[1]
+    lmax = 1
+    for b in range(bands.shape[0] - 1):
+        lmax = max(lmax, bands[b + 1] - bands[b])
+    LP = row_pad(lmax)
     nch = max(1, chunks.shape[0])
-    return (np.zeros((nx, 3, LP)), np.zeros((3, LP)), np.empty((nch, 6, w)),
-            np.empty((nch, 3 * w + 8)), np.empty((nch, 3, w), dtype=np.int64))
+    return (np.zeros((bands.shape[0] - 1, nx, 3, LP)), np.zeros((3, LP)),
+            np.empty((nch, 6, W)), np.empty((nch, 3 * W + 8)),
+            np.empty((nch, 3, W), dtype=np.int64))
 
 
 _TILE = 16  # rows per tile of the transposes (16 cache lines stay in L1 across columns)
 
 
 @nb.njit(**_OPT)
-def _to_t(s, T, periodic, lo, hi):
-    """Rows lo..hi of s (ny, nx, 3) into T (nx, 3, LP) at 1 + i; the ghost rows when the
-    range holds row 0 or ny - 1 (copies of the wrapped rows, or zeros)."""
+def _to_t(s, T, bands, b, periodic):
+    """Band b of s (ny, nx, 3) into T[b] with its ghost rows (neighbour rows or zeros)."""
     ny, nx = s.shape[0], s.shape[1]
+    lo = bands[b]
+    hi = bands[b + 1]
+    tb = T[b]
     for a in range(lo, hi, _TILE):
         e = min(a + _TILE, hi)
         for j in range(nx):
             for c in range(3):
-                col = T[j, c]
+                col = tb[j, c]
                 for i in range(a, e):
-                    col[i + 1] = s[i, j, c]
+                    _put(col, i - lo + 1, s[i, j, c])
+    below = lo - 1 if lo > 0 else (ny - 1 if periodic else -1)
+    above = hi if hi < ny else (0 if periodic else -1)
     for j in range(nx):
         for c in range(3):
-            if lo == 0:
-                T[j, c, ny + 1] = s[0, j, c] if periodic else 0.0
-            if hi == ny:
-                T[j, c, 0] = s[ny - 1, j, c] if periodic else 0.0
+            _put(tb[j, c], 0, s[below, j, c] if below >= 0 else 0.0)
+            _put(tb[j, c], hi - lo + 1, s[above, j, c] if above >= 0 else 0.0)
 
 
 @nb.njit(**_OPT)
-def _from_t(T, s, lo, hi):
+def _from_t(T, s, bands, b):
     nx = s.shape[1]
+    lo = bands[b]
+    hi = bands[b + 1]
+    tb = T[b]
     for a in range(lo, hi, _TILE):
         e = min(a + _TILE, hi)
         for j in range(nx):
             for c in range(3):
-                col = T[j, c]
+                col = tb[j, c]
                 for i in range(a, e):
-                    s[i, j, c] = col[i + 1]
+                    s[i, j, c] = _get(col, i - lo + 1)
 
 
 @nb.njit(parallel=True, **_OPT)
-def _convert_par(s, T, periodic, to_t):
-    ny = s.shape[0]
-    nch = min(32, ny)
-    for ch in nb.prange(nch):
+def _convert_par(s, T, bands, periodic, to_t):
+    for b in nb.prange(bands.shape[0] - 1):
         if to_t:
-            _to_t(s, T, periodic, ch * ny // nch, (ch + 1) * ny // nch)
+            _to_t(s, T, bands, b, periodic)
         else:
-            _from_t(T, s, ch * ny // nch, (ch + 1) * ny // nch)
+            _from_t(T, s, bands, b)
 
 
 @nb.njit(**_OPT)
-def _convert(s, T, periodic, to_t, parallel):
+def _convert(s, T, bands, periodic, to_t, parallel):
     if parallel:
-        _convert_par(s, T, periodic, to_t)
-    elif to_t:
-        _to_t(s, T, periodic, 0, s.shape[0])
+        _convert_par(s, T, bands, periodic, to_t)
     else:
-        _from_t(T, s, 0, s.shape[0])
+        for b in range(bands.shape[0] - 1):
+            if to_t:
+                _to_t(s, T, bands, b, periodic)
+            else:
+                _from_t(T, s, bands, b)
 
 
 @nb.njit(inline="always", **_OPT)
-def _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma, k, reflect,
-              n_or, counts, buf, g, cnt):
-    _chunk_sweep(T, zc, chunks[e, 0], chunks[e, 1], chunks[e, 2], ny, code, periodic, jt, kt,
-                 axis[0], axis[1], axis[2], b[0], b[1], b[2], beta, sigma, k, reflect, n_or,
-                 counts, buf[e], g[e], cnt[e])
+def _do_chunk(T, zc, chunks, bands, e, ny, code, periodic, jt, kt, axis, b, beta, sigma, k,
+              reflect, n_or, counts, buf, g, cnt):
+    _chunk_sweep(T, zc, bands, chunks[e, 0], chunks[e, 1], chunks[e, 2], chunks[e, 3], ny, code,
+                 periodic, jt, kt, axis[0], axis[1], axis[2], b[0], b[1], b[2], beta, sigma, k,
+                 reflect, n_or, counts, buf[e], g[e], cnt[e])
 
 
 @nb.njit(parallel=True, **_OPT)
-def _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
+def _sweeps_t(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
               stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
     """n_sweeps sweeps of the transposed spins; the chunks of one class run in parallel."""
     for t in range(n_sweeps):
@@ -511,44 +585,42 @@ def _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta,
         for c in range(cbounds.shape[0] - 1):
             a = cbounds[c]
             for e in nb.prange(cbounds[c + 1] - a):
-                _do_chunk(T, zc, chunks, a + e, ny, code, periodic, jt, kt, axis, b, beta,
-                          sigma, k, reflect, n_or, counts, buf, g, cnt)
+                _do_chunk(T, zc, chunks, bands, a + e, ny, code, periodic, jt, kt, axis, b,
+                          beta, sigma, k, reflect, n_or, counts, buf, g, cnt)
 
 
 @nb.njit(**_OPT)
-def _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                     seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
+def _sweeps_t_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
+                     sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt):
     """Single-thread twin of :func:`_sweeps_t` (same chunks, same results bit for bit)."""
     for t in range(n_sweeps):
         k = key(seed, stream, sweep0 + t)
         for c in range(cbounds.shape[0] - 1):
             for e in range(cbounds[c], cbounds[c + 1]):
-                _do_chunk(T, zc, chunks, e, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                          k, reflect, n_or, counts, buf, g, cnt)
+                _do_chunk(T, zc, chunks, bands, e, ny, code, periodic, jt, kt, axis, b, beta,
+                          sigma, k, reflect, n_or, counts, buf, g, cnt)
 
 
 @nb.njit(**_OPT)
-def _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
-                stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel):
+def _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel):
     if parallel:
-        _sweeps_t(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+        _sweeps_t(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
                   seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt)
     else:
-        _sweeps_t_serial(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta,
-                         sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g,
-                         cnt)
+        _sweeps_t_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
+                         sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt)
 
 
 @nb.njit(**_OPT)
 def _sweeps(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed, stream,
             sweep0, n_sweeps, reflect, n_or, counts, parallel):
-    cbounds, chunks = chunk_table(order, bounds)
-    T, zc, buf, g, cnt = _work(s, chunks)
-    _convert(s, T, periodic, True, parallel)
-    _run_sweeps(T, zc, cbounds, chunks, s.shape[0], code, periodic, jt, kt, axis, b, beta,
-                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt,
-                parallel)
-    _convert(s, T, periodic, False, parallel)
+    cbounds, chunks, bands = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks, bands)
+    _convert(s, T, bands, periodic, True, parallel)
+    _run_sweeps(T, zc, cbounds, chunks, bands, s.shape[0], code, periodic, jt, kt, axis, b, beta,
+                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel)
+    _convert(s, T, bands, periodic, False, parallel)
 
 
 @nb.njit(**_OPT)
@@ -590,17 +662,18 @@ def kernel_energy_changes(s, order, bounds, code, periodic, jt, kt, axis, b, new
     through the sweep kernel's own path (transposed columns, ghost rows, gather, move energy);
     s is not modified. For tests against a full reference energy."""
     ny, nx = s.shape[0], s.shape[1]
-    cbounds, chunks = chunk_table(order, bounds)
-    T, zc, buf, g, cnt = _work(s, chunks)
-    _convert(s, T, periodic, True, False)
+    cbounds, chunks, bands = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks, bands)
+    _convert(s, T, bands, periodic, True, False)
     out = np.empty((ny, nx))
     bb = buf[0]
     for e in range(chunks.shape[0]):
-        i0, n = chunks[e, 0], chunks[e, 1]
+        bnd, i0, n = chunks[e, 0], chunks[e, 1], chunks[e, 2]
         for j in range(nx):
-            cur, lft, rgt, dia = _columns(T, zc, j, i0, code, periodic)
+            cur, lft, rgt, dia = _columns(T[bnd], zc, j, i0, code, periodic)
             vo = 1 if (i0 + j) % 2 == 0 else -1
-            _gather(code, vo, i0 + 1, n, cur, lft, rgt, dia, jt, b[0], b[1], b[2], bb)
+            _gather(code, vo, i0 - bands[bnd] + 1, n, cur, lft, rgt, dia, jt, b[0], b[1], b[2],
+                    bb)
             for q in range(n):
                 i = i0 + 2 * q
                 out[i, j] = _de(bb[0, q], bb[1, q], bb[2, q], new[i, j, 0], new[i, j, 1],
@@ -664,14 +737,14 @@ def metropolis_samples(s, order, bounds, code, periodic, jt, kt, axis, b, beta, 
     Other arguments as :func:`metropolis_sweeps`. The work arrays are made once.
     """
     ny = s.shape[0]
-    cbounds, chunks = chunk_table(order, bounds)
-    T, zc, buf, g, cnt = _work(s, chunks)
-    _convert(s, T, periodic, True, parallel)
+    cbounds, chunks, bands = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks, bands)
+    _convert(s, T, bands, periodic, True, parallel)
     for k in range(n_samples):
-        _run_sweeps(T, zc, cbounds, chunks, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+        _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
                     seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or,
                     counts, buf, g, cnt, parallel)
-        _convert(s, T, periodic, False, parallel)
+        _convert(s, T, bands, periodic, False, parallel)
         if parallel:
             row_sums(s, code, periodic, jt, kt, axis, b, rows)
         else:
