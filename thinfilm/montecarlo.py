@@ -4,9 +4,9 @@ Units: spins are unit vectors; the sampled distribution is exp(-E/(kB T)) with E
 energy in joules. A model with moment 1 muB and J = 1 meV has kB T/J = t at
 T = t * 11.6045 K (J/kB = 11.6045 K for 1 meV).
 
-One sweep visits every site once, class by class in the site colouring of
-:mod:`thinfilm._kernels.metropolis` (checkerboard, three colours on the triangular lattice, or
-row x column classes for sizes that allow neither); each visit makes a Gaussian trial step, an optional
+One sweep visits every site once, in the row colouring of
+:mod:`thinfilm._kernels.metropolis` (row classes one after the other, each row left to right,
+vectorised across the rows of a class); each visit makes a Gaussian trial step, an optional
 axis reflection S -> S - 2(S.n)n and ``over_relaxation`` over-relaxation moves. The Gaussian
 width sigma is tuned toward acceptance 0.5 only inside :meth:`MonteCarlo.warmup`; it is frozen
 during sampling so detailed balance holds.
@@ -16,12 +16,12 @@ import numpy as np
 
 from ._kernels.metropolis import (
     N_COUNTS,
-    metropolis_samples,
-    metropolis_sweeps,
-    metropolis_sweeps_serial,
+    make_work,
     row_colouring,
     row_sums,
     row_sums_serial,
+    samples_with_work,
+    sweeps_with_work,
 )
 from .model import Model
 from .units import KB_J_PER_K, MEV_J
@@ -87,6 +87,7 @@ class MonteCarlo:
         self.temperature_K = temperature_K
         self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
         self._rows = np.empty((lat.ny, 4))
+        self._work = None  # kernel work arrays (about the size of the spins), see _kernel_work
         self.sweep_count = 0
         self.sigma = float(sigma)
         self.spins = self._initial(initial_spins)
@@ -150,6 +151,12 @@ class MonteCarlo:
         self.sigma = float(value["sigma"])
 
     # ---------------------------------------------------------------- moves
+    def _kernel_work(self):
+        """Kernel work arrays (transposed spins, scratch), made on first use and kept."""
+        if self._work is None:
+            self._work = make_work(self._spins, self._order, self._bounds)
+        return self._work
+
     def sweep(self, n=1):
         """Make n sweeps at the current (frozen) sigma.
 
@@ -161,10 +168,10 @@ class MonteCarlo:
         n = int(n)
         self._counts[:] = 0
         if n > 0:
-            kernel = metropolis_sweeps if self.parallel else metropolis_sweeps_serial
-            kernel(self._spins, self._order, self._bounds, self._code, self._periodic,
-                   self._jt, self._kt, self._axis, self._b, self._beta, self.sigma, self.seed,
-                   self.stream, self.sweep_count, n, self.reflection, self.n_or, self._counts)
+            sweeps_with_work(self._spins, *self._kernel_work(), self._code, self._periodic,
+                             self._jt, self._kt, self._axis, self._b, self._beta, self.sigma,
+                             self.seed, self.stream, self.sweep_count, n, self.reflection,
+                             self.n_or, self._counts, self.parallel)
             self.sweep_count += n
         visits = max(n, 1) * self.model.lattice.n_sites
         acc = self._counts.sum(axis=0)
@@ -222,11 +229,11 @@ class MonteCarlo:
         out = np.empty((n_samples, 4))
         self._counts[:] = 0
         if n_samples > 0:
-            metropolis_samples(self._spins, self._order, self._bounds, self._code,
-                               self._periodic, self._jt, self._kt, self._axis, self._b,
-                               self._beta, self.sigma, self.seed, self.stream, self.sweep_count,
-                               n_samples, sample_every, self.reflection, self.n_or,
-                               self._counts, self._rows, out, self.parallel)
+            samples_with_work(self._spins, *self._kernel_work(), self._code, self._periodic,
+                              self._jt, self._kt, self._axis, self._b, self._beta, self.sigma,
+                              self.seed, self.stream, self.sweep_count, n_samples, sample_every,
+                              self.reflection, self.n_or, self._counts, self._rows, out,
+                              self.parallel)
             self.sweep_count += n_samples * sample_every
         return out
 

@@ -66,6 +66,9 @@ __all__ = [
     "row_sums",
     "row_sums_serial",
     "metropolis_samples",
+    "make_work",
+    "sweeps_with_work",
+    "samples_with_work",
 ]
 
 N_COUNTS = 3  # accepted: gaussian, reflection, over-relaxation
@@ -612,15 +615,34 @@ def _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis,
                          sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt)
 
 
+def make_work(s, order, bounds):
+    """Work tuple (cbounds, chunks, bands, T, zc, buf, g, cnt) for spins shaped like s (ny, nx,
+    3) and row classes (order, bounds); reusable across calls of :func:`sweeps_with_work` and
+    :func:`samples_with_work` (about the size of the spin array)."""
+    cbounds, chunks, bands = chunk_table(order, bounds)
+    return (cbounds, chunks, bands) + tuple(_work(s, chunks, bands))
+
+
+@nb.njit(**_OPT)
+def sweeps_with_work(s, cbounds, chunks, bands, T, zc, buf, g, cnt, code, periodic, jt, kt, axis,
+                     b, beta, sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts,
+                     parallel):
+    """:func:`metropolis_sweeps` with preallocated work arrays (see :func:`make_work`)."""
+    _convert(s, T, bands, periodic, True, parallel)
+    _run_sweeps(T, zc, cbounds, chunks, bands, s.shape[0], code, periodic, jt, kt, axis, b, beta,
+                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt,
+                parallel)
+    _convert(s, T, bands, periodic, False, parallel)
+
+
 @nb.njit(**_OPT)
 def _sweeps(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed, stream,
             sweep0, n_sweeps, reflect, n_or, counts, parallel):
     cbounds, chunks, bands = chunk_table(order, bounds)
     T, zc, buf, g, cnt = _work(s, chunks, bands)
-    _convert(s, T, bands, periodic, True, parallel)
-    _run_sweeps(T, zc, cbounds, chunks, bands, s.shape[0], code, periodic, jt, kt, axis, b, beta,
-                sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel)
-    _convert(s, T, bands, periodic, False, parallel)
+    sweeps_with_work(s, cbounds, chunks, bands, T, zc, buf, g, cnt, code, periodic, jt, kt, axis,
+                     b, beta, sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts,
+                     parallel)
 
 
 @nb.njit(**_OPT)
@@ -727,22 +749,15 @@ def row_sums_serial(s, code, periodic, jt, kt, axis, b, rows):
 
 
 @nb.njit(**_OPT)
-def metropolis_samples(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed,
-                       stream, sweep0, n_samples, sample_every, reflect, n_or, counts, rows,
-                       out, parallel):
-    """n_samples times: sample_every sweeps, then the totals (mx, my, mz, energy) into out.
-
-    out : (n_samples, 4) float64; energy in units of mu_s * T (multiply by mu_s for J).
-    rows : (ny, 4) scratch. parallel : use the threaded sweep and sums (same results).
-    Other arguments as :func:`metropolis_sweeps`. The work arrays are made once.
-    """
+def samples_with_work(s, cbounds, chunks, bands, T, zc, buf, g, cnt, code, periodic, jt, kt,
+                      axis, b, beta, sigma, seed, stream, sweep0, n_samples, sample_every, reflect,
+                      n_or, counts, rows, out, parallel):
+    """:func:`metropolis_samples` with preallocated work arrays (see :func:`make_work`)."""
     ny = s.shape[0]
-    cbounds, chunks, bands = chunk_table(order, bounds)
-    T, zc, buf, g, cnt = _work(s, chunks, bands)
     _convert(s, T, bands, periodic, True, parallel)
     for k in range(n_samples):
-        _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                    seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or,
+        _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
+                    sigma, seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or,
                     counts, buf, g, cnt, parallel)
         _convert(s, T, bands, periodic, False, parallel)
         if parallel:
@@ -754,3 +769,20 @@ def metropolis_samples(s, order, bounds, code, periodic, jt, kt, axis, b, beta, 
             for i in range(ny):
                 acc += rows[i, c]
             out[k, c] = acc
+
+
+@nb.njit(**_OPT)
+def metropolis_samples(s, order, bounds, code, periodic, jt, kt, axis, b, beta, sigma, seed,
+                       stream, sweep0, n_samples, sample_every, reflect, n_or, counts, rows,
+                       out, parallel):
+    """n_samples times: sample_every sweeps, then the totals (mx, my, mz, energy) into out.
+
+    out : (n_samples, 4) float64; energy in units of mu_s * T (multiply by mu_s for J).
+    rows : (ny, 4) scratch. parallel : use the threaded sweep and sums (same results).
+    Other arguments as :func:`metropolis_sweeps`. The work arrays are made once per call.
+    """
+    cbounds, chunks, bands = chunk_table(order, bounds)
+    T, zc, buf, g, cnt = _work(s, chunks, bands)
+    samples_with_work(s, cbounds, chunks, bands, T, zc, buf, g, cnt, code, periodic, jt, kt,
+                      axis, b, beta, sigma, seed, stream, sweep0, n_samples, sample_every,
+                      reflect, n_or, counts, rows, out, parallel)
