@@ -221,7 +221,8 @@ class Scenario:
             "temperature_K": self.temperature_K,
             "dynamics": {"method": d.method, "damping": d.damping, "time_step_fs": d.time_step_s * 1e15,
                          "duration_ps": d.duration_s * 1e12, "gamma_rad_per_s_T": d.gamma,
-                         "warmup_sweeps": d.sweeps_warmup, "sample_sweeps": d.sweeps_samples},
+                         "warmup_sweeps": d.sweeps_warmup, "sample_sweeps": d.sweeps_samples,
+                         "sample_every": d.sample_every, "warmup_ps": d.warmup_s * 1e12},
             "initial": self.initial,
             "seed": self.seed,
         }
@@ -236,7 +237,8 @@ class Scenario:
         if self.sweep:
             out["sweep"] = {"temperatures_K": list(self.sweep.temperatures_K),
                             "sizes": list(self.sweep.sizes) if self.sweep.sizes else None,
-                            "refine": self.sweep.refine, "order": self.sweep.order}
+                            "refine": self.sweep.refine, "order": self.sweep.order,
+                            "snapshots": self.sweep.snapshots}
         if self.instrument:
             out["instrument"] = dict(self.instrument)
         return out
