@@ -33,8 +33,13 @@ sys.path.insert(0, str(HERE.parent))
 from numpy_peer import NumpyHeun  # noqa: E402
 
 from thinfilm._kernels.field import effective_field  # noqa: E402
-from thinfilm._kernels.llg import heun_run, heun_run_twopass, heun_work, noise_field  # noqa: E402
-from thinfilm._kernels.llg import twopass_work  # noqa: E402
+from thinfilm._kernels.llg import (  # noqa: E402
+    heun_run,
+    heun_run_twopass,
+    heun_work,
+    noise_field,
+    twopass_work,  # noqa: E402
+)
 from thinfilm.lattice import SHAPE_CODE, Lattice  # noqa: E402
 
 try:
@@ -316,12 +321,12 @@ def plot(rows, sizes, path):
             pts = [(r["size"], r["rate_M_per_s"]) for r in rows if r["kernel"] == kernel
                    and r["shape"] in ("square", "-") and r["threads"] == th]
             if pts:
-                x, y = zip(*pts)
+                x, y = zip(*pts, strict=True)
                 ax.plot(x, y, ls, marker="o", label=f"{kernel} t={th}")
     pts = sorted({(r["size"], r["numpy_peer_M_per_s"]) for r in rows
                   if r["kernel"] == "heun_fused" and r["shape"] == "square"})
     if pts:
-        x, y = zip(*pts)
+        x, y = zip(*pts, strict=True)
         ax.plot(x, y, ":", marker="s", color="k", label="numpy peer")
     ax.set_xscale("log", base=2)
     ax.set_yscale("log")

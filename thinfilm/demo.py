@@ -2,7 +2,6 @@
 
 from pathlib import Path
 
-
 from .scenario import load_scenario
 
 __all__ = ["run_demo"]

@@ -374,7 +374,7 @@ def analyse_image(
                     valid=v,
                     n_blocks=1,
                 )["second_moment_nm"]
-                for q, v in zip(quads, qvalid)
+                for q, v in zip(quads, qvalid, strict=True)
             ]
             err = float(np.std(vals, ddof=1) / 2.0)
             method = "standard error of the four image quadrants' estimates"
@@ -415,7 +415,7 @@ def analyse_image(
     _io.write_csv(
         out / "correlation.csv",
         ["r_nm", "C", "pair_count"],
-        [(float(a), float(b), int(k)) for a, b, k in zip(r, c, counts)],
+        [(float(a), float(b), int(k)) for a, b, k in zip(r, c, counts, strict=True)],
     )
     areas = stats["area_by_label_nm2"]
     _io.write_csv(

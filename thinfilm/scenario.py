@@ -12,10 +12,10 @@ from pathlib import Path
 import numpy as np
 import yaml
 
+from .continuum import continuum_to_lattice
 from .errors import ScenarioError
 from .lattice import SHAPES
 from .units import KB_J_PER_K, MEV_J, MU0, MU_B_J_PER_T, parse_quantity
-from .continuum import continuum_to_lattice
 
 __all__ = ["Scenario", "load_scenario", "DEFAULT_SCENARIO"]
 

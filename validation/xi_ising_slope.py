@@ -78,7 +78,7 @@ def main():
     rows, slope, slope_exact, exact = run(ts, args.sweeps, factor=args.factor)
     print(f"square lattice, K/J = 1000, L ~ {args.factor:g} xi, {args.sweeps} sweeps per point")
     print("   t      L    xi_2nd (a)         xi_OZ fit (a)     exact xi (a)")
-    for t, r, xe in zip(ts, rows, exact):
+    for t, r, xe in zip(ts, rows, exact, strict=True):
         print(f"  {t:.3f}  {size_for(t, args.factor):4d}  {r[0]:7.3f} +- {r[1]:5.3f}   "
               f"{r[2]:7.3f} +- {r[3]:5.3f}   {xe:7.3f}")
     print(f"log-log slope of the OZ-fit xi: {slope:.3f}; exact curve over the same t {slope_exact:.3f}; "
