@@ -26,7 +26,8 @@ def ar1(phi, n, seed):
 @pytest.mark.parametrize("phi", [0.0, 0.5, 0.8, 0.95])
 def test_tau_int_of_ar1_matches_exact_value(phi):
     # exact for AR(1): rho(t) = phi^t, tau_int = 1/2 + sum rho = (1+phi)/(2(1-phi))
-    # (Sokal 1997 lecture notes on Monte Carlo methods, automatic windowing with c = 5).
+    # (Sokal, "Monte Carlo methods in statistical mechanics", in Functional Integration,
+    # Plenum 1997; automatic windowing with c = 5).
     # tolerance: Sokal's variance estimate var(tau)/tau^2 ~ 2(2W+1)/N with W ~ 5 tau; 4 sigma
     n = 2**18
     exact = (1 + phi) / (2 * (1 - phi))
