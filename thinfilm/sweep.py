@@ -96,6 +96,19 @@ class _Inline(cf.Executor):
         return fut
 
 
+def _warm_kernels(sc):
+    """Compile the point's kernels once here (a tiny 4 x 4 point) so that the worker processes
+    load them from numba's on-disk cache instead of each compiling them at the same time."""
+    from dataclasses import replace
+
+    d = replace(sc.dynamics, sweeps_warmup=2, sweeps_samples=20, duration_s=20 * sc.dynamics.time_step_s,
+                warmup_s=0.0, sample_every=1)
+    tiny = sc.with_changes(dynamics=d, sweep=replace(sc.sweep, snapshots=2))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        compute_point(PointTask(tiny, 4, float(sc.sweep.temperatures_K[-1]), 0))
+
+
 def _executor(n_tasks, workers, cluster):
     """(executor, description, closer) for local processes, a Dask scheduler or inline."""
     if cluster:
@@ -289,6 +302,8 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
                 "snapshots_per_point": sc.sweep.snapshots, "seed": sc.seed,
                 "instrument": sc.instrument, "finished": False}
     executor, how, close = _executor(n_parallel, workers, cluster)
+    if how["kind"] == "processes":
+        _warm_kernels(sc)
     manifest["executor"] = how
     window = how.pop("window")
     _write_manifest(out, manifest, started, [])
