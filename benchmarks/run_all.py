@@ -32,18 +32,18 @@ sys.path.insert(0, str(HERE.parent))
 
 from numpy_peer import NumpyHeun  # noqa: E402
 
-from thinfilm._kernels.field import effective_field  # noqa: E402
-from thinfilm._kernels.llg import (  # noqa: E402
+from thinfilm.engines._kernels.field import effective_field  # noqa: E402
+from thinfilm.engines._kernels.llg import (  # noqa: E402
     heun_run,
     heun_run_twopass,
     heun_work,
     noise_field,
     twopass_work,  # noqa: E402
 )
-from thinfilm.lattice import SHAPE_CODE, Lattice  # noqa: E402
+from thinfilm.model.lattice import SHAPE_CODE, Lattice  # noqa: E402
 
 try:
-    from thinfilm._kernels import metropolis as _mc
+    from thinfilm.engines._kernels import metropolis as _mc
 except ImportError:  # another engineer's kernel; benchmarked when present
     _mc = None
 
@@ -151,8 +151,8 @@ def bench_numpy(shape, n, repeats, min_time):
 
 def engine_memory(n, threads):
     """tracemalloc peak (bytes per site) of building an LLGSimulation and advancing it."""
-    from thinfilm.dynamics import LLGSimulation
-    from thinfilm.model import Model
+    from thinfilm.engines.stochastic_llg import LLGSimulation
+    from thinfilm.model.parameters import Model
 
     numba.set_num_threads(threads)
     lat = Lattice("square", n, n, 0.3, True)
@@ -175,9 +175,9 @@ def engine_memory(n, threads):
 
 def recording_overhead(n, steps, every, threads):
     """Wall time of `steps` steps with a RunFolder snapshot every `every` steps vs none."""
-    from thinfilm.dynamics import LLGSimulation
-    from thinfilm.model import Model
-    from thinfilm.record import RunFolder
+    from thinfilm.engines.stochastic_llg import LLGSimulation
+    from thinfilm.model.parameters import Model
+    from thinfilm.runs.folder import RunFolder
 
     numba.set_num_threads(threads)
     lat = Lattice("square", n, n, 0.3, True)
@@ -203,7 +203,7 @@ COMPILE_SNIPPET = r"""
 import time, json, sys
 t0 = time.perf_counter()
 import numpy as np
-from thinfilm._kernels.llg import heun_run, heun_work
+from thinfilm.engines._kernels.llg import heun_run, heun_work
 t1 = time.perf_counter()
 s = np.zeros((8, 8, 3)); s[..., 2] = 1.0
 w = heun_work(8, 8, 2); ax = np.array([0.0, 0.0, 1.0])

@@ -12,8 +12,8 @@ import time
 import warnings
 from pathlib import Path
 
-from thinfilm.scenario import load_scenario
-from thinfilm.sweep import available_cores, run_sweep
+from thinfilm.input.scenario import load_scenario
+from thinfilm.runs.sweep import available_cores, run_sweep
 
 __all__ = ["main"]
 
@@ -36,7 +36,7 @@ def main():
     t0 = time.perf_counter()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        run_sweep(sc, out, overwrite=True, workers=args.workers, progress=False, plots=False)
+        run_sweep(sc, out, overwrite=True, workers=args.workers, progress=False)
     wall = time.perf_counter() - t0
     n = 3 * len(temps)
     print(f"sweep: 3 sizes x {len(temps)} temperatures = {n} points, Monte Carlo "

@@ -1,6 +1,6 @@
 """Tiny sweep scenarios shared by the sweep tests (invented film, fast to sample)."""
 
-from thinfilm.scenario import load_scenario
+from thinfilm.input.scenario import load_scenario
 
 
 def tiny_sweep(*, temps=("1.5 K", "2.5 K", "3.5 K"), sizes=(6, 8), order="independent",

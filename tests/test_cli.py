@@ -6,7 +6,7 @@ import sys
 import yaml
 
 from thinfilm.cli import main
-from thinfilm.scenario import DEFAULT_SCENARIO
+from thinfilm.input.scenario import DEFAULT_SCENARIO
 
 GOOD = {
     "lattice": {"shape": "honeycomb", "cells": [8, 6], "spacing": "0.25 nm"},

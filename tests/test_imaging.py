@@ -8,9 +8,15 @@ import pytest
 import tifffile
 
 from thinfilm.analysis.correlation import second_moment_length, structure_factor
-from thinfilm.errors import InputError
-from thinfilm.imaging import FWHM_PER_SIGMA, analyse_image, instrument_view, load_image, rasterise
-from thinfilm.lattice import Lattice
+from thinfilm.analysis.imaging import (
+    FWHM_PER_SIGMA,
+    analyse_image,
+    instrument_view,
+    load_image,
+    rasterise,
+)
+from thinfilm.input.errors import InputError
+from thinfilm.model.lattice import Lattice
 
 
 def oz_field(n, xi, seed):

@@ -5,10 +5,10 @@ import pytest
 from scipy import integrate
 
 from thinfilm.analysis.thermo import blocking_error
-from thinfilm.lattice import Lattice
-from thinfilm.model import Model
-from thinfilm.montecarlo import MonteCarlo
-from thinfilm.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.input.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
 
 JK = MEV_J / KB_J_PER_K  # 1 meV / kB = 11.6045 K
 

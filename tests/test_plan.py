@@ -15,11 +15,11 @@ import numpy as np
 import pytest
 
 from thinfilm._io import write_csv, write_json
-from thinfilm.errors import InputError
-from thinfilm.fluctuation import exposure_verdict
-from thinfilm.plan import make_plan
-from thinfilm.plan_curves import crossing
-from thinfilm.scenario import load_scenario
+from thinfilm.analysis.fluctuation import exposure_verdict
+from thinfilm.input.errors import InputError
+from thinfilm.input.scenario import load_scenario
+from thinfilm.plan.curves import crossing
+from thinfilm.plan.heating_plan import make_plan
 
 JK = 11.604518  # J/kB in K for J = 1 meV (CODATA 2018 constants)
 TC = 2.0 / math.log(1.0 + math.sqrt(2.0)) * JK

@@ -5,10 +5,10 @@ import json
 import numpy as np
 import pytest
 
-from thinfilm.dynamics import LLGSimulation
-from thinfilm.record import load_snapshot, read_csv_table
-from thinfilm.runner import run_dynamics
-from thinfilm.scenario import load_scenario
+from thinfilm.engines.stochastic_llg import LLGSimulation
+from thinfilm.input.scenario import load_scenario
+from thinfilm.runs.folder import load_snapshot, read_csv_table
+from thinfilm.runs.time_resolved import run_dynamics
 
 SC = {
     "lattice": {"shape": "triangular", "cells": [12, 10], "spacing": "0.3 nm"},
@@ -72,7 +72,7 @@ def test_resume_after_interruption_equals_uninterrupted_run(tmp_path, monkeypatc
 
 
 def test_refuses_to_overwrite_a_run(tmp_path):
-    from thinfilm.errors import InputError
+    from thinfilm.input.errors import InputError
 
     sc = load_scenario(SC | {"dynamics": {"duration": "0.1 ps"}})
     run_dynamics(sc, tmp_path / "r", progress=False)

@@ -6,10 +6,10 @@ import math
 import numpy as np
 import pytest
 
-from thinfilm.continuum import continuum_to_lattice
-from thinfilm.errors import ScenarioError
-from thinfilm.scenario import DEFAULT_SCENARIO, load_scenario
-from thinfilm.units import MEV_J, MU_B_J_PER_T
+from thinfilm.input.continuum import continuum_to_lattice
+from thinfilm.input.errors import ScenarioError
+from thinfilm.input.scenario import DEFAULT_SCENARIO, load_scenario
+from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 
 BASE = {
     "lattice": {"shape": "square", "cells": [8, 8], "spacing": "0.4 nm", "edges": "periodic"},
@@ -111,7 +111,7 @@ def test_continuum_mapping_square_matches_spin_spiral_energy():
     assert math.isclose(kk, ku * a * a * t)
     q = 1e7  # 1/m, q a << 1
     for shape in ("square", "triangular", "honeycomb"):
-        from thinfilm.lattice import Lattice
+        from thinfilm.model.lattice import Lattice
 
         mu, jj, kk = continuum_to_lattice(shape, a, A, ku, ms, t)
         lat = Lattice(shape, 4, 4, a * 1e9, True)
@@ -121,7 +121,7 @@ def test_continuum_mapping_square_matches_spin_spiral_energy():
         dx = pos[nb[0], 0] - pos[0, 0]
         dx -= lat.box_nm[0] * 1e-9 * np.round(dx / (lat.box_nm[0] * 1e-9))
         e_site = 0.5 * jj * np.sum(1 - np.cos(q * dx))
-        from thinfilm.continuum import site_area
+        from thinfilm.input.continuum import site_area
 
         e_cont = A * t * site_area(shape, a) * q * q
         assert math.isclose(e_site, e_cont, rel_tol=1e-3), shape

@@ -5,10 +5,10 @@ from pathlib import Path
 
 import pytest
 
-from thinfilm.scenario import load_scenario
+from thinfilm.input.scenario import load_scenario
 
 SCENARIOS = sorted((Path(__file__).parent.parent / "scenarios").glob("*.yaml"))
-pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.errors.ThinFilmWarning")
+pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.input.errors.ThinFilmWarning")
 
 
 def _tiny(sc):
@@ -43,12 +43,12 @@ def test_scenario_loads_and_runs_a_few_steps(path, tmp_path):
     if tiny.is_sweep:
         import json
 
-        from thinfilm.sweep import run_sweep
+        from thinfilm.runs.sweep import run_sweep
 
-        out = run_sweep(tiny, tmp_path / "run", workers=1, progress=False, plots=False)
+        out = run_sweep(tiny, tmp_path / "run", workers=1, progress=False)
         assert json.loads((out / "manifest.json").read_text())["finished"] is True
     else:
-        from thinfilm.runner import run_dynamics
+        from thinfilm.runs.time_resolved import run_dynamics
 
         folder = run_dynamics(tiny, tmp_path / "run", progress=False)
         assert (folder.path / "manifest.json").is_file()

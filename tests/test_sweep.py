@@ -6,20 +6,20 @@ import numpy as np
 import pytest
 from sweep_helpers import tiny_sweep
 
-from thinfilm.errors import InputError, ScenarioError, ThinFilmWarning
-from thinfilm.record import read_csv_table
-from thinfilm.scenario import load_scenario
-from thinfilm.sweep import run_sweep, sweep_plan
-from thinfilm.sweep_point import ROW_COLUMNS, PointTask, compute_point, point_name, point_seed
+from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
+from thinfilm.input.scenario import load_scenario
+from thinfilm.runs.folder import read_csv_table
+from thinfilm.runs.sweep import run_sweep, sweep_plan
+from thinfilm.runs.sweep_point import ROW_COLUMNS, PointTask, compute_point, point_name, point_seed
 
-pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.errors.ThinFilmWarning")
+pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.input.errors.ThinFilmWarning")
 
 POINT_FILES = ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv", "point.json")
 
 
 def test_sweep_folder_holds_tables_points_and_manifest(tmp_path):
     sc = tiny_sweep()
-    out = run_sweep(sc, tmp_path / "s", workers=1, progress=False, plots=False)
+    out = run_sweep(sc, tmp_path / "s", workers=1, progress=False)
     tab = read_csv_table(out / "observables.csv")
     assert list(tab) == list(ROW_COLUMNS)
     assert list(tab["size"]) == [6, 6, 6, 8, 8, 8]
@@ -65,12 +65,12 @@ def test_sweep_folder_holds_tables_points_and_manifest(tmp_path):
 
 def test_same_seed_same_table_whatever_the_worker_count(tmp_path):
     sc = tiny_sweep(sizes=(6,), temps=("1.5 K", "3.5 K"))
-    a = run_sweep(sc, tmp_path / "a", workers=1, progress=False, plots=False)
-    b = run_sweep(sc, tmp_path / "b", workers=2, progress=False, plots=False)
+    a = run_sweep(sc, tmp_path / "a", workers=1, progress=False)
+    b = run_sweep(sc, tmp_path / "b", workers=2, progress=False)
     assert (a / "observables.csv").read_bytes() == (b / "observables.csv").read_bytes()
     assert json.loads((b / "manifest.json").read_text())["executor"]["kind"] == "processes"
     c = run_sweep(tiny_sweep(sizes=(6,), temps=("1.5 K", "3.5 K"), seed=12), tmp_path / "c",
-                  workers=1, progress=False, plots=False)
+                  workers=1, progress=False)
     assert (a / "observables.csv").read_bytes() != (c / "observables.csv").read_bytes()
 
 
@@ -79,7 +79,7 @@ def test_heating_chain_continues_from_the_previous_final_state(tmp_path):
     assert sweep_plan(sc) == [[(6, 1.5), (6, 2.5), (6, 3.5)]]
     assert sweep_plan(sc.with_changes(sweep=sc.sweep.__class__(
         **{**sc.sweep.__dict__, "order": "cooling"}))) == [[(6, 3.5), (6, 2.5), (6, 1.5)]]
-    out = run_sweep(sc, tmp_path / "h", workers=1, progress=False, plots=False)
+    out = run_sweep(sc, tmp_path / "h", workers=1, progress=False)
     det = [json.loads((out / "points" / point_name(6, t) / "point.json").read_text())["details"]
            for t in (1.5, 2.5, 3.5)]
     assert det[0]["start"] == "initial"
@@ -98,7 +98,7 @@ def test_near_tc_refinement_adds_finer_points_inside_the_range(tmp_path):
     sc = tiny_sweep(sizes=(6,), temps=("1 K", "4 K"), refine="0.5 K", samples=120)
     first = sc.sweep.temperatures_K
     assert len(first) == 7
-    out = run_sweep(sc, tmp_path / "r", workers=1, progress=False, plots=False)
+    out = run_sweep(sc, tmp_path / "r", workers=1, progress=False)
     man = json.loads((out / "manifest.json").read_text())
     extra = man["refined_temperatures_K"]
     assert 3 <= len(extra) <= 6
@@ -111,32 +111,33 @@ def test_near_tc_refinement_adds_finer_points_inside_the_range(tmp_path):
 def test_sweep_warns_once_about_short_time_series(tmp_path):
     with pytest.warns(ThinFilmWarning, match="effectively independent"):
         run_sweep(tiny_sweep(sizes=(6,), temps=("2.5 K", "3 K"), samples=20), tmp_path / "w",
-                  workers=1, progress=False, plots=False)
+                  workers=1, progress=False)
 
 
 def test_bad_sweep_inputs_name_the_key_and_value(tmp_path):
     with pytest.raises(ScenarioError, match=r"temperature.*above 0 K.*0\.0"):
-        run_sweep(tiny_sweep(temps=("0 K", "2 K")), tmp_path / "z", workers=1, plots=False)
+        run_sweep(tiny_sweep(temps=("0 K", "2 K")), tmp_path / "z", workers=1)
     with pytest.raises(ScenarioError, match=r"lattice\.cells.*\[8, 6\]"):
         sc = load_scenario({"lattice": {"shape": "square", "cells": [8, 6], "spacing": "0.3 nm"},
                             "material": {"moment": "1 muB", "exchange": "0.25 meV"},
                             "temperature": ["1 K", "2 K"]})
-        run_sweep(sc, tmp_path / "y", workers=1, plots=False)
+        run_sweep(sc, tmp_path / "y", workers=1)
     with pytest.raises(InputError, match="--workers must be a positive integer, got 0"):
-        run_sweep(tiny_sweep(), tmp_path / "x", workers=0, plots=False)
+        run_sweep(tiny_sweep(), tmp_path / "x", workers=0)
     sc = tiny_sweep(sizes=(6,), temps=("2 K", "3 K"))
-    run_sweep(sc, tmp_path / "v", workers=1, progress=False, plots=False)
+    run_sweep(sc, tmp_path / "v", workers=1, progress=False)
     with pytest.raises(InputError, match="already holds a run.*--resume"):
-        run_sweep(sc, tmp_path / "v", workers=1, plots=False)
+        run_sweep(sc, tmp_path / "v", workers=1)
     with pytest.raises(InputError, match="different scenario"):
         run_sweep(tiny_sweep(sizes=(6,), temps=("2 K", "4 K")), tmp_path / "v", resume=True,
-                  workers=1, plots=False)
+                  workers=1)
 
 
-def test_sweep_calls_the_sweep_plots(tmp_path):
-    pytest.importorskip("thinfilm.render.plots")
-    out = run_sweep(tiny_sweep(sizes=(6,), temps=("1.5 K", "2.5 K", "3.5 K")), tmp_path / "p",
-                    workers=1, progress=False)
+def test_a_sweep_run_through_the_api_writes_the_sweep_plots(tmp_path):
+    from thinfilm.api import run
+
+    out = run(tiny_sweep(sizes=(6,), temps=("1.5 K", "2.5 K", "3.5 K")), tmp_path / "p",
+              workers=1, progress=False)
     assert (out / "plots" / "sweep_thermodynamics.png").is_file()
 
 

@@ -13,10 +13,10 @@ from pathlib import Path
 import pytest
 from sweep_helpers import tiny_sweep
 
-import thinfilm.sweep as sweep_mod
-from thinfilm.sweep import run_sweep
+import thinfilm.runs.sweep as sweep_mod
+from thinfilm.runs.sweep import run_sweep
 
-pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.errors.ThinFilmWarning")
+pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.input.errors.ThinFilmWarning")
 TABLES = ("observables.csv", "tc.json")
 
 
@@ -42,17 +42,17 @@ def _crash_after(monkeypatch, n):
 @pytest.mark.parametrize("order", ["independent", "heating", "cooling"])
 def test_resume_after_an_interruption_matches_an_uninterrupted_run(tmp_path, monkeypatch, order):
     sc = tiny_sweep(order=order, temps=("1.5 K", "2.5 K", "3.5 K"), sizes=(6, 8), samples=100)
-    ref = run_sweep(sc, tmp_path / "ref", workers=1, progress=False, plots=False)
+    ref = run_sweep(sc, tmp_path / "ref", workers=1, progress=False)
     calls = _crash_after(monkeypatch, 3)
     with pytest.raises(KeyboardInterrupt):
-        run_sweep(sc, tmp_path / "cut", workers=1, progress=False, plots=False)
+        run_sweep(sc, tmp_path / "cut", workers=1, progress=False)
     done = sorted(p.parent.name for p in (tmp_path / "cut").glob("points/*/point.json"))
     assert len(done) == 3  # finished points stay on disk
     man = json.loads((tmp_path / "cut" / "manifest.json").read_text())
     assert man["finished"] is False
     monkeypatch.undo()
     calls["n"] = 0
-    out = run_sweep(sc, tmp_path / "cut", resume=True, workers=1, progress=False, plots=False)
+    out = run_sweep(sc, tmp_path / "cut", resume=True, workers=1, progress=False)
     _same_tables(ref, out)
     assert json.loads((out / "manifest.json").read_text())["finished"] is True
 
@@ -60,14 +60,14 @@ def test_resume_after_an_interruption_matches_an_uninterrupted_run(tmp_path, mon
 def test_resume_recomputes_deleted_and_half_written_points(tmp_path):
     sc = tiny_sweep(order="heating", sizes=(6,), temps=("1.5 K", "2 K", "2.5 K", "3 K"),
                     samples=100)
-    ref = run_sweep(sc, tmp_path / "ref", workers=1, progress=False, plots=False)
+    ref = run_sweep(sc, tmp_path / "ref", workers=1, progress=False)
     out = tmp_path / "cut"
     shutil.copytree(ref, out)
     shutil.rmtree(out / "points" / "L6_T3.000K")
     (out / "points" / "L6_T2.500K" / "point.json").unlink()  # killed before the mark
     (out / "observables.csv").unlink()
     before = (out / "points" / "L6_T2.000K" / "point.json").stat().st_mtime_ns
-    run_sweep(sc, out, resume=True, workers=1, progress=False, plots=False)
+    run_sweep(sc, out, resume=True, workers=1, progress=False)
     _same_tables(ref, out)
     assert (out / "points" / "L6_T2.000K" / "point.json").stat().st_mtime_ns == before
 
@@ -76,12 +76,11 @@ SCRIPT = textwrap.dedent("""
     import sys
     sys.path.insert(0, {tests!r})
     from sweep_helpers import tiny_sweep
-    from thinfilm.sweep import run_sweep
+    from thinfilm.runs.sweep import run_sweep
     if __name__ == "__main__":
         sc = tiny_sweep(temps=[f"{{t}} K" for t in (1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 4.5)],
                         sizes=(8,), samples=400)
-        run_sweep(sc, sys.argv[1], resume=len(sys.argv) > 2, workers=1, progress=False,
-                  plots=False)
+        run_sweep(sc, sys.argv[1], resume=len(sys.argv) > 2, workers=1, progress=False)
 """)
 
 

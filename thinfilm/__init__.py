@@ -9,17 +9,23 @@ Five lines do what the command line does::
     thinfilm.write_movie("outputs/my-run", "outputs/my-run/movie.mp4")
 """
 
-__version__ = "0.1.0"
-
-from . import analysis  # noqa: E402
-from .api import demo, plot_run, run  # noqa: E402
-from .dynamics import LLGSimulation  # noqa: E402
-from .errors import InputError, ScenarioError, StabilityError, ThinFilmError, ThinFilmWarning  # noqa: E402
-from .lattice import Lattice  # noqa: E402
-from .model import Model, build_model  # noqa: E402
-from .montecarlo import MonteCarlo  # noqa: E402
-from .render import plot_sweep, plot_timeseries, write_movie  # noqa: E402
-from .scenario import Scenario, load_scenario  # noqa: E402
+from thinfilm import analysis
+from thinfilm._version import __version__  # noqa: F401 (thinfilm.__version__)
+from thinfilm.api import plot_run, run
+from thinfilm.demo_pipeline import demo
+from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.engines.stochastic_llg import LLGSimulation
+from thinfilm.input.errors import (
+    InputError,
+    ScenarioError,
+    StabilityError,
+    ThinFilmError,
+    ThinFilmWarning,
+)
+from thinfilm.input.scenario import Scenario, load_scenario
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model, build_model
+from thinfilm.render import plot_sweep, plot_timeseries, write_movie
 
 __all__ = [
     "load_scenario",

@@ -1,12 +1,11 @@
-"""High-level entry points used by the CLI and by notebooks: run, demo, plot_run."""
+"""High-level entry points used by the CLI and by notebooks: run, plot_run, plan."""
 
-import time
 from pathlib import Path
 
-from .errors import InputError
-from .scenario import DEFAULT_SCENARIO, Scenario, load_scenario
+from thinfilm.input.errors import InputError
+from thinfilm.input.scenario import Scenario, load_scenario
 
-__all__ = ["run", "demo", "plot_run"]
+__all__ = ["run", "plot_run", "plan"]
 
 
 def _scenario(source):
@@ -21,23 +20,26 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     """
     sc = _scenario(source)
     if sc.is_sweep:
-        from .sweep import run_sweep
+        from thinfilm.runs.sweep import run_sweep
 
         run_sweep(sc, out_dir, resume=resume, overwrite=overwrite, workers=workers,
                   cluster=cluster or sc.sweep.cluster, progress=progress)
+        from thinfilm.render.plots import plot_sweep
+
+        plot_sweep(out_dir)
         if sc.movie:  # one frame per temperature (largest size): the pattern across the sweep
-            from .render.movie import write_movie
+            from thinfilm.render.movie import write_movie
 
             write_movie(out_dir, Path(out_dir) / ("sweep_movie.gif" if sc.movie["gif"] else "sweep_movie.mp4"),
                         fps=max(1, min(sc.movie["fps"], 4)), colour=sc.movie["colour"],
                         gif=sc.movie["gif"], source="sweep",
                         instrument=True if sc.movie["instrument"] and sc.instrument else None)
     else:
-        from .runner import run_dynamics
+        from thinfilm.runs.time_resolved import run_dynamics
 
         run_dynamics(sc, out_dir, resume=resume, overwrite=overwrite, progress=progress)
         if sc.movie:
-            from .render.movie import write_movie
+            from thinfilm.render.movie import write_movie
 
             write_movie(out_dir, Path(out_dir) / ("movie.gif" if sc.movie["gif"] else "movie.mp4"),
                         fps=sc.movie["fps"], colour=sc.movie["colour"], gif=sc.movie["gif"],
@@ -55,17 +57,18 @@ def plot_run(run_dir):
         raise InputError(f"{run_dir}: not a run folder (no manifest.json); give a folder written by "
                          f"'thinfilm run' or 'thinfilm demo'")
     kind = json.loads(man.read_text()).get("kind")
-    from .render import plots
+    from thinfilm.render import plots
 
     if kind == "sweep":
         return plots.plot_sweep(run_dir)
     return plots.plot_timeseries(run_dir)
 
 
-def demo(out_dir=None, *, workers=None, progress=True):
-    """Run the embedded demo (an invented film) into ``out_dir`` (default outputs/demo-<time>)."""
-    if out_dir is None:
-        out_dir = Path("outputs") / time.strftime("demo-%Y%m%d-%H%M%S")
-    from .demo import run_demo
+def plan(source, out_dir, **options):
+    """Heating plan of a scenario into ``out_dir`` (see :func:`thinfilm.plan.make_plan`).
 
-    return run_demo(Path(out_dir), DEFAULT_SCENARIO, workers=workers, progress=progress)
+    A sweep that the plan needs is run with :func:`run`, so it gets its figures (and movie).
+    """
+    from thinfilm.plan import make_plan
+
+    return make_plan(_scenario(source), out_dir, runner=run, **options)

@@ -6,17 +6,17 @@ import time
 import warnings
 from pathlib import Path
 
-from . import __version__
-from .errors import InputError, ThinFilmError, ThinFilmWarning
+from thinfilm._version import __version__
+from thinfilm.input.errors import InputError, ThinFilmError, ThinFilmWarning
 
 __all__ = ["main"]
 
 
 def _print_check(sc):
-    from .derived import exchange_length_nm, mean_field_tc_K, wall_parameter_nm
-    from .dynamics import stable_time_step
-    from .model import build_model
-    from .units import KB_J_PER_K, MEV_J
+    from thinfilm.engines.stochastic_llg import stable_time_step
+    from thinfilm.input.derived import exchange_length_nm, mean_field_tc_K, wall_parameter_nm
+    from thinfilm.input.units import KB_J_PER_K, MEV_J
+    from thinfilm.model.parameters import build_model
 
     model = build_model(sc)
     d = sc.describe()
@@ -57,14 +57,14 @@ def _print_check(sc):
 
 
 def _cmd_check(args):
-    from .scenario import load_scenario
+    from thinfilm.input.scenario import load_scenario
 
     _print_check(load_scenario(args.file))
     return 0
 
 
 def _cmd_run(args):
-    from .api import run
+    from thinfilm.api import run
 
     out = run(args.file, args.output, resume=args.resume, overwrite=args.overwrite,
               workers=args.workers, cluster=args.cluster, progress=not args.quiet)
@@ -73,7 +73,7 @@ def _cmd_run(args):
 
 
 def _cmd_demo(args):
-    from .api import demo
+    from thinfilm.demo_pipeline import demo
 
     out = demo(args.output, workers=args.workers, progress=not args.quiet)
     print(f"demo run folder: {out}")
@@ -81,7 +81,7 @@ def _cmd_demo(args):
 
 
 def _cmd_image(args):
-    from .imaging import analyse_image
+    from thinfilm.analysis.imaging import analyse_image
 
     res = analyse_image(args.file, pixel_size=args.pixel_size, out_dir=args.output, level=args.level,
                         smoothing=args.smoothing, background=args.background, mask=args.mask,
@@ -95,11 +95,11 @@ def _cmd_image(args):
 
 
 def _cmd_movie(args):
-    from .render.movie import write_movie
+    from thinfilm.render.movie import write_movie
 
     instrument = None
     if args.fwhm:
-        from .units import parse_quantity
+        from thinfilm.input.units import parse_quantity
 
         try:
             fwhm = parse_quantity(args.fwhm, "length") * 1e9
@@ -115,7 +115,7 @@ def _cmd_movie(args):
 
 
 def _cmd_plot(args):
-    from .api import plot_run
+    from thinfilm.api import plot_run
 
     for p in plot_run(args.run_dir):
         print(p)
@@ -123,9 +123,9 @@ def _cmd_plot(args):
 
 
 def _cmd_plan(args):
-    from .plan import make_plan
+    from thinfilm.api import plan
 
-    res = make_plan(args.file, args.output, resolution=args.resolution, exposure=args.exposure,
+    res = plan(args.file, args.output, resolution=args.resolution, exposure=args.exposure,
                     field_of_view=args.field_of_view, workers=args.workers, reuse=args.reuse,
                     progress=not args.quiet, n_points=args.points, dwell=args.dwell,
                     llg_duration=args.llg_duration)
@@ -211,7 +211,7 @@ def main(argv=None):
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.threads is not None:
-        from .config import set_threads
+        from thinfilm.config import set_threads
 
         set_threads(args.threads)
 

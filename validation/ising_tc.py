@@ -25,10 +25,10 @@ import numpy as np
 
 from thinfilm.analysis.critical import tc_from_binder_crossing
 from thinfilm.analysis.thermo import thermodynamics
-from thinfilm.lattice import Lattice
-from thinfilm.model import Model
-from thinfilm.montecarlo import MonteCarlo
-from thinfilm.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.input.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
 
 J_OVER_KB = MEV_J / KB_J_PER_K  # K per unit of kB T/J when J = 1 meV
 EXACT_TC = {  # kB Tc / J

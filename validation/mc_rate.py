@@ -12,10 +12,10 @@ import time
 
 import numba
 
-from thinfilm.lattice import Lattice
-from thinfilm.model import Model
-from thinfilm.montecarlo import MonteCarlo
-from thinfilm.units import MEV_J, MU_B_J_PER_T
+from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.input.units import MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
 
 
 def rate(threads, n=256, sweeps=None, repeats=5):

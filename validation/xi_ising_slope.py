@@ -18,10 +18,10 @@ import numpy as np
 
 from thinfilm.analysis.correlation import correlation_length
 from thinfilm.analysis.structure import structure_factor_length
-from thinfilm.lattice import Lattice
-from thinfilm.model import Model
-from thinfilm.montecarlo import MonteCarlo
-from thinfilm.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.input.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
 
 TC = 2.0 / math.log(1.0 + math.sqrt(2.0))  # J/kB, Onsager 1944
 J_OVER_KB = MEV_J / KB_J_PER_K  # 11.6045 K for J = 1 meV

@@ -10,8 +10,8 @@ from thinfilm.analysis.correlation import (
     second_moment_length,
     structure_factor,
 )
-from thinfilm.errors import InputError
-from thinfilm.lattice import Lattice
+from thinfilm.input.errors import InputError
+from thinfilm.model.lattice import Lattice
 
 
 def oz_square_fields(n, xi, m, seed):

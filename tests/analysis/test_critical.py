@@ -9,7 +9,7 @@ from thinfilm.analysis.critical import (
     tc_from_binder_crossing,
     tc_from_peaks,
 )
-from thinfilm.errors import ThinFilmWarning
+from thinfilm.input.errors import ThinFilmWarning
 
 TC = 26.3
 

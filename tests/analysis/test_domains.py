@@ -6,8 +6,8 @@ from scipy import ndimage
 from skimage import measure
 
 from thinfilm.analysis.domains import domain_statistics, label_domains
-from thinfilm.errors import InputError
-from thinfilm.lattice import Lattice
+from thinfilm.input.errors import InputError
+from thinfilm.model.lattice import Lattice
 
 
 def same_partition(a, b):

@@ -3,7 +3,7 @@
 import numpy as np
 
 from thinfilm.analysis.structure import structure_factor_length
-from thinfilm.lattice import Lattice
+from thinfilm.model.lattice import Lattice
 
 
 def oz_fields(n, xi, count, rng):

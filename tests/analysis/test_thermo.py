@@ -11,8 +11,8 @@ from thinfilm.analysis.thermo import (
     jackknife,
     thermodynamics,
 )
-from thinfilm.errors import ThinFilmWarning
-from thinfilm.units import KB_J_PER_K, MEV_J
+from thinfilm.input.errors import ThinFilmWarning
+from thinfilm.input.units import KB_J_PER_K, MEV_J
 
 
 def ar1(phi, n, seed):
@@ -98,7 +98,7 @@ def test_histogram_reweighting_of_free_spins_follows_langevin():
     # exact (Langevin 1905): N free spins in a field, E = -mu B sum S_x, <S_x> = L(xi);
     # samples drawn exactly at xi = 1 (inverse-CDF of p(c) ~ exp(xi c)) are reweighted to
     # xi = 1.1 and 0.9. Tolerance: 4 x the naive standard error of the reweighted mean.
-    from thinfilm.units import MU_B_J_PER_T
+    from thinfilm.input.units import MU_B_J_PER_T
 
     rng = np.random.default_rng(7)
     n_samp, ns, temp = 20000, 4, 10.0

@@ -5,8 +5,8 @@ import numpy as np
 import pytest
 import reference
 
-from thinfilm._kernels.field import effective_field, observables, row_pad
-from thinfilm.lattice import Lattice
+from thinfilm.engines._kernels.field import effective_field, observables, row_pad
+from thinfilm.model.lattice import Lattice
 
 CASES = [
     ("square", 1, 5, True), ("square", 1, 5, False), ("square", 5, 1, True),

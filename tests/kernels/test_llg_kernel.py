@@ -7,14 +7,14 @@ import numpy as np
 import pytest
 import reference
 
-from thinfilm._kernels.llg import (
+from thinfilm.engines._kernels.llg import (
     heun_run,
     heun_run_twopass,
     heun_work,
     noise_field,
     twopass_work,
 )
-from thinfilm.lattice import Lattice
+from thinfilm.model.lattice import Lattice
 
 # (shape, nx, ny, periodic): tiny, odd and one-row/one-column grids, both edge kinds
 CASES = [

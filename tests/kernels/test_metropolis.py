@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 import reference
 
-from thinfilm._kernels import metropolis as mk
-from thinfilm._kernels.metropolis import (
+from thinfilm.engines._kernels import metropolis as mk
+from thinfilm.engines._kernels.metropolis import (
     chunk_table,
     kernel_energy_changes,
     metropolis_sweeps,
@@ -16,7 +16,7 @@ from thinfilm._kernels.metropolis import (
     row_sums_serial,
     site_energy_change,
 )
-from thinfilm.lattice import Lattice
+from thinfilm.model.lattice import Lattice
 
 # (shape, nx, ny, periodic): odd and tiny sizes wherever the lattice allows them
 CASES = [

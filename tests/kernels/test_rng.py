@@ -6,7 +6,7 @@ import numba
 import numpy as np
 from scipy import stats
 
-from thinfilm._kernels.rng import (
+from thinfilm.engines._kernels.rng import (
     bm_pair,
     fast_log,
     fast_sincos_quarter,

@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 from matplotlib import colormaps
 
-from thinfilm.errors import InputError
-from thinfilm.lattice import Lattice
+from thinfilm.input.errors import InputError
+from thinfilm.model.lattice import Lattice
 from thinfilm.render.frames import (
     _nearest_site_raster,
     colour_frame,

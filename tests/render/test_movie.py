@@ -7,8 +7,8 @@ import imageio_ffmpeg
 import numpy as np
 import pytest
 
-from thinfilm.errors import InputError
-from thinfilm.lattice import Lattice
+from thinfilm.input.errors import InputError
+from thinfilm.model.lattice import Lattice
 from thinfilm.render.movie import write_movie
 
 

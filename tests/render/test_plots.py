@@ -7,8 +7,8 @@ import imageio.v3 as iio3
 import numpy as np
 import pytest
 
-from thinfilm.errors import InputError
-from thinfilm.lattice import Lattice
+from thinfilm.input.errors import InputError
+from thinfilm.model.lattice import Lattice
 from thinfilm.render.plots import log_histogram, plot_sweep, plot_timeseries
 from thinfilm.render.rundir import read_table
 

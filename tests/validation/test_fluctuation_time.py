@@ -15,10 +15,10 @@ import math
 import numpy as np
 import pytest
 
-from thinfilm.fluctuation import exposure_verdict, fluctuation_time
-from thinfilm.lattice import Lattice
-from thinfilm.model import Model
-from thinfilm.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
+from thinfilm.input.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
 
 TC_ISING = 2.0 / math.log(1.0 + math.sqrt(2.0))  # kB Tc / J, Onsager 1944
 JK = MEV_J / KB_J_PER_K  # J/kB in K for J = 1 meV

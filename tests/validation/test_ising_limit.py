@@ -11,10 +11,10 @@ from pathlib import Path
 import pytest
 
 from thinfilm.analysis.thermo import thermodynamics
-from thinfilm.lattice import Lattice
-from thinfilm.model import Model
-from thinfilm.montecarlo import MonteCarlo
-from thinfilm.units import MEV_J, MU_B_J_PER_T
+from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.input.units import MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
 
 _spec = importlib.util.spec_from_file_location(
     "ising_tc", Path(__file__).resolve().parents[2] / "validation" / "ising_tc.py")

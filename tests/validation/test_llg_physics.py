@@ -5,10 +5,10 @@ import math
 import numpy as np
 import pytest
 
-from thinfilm.dynamics import LLGSimulation, initial_spins, measure
-from thinfilm.lattice import Lattice
-from thinfilm.model import Model
-from thinfilm.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, measure
+from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
 
 
 def free_model(n, *, field_T=(0, 0, 0), anisotropy_meV=0.0, moment_muB=1.0):

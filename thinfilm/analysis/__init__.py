@@ -1,15 +1,15 @@
 """Analysers on plain arrays plus sizes in nm: thermodynamics, domains, correlation, Tc."""
 
-from .correlation import (
+from thinfilm.analysis.correlation import (
     correlation_function,
     correlation_length,
     ornstein_zernike_fit,
     second_moment_length,
     structure_factor,
 )
-from .critical import estimate_tc, tc_from_binder_crossing, tc_from_peaks
-from .domains import domain_statistics, label_domains
-from .thermo import blocking_error, integrated_autocorrelation_time, thermodynamics
+from thinfilm.analysis.critical import estimate_tc, tc_from_binder_crossing, tc_from_peaks
+from thinfilm.analysis.domains import domain_statistics, label_domains
+from thinfilm.analysis.thermo import blocking_error, integrated_autocorrelation_time, thermodynamics
 
 __all__ = [
     "correlation_function",

@@ -5,7 +5,7 @@ import warnings
 import numpy as np
 from scipy import optimize, sparse, special
 
-from thinfilm.errors import InputError
+from thinfilm.input.errors import InputError
 
 __all__ = [
     "structure_factor",

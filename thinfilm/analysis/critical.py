@@ -8,7 +8,7 @@ import warnings
 
 import numpy as np
 
-from ..errors import ThinFilmWarning
+from thinfilm.input.errors import ThinFilmWarning
 
 __all__ = ["tc_from_binder_crossing", "tc_from_peaks", "estimate_tc", "table_from_results"]
 

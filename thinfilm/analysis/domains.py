@@ -5,7 +5,7 @@ from scipy import ndimage, sparse
 from scipy.sparse import csgraph
 from scipy.spatial import cKDTree
 
-from thinfilm.errors import InputError
+from thinfilm.input.errors import InputError
 
 __all__ = ["label_domains", "domain_statistics"]
 

@@ -4,8 +4,8 @@ import math
 
 import numpy as np
 
-from ..errors import InputError
-from .correlation import structure_factor
+from thinfilm.analysis.correlation import structure_factor
+from thinfilm.input.errors import InputError
 
 __all__ = ["structure_factor_length"]
 

@@ -11,8 +11,8 @@ import warnings
 
 import numpy as np
 
-from ..errors import ThinFilmWarning
-from ..units import KB_J_PER_K, MEV_J
+from thinfilm.input.errors import ThinFilmWarning
+from thinfilm.input.units import KB_J_PER_K, MEV_J
 
 __all__ = ["autocorrelation", "integrated_autocorrelation_time", "blocking_error",
            "jackknife", "thermodynamics", "histogram_reweighting"]

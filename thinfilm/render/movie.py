@@ -7,8 +7,8 @@ from typing import NamedTuple
 
 import numpy as np
 
-from ..errors import InputError
-from .frames import (
+from thinfilm.input.errors import InputError
+from thinfilm.render.frames import (
     COLOURS,
     colour_frame,
     draw_label,
@@ -16,7 +16,7 @@ from .frames import (
     grey_frame,
     site_index_map,
 )
-from .rundir import iter_snapshots, load_snapshot, read_json
+from thinfilm.render.rundir import iter_snapshots, load_snapshot, read_json
 
 __all__ = ["write_movie", "MovieInfo"]
 
@@ -132,7 +132,7 @@ class _Painter:
     def _instrument_image(self, field):
         p = self.instrument
         try:
-            from ..imaging import instrument_view
+            from thinfilm.analysis.imaging import instrument_view
         except ImportError:
             instrument_view = None
         if instrument_view is not None:

@@ -5,10 +5,10 @@ from pathlib import Path
 
 import numpy as np
 
-from .._io import atomic_write_bytes
-from ..errors import InputError
-from .frames import DIVERGING_CMAP, colour_frame
-from .rundir import load_snapshot, read_json, read_table, sweep_points
+from thinfilm._io import atomic_write_bytes
+from thinfilm.input.errors import InputError
+from thinfilm.render.frames import DIVERGING_CMAP, colour_frame
+from thinfilm.render.rundir import load_snapshot, read_json, read_table, sweep_points
 
 __all__ = ["plot_sweep", "plot_timeseries", "log_histogram", "OKABE_ITO"]
 

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from thinfilm.input.errors import InputError
 
 __all__ = ["load_snapshot", "iter_snapshots", "sweep_points", "read_table", "read_json"]
 

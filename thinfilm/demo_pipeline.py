@@ -1,10 +1,17 @@
-"""The demo: sweep an invented monolayer through Tc, film its heating, plot, plan."""
+"""The demo: sweep an invented monolayer through Tc, film its heating, plot, plan.
 
+On top of the API: nothing in the package imports this module.
+"""
+
+import time
 from pathlib import Path
 
-from .scenario import load_scenario
+from thinfilm.api import plan, run
+from thinfilm.input.scenario import DEFAULT_SCENARIO, load_scenario
+from thinfilm.render.movie import write_movie
+from thinfilm.render.plots import plot_timeseries
 
-__all__ = ["run_demo"]
+__all__ = ["demo", "run_demo"]
 
 
 def _heating_scenario(sc):
@@ -32,11 +39,6 @@ def run_demo(out_dir, scenario_path, *, workers=None, progress=True):
     2. a 20 ps stochastic LLG heating ramp on 64 x 64 sites with a movie (heating/);
     3. a heating plan for the scenario's instrument (plan.md).
     """
-    from .api import run
-    from .plan import make_plan
-    from .render.movie import write_movie
-    from .render.plots import plot_timeseries
-
     out_dir = Path(out_dir)
     sc = load_scenario(scenario_path)
     print(f"[1/3] Monte Carlo sweep of {sc.name}: {len(sc.sweep.temperatures_K)} temperatures, "
@@ -49,9 +51,16 @@ def run_demo(out_dir, scenario_path, *, workers=None, progress=True):
     plot_timeseries(out_dir / "heating")
     print("[3/3] heating plan")
     ins = sc.instrument
-    res = make_plan(sc, out_dir, resolution=f"{ins['resolution_nm']} nm" if "resolution_nm" in ins else None,
+    res = plan(sc, out_dir, resolution=f"{ins['resolution_nm']} nm" if "resolution_nm" in ins else None,
                     exposure=f"{ins['exposure_s']} s" if "exposure_s" in ins else None,
                     field_of_view=f"{ins['field_of_view_nm']} nm" if "field_of_view_nm" in ins else None,
                     reuse=True, progress=progress)
     print(res["summary_text"])
     return out_dir
+
+
+def demo(out_dir=None, *, workers=None, progress=True):
+    """Run the embedded demo (an invented film) into ``out_dir`` (default outputs/demo-<time>)."""
+    if out_dir is None:
+        out_dir = Path("outputs") / time.strftime("demo-%Y%m%d-%H%M%S")
+    return run_demo(Path(out_dir), DEFAULT_SCENARIO, workers=workers, progress=progress)

@@ -19,9 +19,10 @@ from functools import cached_property
 
 import numpy as np
 
+from thinfilm.input.spec import SHAPES
+
 __all__ = ["Lattice", "SHAPES", "SHAPE_CODE", "COORDINATION"]
 
-SHAPES = ("square", "triangular", "honeycomb")
 SHAPE_CODE = {"square": 0, "triangular": 1, "honeycomb": 2}
 COORDINATION = {"square": 4, "triangular": 6, "honeycomb": 3}
 # Sites per rectangular Bravais cell along (rows, columns): the grid repeats exactly with it.

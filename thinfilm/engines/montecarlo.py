@@ -14,7 +14,7 @@ during sampling so detailed balance holds.
 
 import numpy as np
 
-from ._kernels.metropolis import (
+from thinfilm.engines._kernels.metropolis import (
     N_COUNTS,
     make_work,
     row_colouring,
@@ -23,8 +23,8 @@ from ._kernels.metropolis import (
     samples_with_work,
     sweeps_with_work,
 )
-from .model import Model
-from .units import KB_J_PER_K, MEV_J
+from thinfilm.input.units import KB_J_PER_K, MEV_J
+from thinfilm.model.parameters import Model
 
 __all__ = ["MonteCarlo"]
 

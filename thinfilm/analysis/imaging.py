@@ -13,8 +13,8 @@ from thinfilm.analysis.correlation import (
     ornstein_zernike_fit,
 )
 from thinfilm.analysis.domains import domain_statistics, label_domains
-from thinfilm.errors import InputError
-from thinfilm.units import parse_quantity
+from thinfilm.input.errors import InputError
+from thinfilm.input.units import parse_quantity
 
 __all__ = ["rasterise", "instrument_view", "load_image", "analyse_image"]
 

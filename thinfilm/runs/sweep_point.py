@@ -17,15 +17,15 @@ from dataclasses import dataclass, replace
 import numba
 import numpy as np
 
-from .analysis.correlation import correlation_function, correlation_length
-from .analysis.domains import domain_statistics
-from .analysis.structure import structure_factor_length
-from .analysis.thermo import thermodynamics
-from .dynamics import LLGSimulation, initial_spins, measure, stable_time_step
-from .errors import ScenarioError, ThinFilmWarning
-from .model import build_model
-from .montecarlo import PARALLEL_MIN_SITES, MonteCarlo
-from .units import MEV_J
+from thinfilm.analysis.correlation import correlation_function, correlation_length
+from thinfilm.analysis.domains import domain_statistics
+from thinfilm.analysis.structure import structure_factor_length
+from thinfilm.analysis.thermo import thermodynamics
+from thinfilm.engines.montecarlo import PARALLEL_MIN_SITES, MonteCarlo
+from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, measure, stable_time_step
+from thinfilm.input.errors import ScenarioError, ThinFilmWarning
+from thinfilm.input.units import MEV_J
+from thinfilm.model.parameters import build_model
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
            "ROW_COLUMNS", "init_worker"]
@@ -47,7 +47,7 @@ ROW_COLUMNS = (
 
 def init_worker(n_threads):
     """Process-pool initializer: give each worker ``n_threads`` numba threads."""
-    from .config import set_threads
+    from thinfilm.config import set_threads
 
     set_threads(n_threads)
 
@@ -209,7 +209,7 @@ def _instrument_length(fields, lat, instrument, seed, ordered):
     exp(-k^2 s^2), so it can only raise this xi; the difference shows what the instrument
     cannot resolve.
     """
-    from .imaging import instrument_view
+    from thinfilm.analysis.imaging import instrument_view
 
     fwhm = instrument.get("resolution_nm")
     if not fwhm or not lat.periodic or len(fields) < 2:

@@ -15,7 +15,7 @@ K = (Ku - mu0 Ms^2 / 2) Omega t, which needs the axis along the film normal.
 
 import numpy as np
 
-from .units import MU0
+from thinfilm.input.units import MU0
 
 __all__ = ["continuum_to_lattice", "site_area", "exchange_factor"]
 

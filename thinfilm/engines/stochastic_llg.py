@@ -4,12 +4,12 @@ import math
 
 import numpy as np
 
-from ._kernels.field import observables
-from ._kernels.llg import heun_run, heun_run_twopass, heun_work, twopass_work
-from .config import threads
-from .errors import StabilityError
-from .model import Model
-from .units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
+from thinfilm.config import threads
+from thinfilm.engines._kernels.field import observables
+from thinfilm.engines._kernels.llg import heun_run, heun_run_twopass, heun_work, twopass_work
+from thinfilm.input.errors import StabilityError
+from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
+from thinfilm.model.parameters import Model
 
 __all__ = ["LLGSimulation", "stable_time_step", "initial_spins", "measure"]
 

@@ -6,242 +6,33 @@ Every error names the file, the key path, the value and what is allowed.
 import difflib
 import math
 import os
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 import yaml
 
-from .continuum import continuum_to_lattice
-from .errors import ScenarioError
-from .lattice import SHAPES
-from .units import KB_J_PER_K, MEV_J, MU0, MU_B_J_PER_T, parse_quantity
+from thinfilm.input.continuum import continuum_to_lattice
+from thinfilm.input.errors import ScenarioError
+from thinfilm.input.reader import Reader
+from thinfilm.input.spec import (
+    SHAPES,
+    DynamicsSpec,
+    LatticeSpec,
+    MaterialSpec,
+    Scenario,
+    SweepSpec,
+)
+from thinfilm.input.units import KB_J_PER_K, MEV_J, MU0, parse_quantity
 
 __all__ = ["Scenario", "load_scenario", "DEFAULT_SCENARIO"]
 
-DEFAULT_SCENARIO = Path(__file__).with_name("data") / "demo.yaml"
+DEFAULT_SCENARIO = Path(__file__).resolve().parents[1] / "data" / "demo.yaml"
 INITIAL_STATES = ("random", "up", "down", "stripes")
 METHODS = ("llg", "monte-carlo")
 ORDERS = ("heating", "cooling", "independent")
 COLOURS = ("mz", "angle")
 MAX_SITES = 50_000_000  # 50 M sites ~ 5 GB of engine memory
 BYTES_PER_SITE = 100
-
-
-class _Reader:
-    """Walks a nested mapping, remembering the key path for error messages."""
-
-    def __init__(self, data, path, prefix=""):
-        self.data = data
-        self.path = path
-        self.prefix = prefix
-        if not isinstance(data, dict):
-            raise self.error(f"must be a mapping of keys, got {data!r}", "")
-
-    def key(self, name):
-        return f"{self.prefix}.{name}" if self.prefix else name
-
-    def error(self, message, name):
-        return ScenarioError(message, path=self.path, key=self.key(name) if name else self.prefix or None)
-
-    def check_keys(self, allowed):
-        for k in self.data:
-            if k not in allowed:
-                close = difflib.get_close_matches(str(k), list(allowed), n=1, cutoff=0.6)
-                hint = f" Did you mean {close[0]!r}?" if close else ""
-                raise self.error(
-                    f"unknown key {k!r}; allowed keys here are {', '.join(sorted(allowed))}.{hint}", k
-                )
-
-    def has(self, name):
-        return name in self.data and self.data[name] is not None
-
-    def raw(self, name, default=None, required=False):
-        if name not in self.data or self.data[name] is None:
-            if required:
-                raise self.error("is required but missing", name)
-            return default
-        return self.data[name]
-
-    def sub(self, name, required=False):
-        val = self.raw(name, {} if not required else None, required)
-        return _Reader(val, self.path, self.key(name))
-
-    def quantity(self, name, kind, *, default=None, required=False, positive=False, nonneg=False):
-        val = self.raw(name, default, required)
-        if val is None:
-            return None
-        try:
-            q = parse_quantity(val, kind)
-        except ValueError as exc:
-            raise self.error(str(exc), name) from None
-        if positive and not q > 0:
-            raise self.error(f"must be positive, got {val!r}", name)
-        if nonneg and q < 0:
-            raise self.error(f"must not be negative, got {val!r}", name)
-        return q
-
-    def number(self, name, *, default=None, required=False, lo=None, hi=None, integer=False):
-        val = self.raw(name, default, required)
-        if val is None:
-            return None
-        kind = "an integer" if integer else "a number"
-        if isinstance(val, bool) or not isinstance(val, (int, float)) or (integer and not float(val).is_integer()):
-            raise self.error(f"must be {kind}, got {val!r}", name)
-        if not math.isfinite(val):
-            raise self.error(f"must be finite, got {val!r}", name)
-        if lo is not None and val < lo:
-            raise self.error(f"must be at least {lo}, got {val!r}", name)
-        if hi is not None and val > hi:
-            raise self.error(f"must be at most {hi}, got {val!r}", name)
-        return int(val) if integer else float(val)
-
-    def choice(self, name, allowed, *, default=None, required=False):
-        val = self.raw(name, default, required)
-        if val is not None and val not in allowed:
-            close = difflib.get_close_matches(str(val), list(allowed), n=1, cutoff=0.5)
-            hint = f" Did you mean {close[0]!r}?" if close else ""
-            raise self.error(f"must be one of {', '.join(allowed)}; got {val!r}.{hint}", name)
-        return val
-
-    def vector(self, name, *, unit_kind=None, default=None, required=False, nonzero=False):
-        """A 3-vector: plain list (direction) or {value: [..], unit: ..} when unit_kind is set."""
-        val = self.raw(name, default, required)
-        if val is None:
-            return None
-        scale = 1.0
-        if unit_kind is not None:
-            if not isinstance(val, dict) or set(val) != {"value", "unit"}:
-                raise self.error(
-                    f"must be written as {{value: [x, y, z], unit: T}}; got {val!r}", name)
-            unit = val["unit"]
-            try:
-                scale = parse_quantity(f"1 {unit}", unit_kind)
-            except ValueError as exc:
-                raise self.error(f"unit {unit!r}: {exc}", name) from None
-            val = val["value"]
-        if (not isinstance(val, (list, tuple)) or len(val) != 3
-                or not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in val)):
-            raise self.error(f"must be a list of three numbers, got {val!r}", name)
-        vec = np.asarray(val, dtype=np.float64) * scale
-        if not np.all(np.isfinite(vec)):
-            raise self.error(f"must be finite, got {val!r}", name)
-        if nonzero and not np.linalg.norm(vec) > 0:
-            raise self.error(f"must be a non-zero 3-vector, got {val!r}", name)
-        return vec
-
-
-@dataclass(frozen=True)
-class LatticeSpec:
-    shape: str
-    nx: int
-    ny: int
-    spacing_nm: float
-    periodic: bool
-
-
-@dataclass(frozen=True)
-class MaterialSpec:
-    moment_J_per_T: float
-    exchange_J: float
-    anisotropy_J: float
-    axis: np.ndarray
-    continuum: dict | None = None  # the continuum inputs when the film was given that way
-
-
-@dataclass(frozen=True)
-class DynamicsSpec:
-    method: str = "llg"
-    damping: float = 0.1
-    time_step_s: float = 1e-15
-    duration_s: float = 10e-12
-    gamma: float = 1.76085963023e11
-    warmup_s: float = 0.0
-    ramp_temperature_K: float | None = None
-    ramp_field_T: np.ndarray | None = None
-    sweeps_warmup: int = 2000
-    sweeps_samples: int = 5000
-    sample_every: int = 1
-
-
-@dataclass(frozen=True)
-class SweepSpec:
-    temperatures_K: tuple
-    sizes: tuple | None = None
-    refine: str | None = None
-    order: str = "independent"
-    cluster: str | None = None
-    snapshots: int = 20
-
-
-@dataclass(frozen=True)
-class Scenario:
-    """A validated scenario. Quantities in SI units unless the name says otherwise."""
-
-    name: str
-    source: str
-    lattice: LatticeSpec
-    material: MaterialSpec
-    field_T: np.ndarray
-    temperature_K: float
-    dynamics: DynamicsSpec
-    initial: str
-    record_every_s: float | None
-    snapshot_every_s: float | None
-    seed: int
-    sweep: SweepSpec | None = None
-    instrument: dict = field(default_factory=dict)
-    movie: dict | None = None
-    analysis: dict = field(default_factory=dict)
-    raw: dict = field(default_factory=dict, repr=False)
-
-    @property
-    def is_sweep(self):
-        return self.sweep is not None
-
-    def with_changes(self, **changes):
-        """Copy with some fields replaced (dataclasses.replace)."""
-        from dataclasses import replace
-
-        return replace(self, **changes)
-
-    def describe(self):
-        """Resolved parameters in physical units (for manifests and `thinfilm check`)."""
-        m, lat, d = self.material, self.lattice, self.dynamics
-        out = {
-            "name": self.name,
-            "source": self.source,
-            "lattice": {"shape": lat.shape, "cells": [lat.nx, lat.ny], "spacing_nm": lat.spacing_nm,
-                        "edges": "periodic" if lat.periodic else "open"},
-            "material": {"moment_muB": m.moment_J_per_T / MU_B_J_PER_T,
-                         "exchange_meV": m.exchange_J / MEV_J,
-                         "anisotropy_meV": m.anisotropy_J / MEV_J,
-                         "axis": [float(v) for v in m.axis]},
-            "field_T": [float(v) for v in self.field_T],
-            "temperature_K": self.temperature_K,
-            "dynamics": {"method": d.method, "damping": d.damping, "time_step_fs": d.time_step_s * 1e15,
-                         "duration_ps": d.duration_s * 1e12, "gamma_rad_per_s_T": d.gamma,
-                         "warmup_sweeps": d.sweeps_warmup, "sample_sweeps": d.sweeps_samples,
-                         "sample_every": d.sample_every, "warmup_ps": d.warmup_s * 1e12},
-            "initial": self.initial,
-            "seed": self.seed,
-        }
-        if m.continuum:
-            out["material"]["continuum"] = m.continuum
-        if d.ramp_temperature_K is not None:
-            out["dynamics"]["ramp_to_temperature_K"] = d.ramp_temperature_K
-        if d.ramp_field_T is not None:
-            out["dynamics"]["ramp_to_field_T"] = [float(v) for v in d.ramp_field_T]
-        if self.record_every_s:
-            out["record_every_ps"] = self.record_every_s * 1e12
-        if self.sweep:
-            out["sweep"] = {"temperatures_K": list(self.sweep.temperatures_K),
-                            "sizes": list(self.sweep.sizes) if self.sweep.sizes else None,
-                            "refine": self.sweep.refine, "order": self.sweep.order,
-                            "snapshots": self.sweep.snapshots}
-        if self.instrument:
-            out["instrument"] = dict(self.instrument)
-        return out
 
 
 def _temperatures(r, path):
@@ -390,7 +181,7 @@ def _gamma(text):
     """Gyromagnetic ratio from e.g. "1.76e11 rad/(s T)" or "28 GHz/T" (2 pi applied for Hz)."""
     if not isinstance(text, str):
         raise ValueError(f"must be a string with a unit such as \"1.76e11 rad/(s T)\", got {text!r}")
-    from .units import ureg
+    from thinfilm.input.units import ureg
 
     try:
         q = ureg.Quantity(text)
@@ -476,7 +267,7 @@ def load_scenario(source):
             raise ScenarioError(f"is not valid YAML: {exc}".replace("\n", " "), path=path) from None
         if data is None:
             raise ScenarioError("is empty; see scenarios/ for examples", path=path)
-    r = _Reader(data, path)
+    r = Reader(data, path)
     r.check_keys({"name", "description", "lattice", "material", "field", "temperature", "sizes",
                   "dynamics", "initial", "record", "seed", "sweep", "instrument", "movie", "analysis"})
     lat = _lattice(r)

@@ -11,8 +11,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .lattice import Lattice
-from .units import MEV_J
+from thinfilm.input.units import MEV_J
+from thinfilm.model.lattice import Lattice
 
 __all__ = ["Model", "build_model"]
 
@@ -89,7 +89,7 @@ class Model:
 
 def build_model(scenario):
     """Build a :class:`Model` from a validated Scenario (see :mod:`thinfilm.scenario`)."""
-    from .scenario import Scenario
+    from thinfilm.input.scenario import Scenario
 
     if not isinstance(scenario, Scenario):
         raise TypeError("build_model needs a Scenario: call load_scenario(path_or_dict) first")

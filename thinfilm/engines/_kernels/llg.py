@@ -28,8 +28,8 @@ import math
 import numba as nb
 import numpy as np
 
-from .field import field_soa, load_row, neighbour_rows, row_pad, set_ghosts
-from .rng import key, normals_row
+from thinfilm.engines._kernels.field import field_soa, load_row, neighbour_rows, row_pad, set_ghosts
+from thinfilm.engines._kernels.rng import key, normals_row
 
 __all__ = ["heun_run", "heun_run_twopass", "noise_field", "heun_work", "twopass_work"]
 

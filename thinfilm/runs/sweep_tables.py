@@ -8,7 +8,7 @@ import math
 
 import numpy as np
 
-from .analysis.critical import estimate_tc, tc_from_peaks
+from thinfilm.analysis.critical import estimate_tc, tc_from_peaks
 
 __all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE"]
 

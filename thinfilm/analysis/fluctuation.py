@@ -17,9 +17,9 @@ from contextlib import contextmanager
 import numba
 import numpy as np
 
-from .analysis.thermo import integrated_autocorrelation_time
-from .dynamics import LLGSimulation, stable_time_step
-from .units import GAMMA_E_RAD_PER_S_T
+from thinfilm.analysis.thermo import integrated_autocorrelation_time
+from thinfilm.engines.stochastic_llg import LLGSimulation, stable_time_step
+from thinfilm.input.units import GAMMA_E_RAD_PER_S_T
 
 __all__ = ["fluctuation_time", "exposure_verdict", "VERDICTS", "FROZEN_RATIO", "AVERAGED_RATIO"]
 
@@ -51,7 +51,7 @@ def _order_component(model, m_vector):
 def _equilibrate(model, temperature_K, seed, warmup_sweeps):
     """Spins drawn from the Boltzmann distribution by Metropolis sweeps, or None."""
     try:
-        from .montecarlo import MonteCarlo
+        from thinfilm.engines.montecarlo import MonteCarlo
     except ImportError:  # pragma: no cover - the Monte Carlo driver is part of the package
         return None, "none"
     if warmup_sweeps <= 0 or not temperature_K > 0:

@@ -6,10 +6,10 @@ import time
 import numpy as np
 from tqdm import tqdm
 
-from .dynamics import LLGSimulation, initial_spins, stable_time_step
-from .errors import ThinFilmWarning
-from .model import build_model
-from .record import RunFolder
+from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, stable_time_step
+from thinfilm.input.errors import ThinFilmWarning
+from thinfilm.model.parameters import build_model
+from thinfilm.runs.folder import RunFolder
 
 __all__ = ["run_dynamics"]
 

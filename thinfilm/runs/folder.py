@@ -9,9 +9,9 @@ from pathlib import Path
 
 import numpy as np
 
-from . import __version__
-from ._io import write_csv, write_json, write_npz
-from .errors import InputError
+from thinfilm._io import write_csv, write_json, write_npz
+from thinfilm._version import __version__
+from thinfilm.input.errors import InputError
 
 __all__ = ["RunFolder", "TIMESERIES_COLUMNS", "load_snapshot", "read_csv_table", "versions"]
 

@@ -1,6 +1,6 @@
 """Heating plan for a film and an imaging instrument.
 
-:func:`make_plan` runs (through :func:`thinfilm.api.run`) or reuses a temperature sweep in a
+:func:`make_plan` runs (through the given runner, by default a plain sweep) or reuses a temperature sweep in a
 folder and answers, for the largest simulated size:
 
 * Tc with its error (from ``tc.json``; the susceptibility peak when that has none);
@@ -21,14 +21,15 @@ from pathlib import Path
 
 import numpy as np
 
-from ._io import atomic_write_text, write_json
-from .errors import InputError, ScenarioError
-from .fluctuation import exposure_verdict, fluctuation_time
-from .plan_curves import clean_json as _clean
-from .plan_curves import crossing, fill_errors, schedule, smooth_log
-from .record import read_csv_table
-from .scenario import Scenario, load_scenario
-from .units import parse_quantity
+from thinfilm._io import atomic_write_text, write_json
+from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
+from thinfilm.input.errors import InputError, ScenarioError
+from thinfilm.input.scenario import Scenario, load_scenario
+from thinfilm.input.units import parse_quantity
+from thinfilm.plan.curves import clean_json as _clean
+from thinfilm.plan.curves import crossing, fill_errors, schedule, smooth_log
+from thinfilm.runs.folder import read_csv_table
+from thinfilm.runs.sweep import run_sweep
 
 __all__ = ["make_plan", "instrument_values", "analyse_sweep", "LLG_FRACTIONS"]
 
@@ -102,7 +103,7 @@ def _comparable(described):
     return d
 
 
-def _ensure_sweep(sc, out, reuse, workers, progress):
+def _ensure_sweep(sc, out, reuse, workers, progress, runner):
     """Run, resume or reuse the sweep in ``out``; returns 'ran', 'resumed' or 'reused'."""
     man = out / "manifest.json"
     if not sc.is_sweep:
@@ -128,13 +129,9 @@ def _ensure_sweep(sc, out, reuse, workers, progress):
         done = m.get("finished") and (out / "observables.csv").is_file() and (out / "tc.json").is_file()
         if done:
             return "reused"
-        from .api import run
-
-        run(sc, out, resume=True, workers=workers, progress=progress)
+        runner(sc, out, resume=True, workers=workers, progress=progress)
         return "resumed"
-    from .api import run
-
-    run(sc, out, workers=workers, progress=progress)
+    runner(sc, out, workers=workers, progress=progress)
     return "ran"
 
 
@@ -166,7 +163,7 @@ def _col(cols, name):
 def _tc(cols, tc):
     if tc.get("tc_K") is not None:
         return float(tc["tc_K"]), tc.get("tc_err_K"), str(tc.get("method") or "tc.json")
-    from .analysis.critical import tc_from_peaks
+    from thinfilm.analysis.critical import tc_from_peaks
 
     t, chi = cols["temperature_K"], _col(cols, "susceptibility")
     ok = np.isfinite(chi)
@@ -251,8 +248,8 @@ def _llg_temperatures(tc, t_lo, t_hi, given):
 
 
 def _fluctuations(sc, temps, size, duration_s, progress):
-    from .model import build_model
-    from .sweep_point import sized_scenario
+    from thinfilm.model.parameters import build_model
+    from thinfilm.runs.sweep_point import sized_scenario
 
     model = build_model(sized_scenario(sc, size))
     dy = sc.dynamics
@@ -301,7 +298,7 @@ def _edge(d):
 
 def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=None, workers=None,
               reuse=False, progress=True, n_points=15, dwell="5 min", llg_size=16,
-              llg_duration="150 ps", llg_temperatures=None, n_boot=400, seed=0):
+              llg_duration="150 ps", llg_temperatures=None, n_boot=400, seed=0, runner=None):
     """Heating plan for a film (scenario with a temperature sweep) and an instrument.
 
     Parameters
@@ -334,6 +331,10 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
         Bootstrap replicas for the window edges.
     seed : int
         Seed of the bootstrap.
+    runner : callable, optional
+        ``runner(scenario, out_dir, *, resume=False, workers, progress)`` that runs the sweep when
+        the folder does not hold one yet; default :func:`thinfilm.runs.sweep.run_sweep` (no
+        figures). :func:`thinfilm.api.plan` passes :func:`thinfilm.api.run`.
 
     Returns
     -------
@@ -341,7 +342,7 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
         ``plan`` (the plan.json content), ``plan_md``, ``plan_json`` (paths), ``figures``
         (paths) and ``summary_text`` (about ten lines of plain text).
     """
-    from . import plan_report
+    from thinfilm.plan import report as plan_report
 
     sc = _scenario(source)
     ins = instrument_values(sc, resolution, exposure, field_of_view)
@@ -352,9 +353,9 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     dwell_s = _quantity("dwell", dwell, "time", "5 min")
     llg_s = _quantity("llg_duration", llg_duration, "time", "150 ps")
     out = Path(out_dir)
-    how = _ensure_sweep(sc, out, reuse, workers, progress)
-    from .model import build_model
-    from .sweep_point import sized_scenario
+    how = _ensure_sweep(sc, out, reuse, workers, progress, runner or run_sweep)
+    from thinfilm.model.parameters import build_model
+    from thinfilm.runs.sweep_point import sized_scenario
 
     size = int(np.nanmax(read_csv_table(out / "observables.csv")["size"]))
     box = float(min(build_model(sized_scenario(sc, size)).lattice.box_nm))

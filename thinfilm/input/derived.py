@@ -5,8 +5,8 @@ import math
 import numpy as np
 from scipy import optimize, special
 
-from .continuum import exchange_factor, site_area
-from .units import KB_J_PER_K, MU0
+from thinfilm.input.continuum import exchange_factor, site_area
+from thinfilm.input.units import KB_J_PER_K, MU0
 
 __all__ = ["mean_field_tc_K", "wall_parameter_nm", "exchange_length_nm"]
 

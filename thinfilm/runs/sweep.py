@@ -23,10 +23,10 @@ from pathlib import Path
 import numpy as np
 from tqdm import tqdm
 
-from ._io import write_csv, write_json, write_npz
-from .errors import InputError, ScenarioError, ThinFilmWarning
-from .record import versions
-from .sweep_point import (
+from thinfilm._io import write_csv, write_json, write_npz
+from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
+from thinfilm.runs.folder import versions
+from thinfilm.runs.sweep_point import (
     ROW_COLUMNS,
     PointTask,
     compute_point,
@@ -34,7 +34,7 @@ from .sweep_point import (
     point_name,
     point_seed,
 )
-from .sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
+from thinfilm.runs.sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
 
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
@@ -261,7 +261,7 @@ def _jsonable(obj):
 
 
 def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None,
-              progress=True, plots=True):
+              progress=True):
     """Run every (size, temperature) point of a sweep scenario and write the sweep folder.
 
     Parameters
@@ -281,8 +281,6 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
         Dask scheduler address (``tcp://host:port``); the points run there instead.
     progress : bool
         Progress bar over points.
-    plots : bool
-        Call ``thinfilm.render.plots.plot_sweep`` at the end (when that module exists).
 
     Returns
     -------
@@ -331,13 +329,6 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
         bar.close()
         close()
     _finish(out, sc, manifest, rows, started)
-    if plots:
-        try:
-            from .render.plots import plot_sweep
-        except ImportError:
-            plot_sweep = None
-        if plot_sweep is not None:
-            plot_sweep(out)
     return out
 
 

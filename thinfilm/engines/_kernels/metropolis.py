@@ -52,8 +52,8 @@ from numba import types
 from numba.core import cgutils
 from numba.extending import intrinsic
 
-from .field import neighbour_rows, row_pad
-from .rng import _bits_f64, fast_log, hash64, key, normals_row
+from thinfilm.engines._kernels.field import neighbour_rows, row_pad
+from thinfilm.engines._kernels.rng import _bits_f64, fast_log, hash64, key, normals_row
 
 __all__ = [
     "row_colouring",

@@ -1,0 +1,1 @@
+"""Scenario input: YAML schema and reader, units, continuum mapping, derived scales, errors."""

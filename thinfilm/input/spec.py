@@ -1,0 +1,124 @@
+"""The validated scenario: frozen dataclasses in SI / practical units."""
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from thinfilm.input.units import MEV_J, MU_B_J_PER_T
+
+__all__ = ["LatticeSpec", "MaterialSpec", "DynamicsSpec", "SweepSpec", "Scenario", "SHAPES"]
+
+SHAPES = ("square", "triangular", "honeycomb")
+
+
+@dataclass(frozen=True)
+class LatticeSpec:
+    shape: str
+    nx: int
+    ny: int
+    spacing_nm: float
+    periodic: bool
+
+
+@dataclass(frozen=True)
+class MaterialSpec:
+    moment_J_per_T: float
+    exchange_J: float
+    anisotropy_J: float
+    axis: np.ndarray
+    continuum: dict | None = None  # the continuum inputs when the film was given that way
+
+
+@dataclass(frozen=True)
+class DynamicsSpec:
+    method: str = "llg"
+    damping: float = 0.1
+    time_step_s: float = 1e-15
+    duration_s: float = 10e-12
+    gamma: float = 1.76085963023e11
+    warmup_s: float = 0.0
+    ramp_temperature_K: float | None = None
+    ramp_field_T: np.ndarray | None = None
+    sweeps_warmup: int = 2000
+    sweeps_samples: int = 5000
+    sample_every: int = 1
+
+
+@dataclass(frozen=True)
+class SweepSpec:
+    temperatures_K: tuple
+    sizes: tuple | None = None
+    refine: str | None = None
+    order: str = "independent"
+    cluster: str | None = None
+    snapshots: int = 20
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A validated scenario. Quantities in SI units unless the name says otherwise."""
+
+    name: str
+    source: str
+    lattice: LatticeSpec
+    material: MaterialSpec
+    field_T: np.ndarray
+    temperature_K: float
+    dynamics: DynamicsSpec
+    initial: str
+    record_every_s: float | None
+    snapshot_every_s: float | None
+    seed: int
+    sweep: SweepSpec | None = None
+    instrument: dict = field(default_factory=dict)
+    movie: dict | None = None
+    analysis: dict = field(default_factory=dict)
+    raw: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def is_sweep(self):
+        return self.sweep is not None
+
+    def with_changes(self, **changes):
+        """Copy with some fields replaced (dataclasses.replace)."""
+        from dataclasses import replace
+
+        return replace(self, **changes)
+
+    def describe(self):
+        """Resolved parameters in physical units (for manifests and `thinfilm check`)."""
+        m, lat, d = self.material, self.lattice, self.dynamics
+        out = {
+            "name": self.name,
+            "source": self.source,
+            "lattice": {"shape": lat.shape, "cells": [lat.nx, lat.ny], "spacing_nm": lat.spacing_nm,
+                        "edges": "periodic" if lat.periodic else "open"},
+            "material": {"moment_muB": m.moment_J_per_T / MU_B_J_PER_T,
+                         "exchange_meV": m.exchange_J / MEV_J,
+                         "anisotropy_meV": m.anisotropy_J / MEV_J,
+                         "axis": [float(v) for v in m.axis]},
+            "field_T": [float(v) for v in self.field_T],
+            "temperature_K": self.temperature_K,
+            "dynamics": {"method": d.method, "damping": d.damping, "time_step_fs": d.time_step_s * 1e15,
+                         "duration_ps": d.duration_s * 1e12, "gamma_rad_per_s_T": d.gamma,
+                         "warmup_sweeps": d.sweeps_warmup, "sample_sweeps": d.sweeps_samples,
+                         "sample_every": d.sample_every, "warmup_ps": d.warmup_s * 1e12},
+            "initial": self.initial,
+            "seed": self.seed,
+        }
+        if m.continuum:
+            out["material"]["continuum"] = m.continuum
+        if d.ramp_temperature_K is not None:
+            out["dynamics"]["ramp_to_temperature_K"] = d.ramp_temperature_K
+        if d.ramp_field_T is not None:
+            out["dynamics"]["ramp_to_field_T"] = [float(v) for v in d.ramp_field_T]
+        if self.record_every_s:
+            out["record_every_ps"] = self.record_every_s * 1e12
+        if self.sweep:
+            out["sweep"] = {"temperatures_K": list(self.sweep.temperatures_K),
+                            "sizes": list(self.sweep.sizes) if self.sweep.sizes else None,
+                            "refine": self.sweep.refine, "order": self.sweep.order,
+                            "snapshots": self.sweep.snapshots}
+        if self.instrument:
+            out["instrument"] = dict(self.instrument)
+        return out

@@ -1,0 +1,1 @@
+"""The model: lattices and their one neighbour description, parameters in reduced units."""
