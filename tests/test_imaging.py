@@ -8,13 +8,8 @@ import pytest
 import tifffile
 
 from thinfilm.analysis.correlation import second_moment_length, structure_factor
-from thinfilm.analysis.imaging import (
-    FWHM_PER_SIGMA,
-    analyse_image,
-    instrument_view,
-    load_image,
-    rasterise,
-)
+from thinfilm.analysis.imaging import analyse_image, load_image
+from thinfilm.analysis.instrument import FWHM_PER_SIGMA, instrument_view, rasterise
 from thinfilm.input.errors import InputError
 from thinfilm.model.lattice import Lattice
 

@@ -110,4 +110,4 @@ def test_no_module_is_long():
 def test_layering_check_can_fail():
     # the checker itself: a later-stage import is seen (render is after analysis)
     assert _stage("thinfilm.render.plots") > _stage("thinfilm.analysis.thermo")
-    assert "thinfilm.analysis.imaging" in GRAPH["thinfilm.render.frames"]
+    assert "thinfilm.analysis.instrument" in GRAPH["thinfilm.render.frames"]

@@ -1,10 +1,21 @@
-"""Structure factor, pair correlation C(r) and correlation lengths of scalar fields on 2D grids."""
+"""Correlation lengths in nm: second moment of S(k) and Ornstein-Zernike fit of C(r), with errors.
 
-import warnings
+Also re-exports :func:`structure_factor` and :func:`correlation_function`, which live in
+:mod:`thinfilm.analysis.lattice_fourier` and :mod:`thinfilm.analysis.pair_correlation`.
+"""
 
 import numpy as np
-from scipy import optimize, sparse, special
+from scipy import special
 
+from thinfilm.analysis.lattice_fourier import _TWO_PI, _geometry, _spacing, structure_factor
+from thinfilm.analysis.pair_correlation import (
+    _binning,
+    _fit_oz,
+    _pair_entries,
+    _radial,
+    correlation_function,
+    ornstein_zernike_fit,
+)
 from thinfilm.input.errors import InputError
 
 __all__ = [
@@ -14,240 +25,6 @@ __all__ = [
     "ornstein_zernike_fit",
     "correlation_length",
 ]
-
-_TWO_PI = 2.0 * np.pi
-
-
-def _geometry(field, positions_nm, box_nm, period, periodic, valid=None, stack=False):
-    """Check inputs; return (fields (M, ny, nx), valid, pos, box, period, cell)."""
-    try:
-        f = np.asarray(field, dtype=np.float64)
-    except (TypeError, ValueError) as exc:
-        raise InputError(
-            f"correlation analysis: the field must be a numeric array; {exc}"
-        ) from None
-    if not stack:
-        if f.ndim != 2:
-            raise InputError(
-                f"correlation analysis: the field must be a 2D array (ny, nx) of one scalar per "
-                f"site; got shape {f.shape}. Pass one component, e.g. spins[..., 2]."
-            )
-        f = f[None]
-    elif f.ndim != 3 or f.shape[0] < 1:
-        raise InputError(
-            f"correlation analysis: snapshots must be a sequence of 2D arrays of one shape; "
-            f"got an array of shape {f.shape}"
-        )
-    ny, nx = f.shape[1:]
-    pos = np.asarray(positions_nm, dtype=np.float64)
-    if pos.shape != (ny, nx, 2):
-        raise InputError(
-            f"correlation analysis: positions_nm must have shape ({ny}, {nx}, 2) to match the "
-            f"field; got {pos.shape}"
-        )
-    box = np.asarray(box_nm, dtype=np.float64).reshape(-1)
-    if box.shape != (2,) or not np.all(np.isfinite(box)) or np.any(box <= 0):
-        raise InputError(
-            f"correlation analysis: box_nm must be two positive lengths in nm; got {box_nm!r}"
-        )
-    pr, pc = (int(p) for p in period)
-    if pr < 1 or pc < 1 or ny % pr or nx % pc:
-        raise InputError(
-            f"correlation analysis: period {tuple(period)} must divide the grid shape ({ny}, {nx})"
-        )
-    if valid is None:
-        valid = np.ones((ny, nx), dtype=bool)
-    else:
-        valid = np.asarray(valid, dtype=bool)
-        if valid.shape != (ny, nx):
-            raise InputError(
-                f"correlation analysis: the validity mask must have shape ({ny}, {nx}); got {valid.shape}"
-            )
-    if valid.sum() < 2:
-        raise InputError("correlation analysis: fewer than two valid sites remain after masking")
-    if not np.all(np.isfinite(f[:, valid])):
-        raise InputError(
-            "correlation analysis: the field holds NaN or infinite values at valid sites; mark them "
-            "invalid with a mask"
-        )
-    cell = np.array([box[0] * pc / nx, box[1] * pr / ny])
-    for a in range(pr):
-        for b in range(pc):
-            sub = pos[a::pr, b::pc]
-            i, j = np.meshgrid(np.arange(sub.shape[0]), np.arange(sub.shape[1]), indexing="ij")
-            diff = sub - pos[a, b] - np.stack([j * cell[0], i * cell[1]], axis=-1)
-            diff -= box * np.round(diff / box)
-            if np.max(np.abs(diff)) > 1e-6 * cell.max():
-                raise InputError(
-                    f"correlation analysis: positions_nm do not repeat with the rectangular cell "
-                    f"{cell[0]:.6g} x {cell[1]:.6g} nm implied by box_nm {tuple(box)} and period "
-                    f"{(pr, pc)}; pass the lattice's own positions, box and period"
-                )
-    f = np.where(valid, f, 0.0)
-    return f, valid, pos, box, (pr, pc), cell
-
-
-def _spacing(cell, period):
-    """Smallest grid step in nm (nearest-neighbour scale used for default bins)."""
-    return float(min(cell[0] / period[1], cell[1] / period[0]))
-
-
-def structure_factor(field, positions_nm, box_nm, period=(1, 1), *, subtract_mean=False):
-    """Exact structure factor on the reciprocal lattice of a periodic 2D grid.
-
-    The grid is split into its ``period[0] * period[1]`` rectangular Bravais sublattices; each is
-    Fourier transformed with ``numpy.fft.fft2`` and the transforms are combined with the phase
-    factors ``exp(-i k.p)`` of the sublattice origins p, so ``F(k) = sum_r s(r) exp(-i k.r)``
-    holds for the true site positions r (square, triangular or honeycomb).
-
-    Parameters
-    ----------
-    field : ndarray, shape (ny, nx)
-        One scalar per site (e.g. the out-of-plane spin component), dimensionless.
-    positions_nm : ndarray, shape (ny, nx, 2)
-        Site positions (x, y) in nm.
-    box_nm : (float, float)
-        Torus periods (Lx, Ly) in nm.
-    period : (int, int)
-        (rows, columns) of the rectangular Bravais cell in index units.
-    subtract_mean : bool
-        Remove the spatial mean first (then S(0) = 0).
-
-    Returns
-    -------
-    kx, ky : ndarray, shape (ny, nx)
-        Wavevector components in rad/nm, ``kx = 2 pi m / Lx``, ``ky = 2 pi n / Ly`` with m, n in
-        numpy FFT order (for Bravais lattices a complete orthogonal set on the sites, so
-        Parseval holds; for the honeycomb basis the set spans two Brillouin zones).
-    s_k : ndarray, shape (ny, nx)
-        ``S(k) = |F(k)|^2 / N``, dimensionless.
-    """
-    f, _, pos, box, (pr, pc), _ = _geometry(field, positions_nm, box_nm, period, True)
-    f = f[0]
-    if subtract_mean:
-        f = f - f.mean()
-    ny, nx = f.shape
-    my, mx = ny // pr, nx // pc
-    m = np.rint(np.fft.fftfreq(nx, 1.0 / nx)).astype(int)
-    n = np.rint(np.fft.fftfreq(ny, 1.0 / ny)).astype(int)
-    kx, ky = np.meshgrid(_TWO_PI * m / box[0], _TWO_PI * n / box[1])
-    amp = np.zeros((ny, nx), dtype=np.complex128)
-    for a in range(pr):
-        for b in range(pc):
-            sub = np.fft.fft2(f[a::pr, b::pc])[np.ix_(n % my, m % mx)]
-            amp += np.exp(-1j * (kx * pos[a, b, 0] + ky * pos[a, b, 1])) * sub
-    return kx, ky, np.abs(amp) ** 2 / f.size
-
-
-def _pair_entries(f, valid, pos, box, period, cell, periodic):
-    """Pair sums for every (sublattice pair, displacement): distances, sums (M, E), counts (E)."""
-    pr, pc = period
-    my, mx = f.shape[1] // pr, f.shape[2] // pc
-    shape = (my, mx) if periodic else (2 * my, 2 * mx)
-    subs = [(a, b) for a in range(pr) for b in range(pc)]
-    ff = {s: np.fft.rfft2(f[:, s[0] :: pr, s[1] :: pc], s=shape) for s in subs}
-    vv = {s: np.fft.rfft2(valid[s[0] :: pr, s[1] :: pc].astype(float), s=shape) for s in subs}
-    u = np.arange(shape[0])
-    v = np.arange(shape[1])
-    if not periodic:
-        u = np.where(u < my, u, u - shape[0])
-        v = np.where(v < mx, v, v - shape[1])
-    dj, di = np.meshgrid(v, u)
-    dist, sums, counts = [], [], []
-    for s1 in subs:
-        for s2 in subs:
-            cnt = np.rint(np.fft.irfft2(np.conj(vv[s1]) * vv[s2], s=shape)).ravel()
-            tot = np.fft.irfft2(np.conj(ff[s1]) * ff[s2], s=shape).reshape(f.shape[0], -1)
-            dx = pos[s2][0] - pos[s1][0] + dj * cell[0]
-            dy = pos[s2][1] - pos[s1][1] + di * cell[1]
-            if periodic:
-                dx = dx - box[0] * np.round(dx / box[0])
-                dy = dy - box[1] * np.round(dy / box[1])
-            keep = cnt > 0.5
-            dist.append(np.hypot(dx, dy).ravel()[keep])
-            sums.append(tot[:, keep])
-            counts.append(cnt[keep])
-    return np.concatenate(dist), np.concatenate(sums, axis=1), np.concatenate(counts)
-
-
-def _binning(dist, bin_nm, r_max_nm):
-    """Sparse matrix (n_bins, E) mapping entries to radial bins of width bin_nm (centred on 0)."""
-    idx = np.rint(dist / bin_nm).astype(np.int64)
-    keep = dist <= r_max_nm * (1 + 1e-12)
-    n_bins = int(idx[keep].max()) + 1
-    cols = np.nonzero(keep)[0]
-    return sparse.csr_matrix((np.ones(cols.size), (idx[keep], cols)), shape=(n_bins, dist.size))
-
-
-def _radial(binmat, dist, sums_mean, counts):
-    """Radial average: r (pair-weighted mean distance), C, pair counts; empty bins dropped."""
-    pairs = binmat @ counts
-    ok = pairs > 0
-    r = (binmat @ (dist * counts))[ok] / pairs[ok]
-    return r, (binmat @ sums_mean)[ok] / pairs[ok], pairs[ok]
-
-
-def correlation_function(
-    field,
-    positions_nm,
-    box_nm,
-    period=(1, 1),
-    *,
-    periodic=True,
-    subtract_mean=True,
-    valid=None,
-    bin_nm=None,
-    r_max_nm=None,
-):
-    """Radially averaged pair correlation C(r) = <s(x) s(x + r)> - <s>^2 computed by FFT.
-
-    Cross-correlations of all pairs of Bravais sublattices give every pair of sites with its exact
-    real-space displacement (minimum image on a torus). With ``periodic=False`` (open edges,
-    images) the sublattices are zero-padded and each displacement is normalised by its number of
-    overlapping valid pairs, so C is unbiased by the edges and by masked sites.
-
-    Parameters
-    ----------
-    field : ndarray, shape (ny, nx)
-        One scalar per site or pixel, dimensionless.
-    positions_nm, box_nm, period
-        Geometry as in :func:`structure_factor`; for an image use the pixel grid, ``box_nm =
-        (nx * pixel, ny * pixel)`` and period (1, 1).
-    periodic : bool
-        Torus (minimum-image displacements) or open edges.
-    subtract_mean : bool
-        Subtract the mean over valid sites (connected correlation).
-    valid : ndarray of bool, shape (ny, nx), optional
-        False marks sites/pixels to ignore.
-    bin_nm : float, optional
-        Width of the radial bins in nm (bins centred on 0, bin_nm, ...). Default: half the
-        smallest grid step.
-    r_max_nm : float, optional
-        Largest distance kept; default min(Lx, Ly) / 2.
-
-    Returns
-    -------
-    r_nm : ndarray
-        Pair-weighted mean distance of each non-empty bin, nm.
-    c : ndarray
-        C(r), in field units squared.
-    counts : ndarray
-        Number of ordered site pairs in each bin.
-    """
-    f, valid, pos, box, period, cell = _geometry(
-        field, positions_nm, box_nm, period, periodic, valid
-    )
-    if subtract_mean:
-        f = np.where(valid, f - f[0][valid].mean(), 0.0)
-    bin_nm = 0.5 * _spacing(cell, period) if bin_nm is None else float(bin_nm)
-    r_max_nm = 0.5 * float(box.min()) if r_max_nm is None else float(r_max_nm)
-    if not (bin_nm > 0 and r_max_nm > 0):
-        raise InputError(
-            f"correlation_function: bin_nm and r_max_nm must be positive; got {bin_nm}, {r_max_nm}"
-        )
-    dist, sums, counts = _pair_entries(f, valid, pos, box, period, cell, periodic)
-    binmat = _binning(dist, bin_nm, r_max_nm)
-    return _radial(binmat, dist, sums[0], counts)
 
 
 def _khat2(k, c, lattice_form):
@@ -302,51 +79,6 @@ def _sm_open(dist, c_entries, site_area, fit):
         t**3 * special.k1(t) + 2 * t**2 * special.kn(2, t)
     )
     return float(np.sqrt(m2 / (4.0 * m0))) if m0 > 0 and m2 > 0 else np.nan
-
-
-def _oz_model(r, amp, xi, offset):
-    return amp * special.k0(r / xi) + offset
-
-
-def _fit_oz(r, c, spacing, r_lim, r_min_nm=None, r_max_nm=None, xi_guess_nm=None):
-    """Fit C(r) = A K0(r / xi) + B on [r_min, r_max]; returns (xi, err, A, B, r_min, r_max)."""
-    nan = (np.nan, np.nan, np.nan, np.nan, np.nan, np.nan)
-    r_min = 2.0 * spacing if r_min_nm is None else float(r_min_nm)
-    if xi_guess_nm is not None and xi_guess_nm > 0:
-        xi = float(xi_guess_nm)
-    else:
-        start = np.nonzero(r >= r_min)[0]
-        if start.size == 0:
-            return nan
-        below = np.nonzero((r >= r_min) & (c < c[start[0]] / np.e))[0]
-        xi = max(float(r[below[0]] - r_min) if below.size else r_lim / 4, spacing)
-    result = nan
-    for _ in range(4):
-        r_max = min(5.0 * xi, r_lim) if r_max_nm is None else float(r_max_nm)
-        sel = (r >= r_min) & (r <= r_max)
-        if sel.sum() < 5:
-            return result
-        rs, cs = r[sel], c[sel]
-        amp0 = cs[0] / max(special.k0(rs[0] / xi), 1e-300)
-        try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                popt, pcov = optimize.curve_fit(
-                    _oz_model,
-                    rs,
-                    cs,
-                    p0=(amp0, xi, 0.0),
-                    bounds=([-np.inf, 0.05 * spacing, -np.inf], [np.inf, 20.0 * r_lim, np.inf]),
-                )
-        except (RuntimeError, ValueError, optimize.OptimizeWarning):
-            return result
-        err = float(np.sqrt(pcov[1, 1])) if np.all(np.isfinite(pcov)) else np.nan
-        new = float(popt[1])
-        result = (new, err, float(popt[0]), float(popt[2]), float(r_min), float(r_max))
-        if r_max_nm is not None or abs(new - xi) < 1e-3 * xi:
-            break
-        xi = new
-    return result
 
 
 def _analyse(fields, valid, pos, box, period, cell, periodic, subtract_mean, n_blocks, fit):
@@ -462,62 +194,6 @@ def second_moment_length(
     r, c, _ = _radial(_binning(dist, 0.5 * spacing, r_lim), dist, sums[0], counts)
     fit = _fit_oz(r, c, spacing, r_lim)
     return _sm_open(dist, sums[0] / counts, float(box[0] * box[1]) / f[0].size, fit)
-
-
-def ornstein_zernike_fit(
-    field,
-    positions_nm,
-    box_nm,
-    period=(1, 1),
-    *,
-    periodic=True,
-    valid=None,
-    r_min_nm=None,
-    r_max_nm=None,
-    xi_guess_nm=None,
-):
-    """Correlation length from a fit of the 2D Ornstein-Zernike form to the connected C(r).
-
-    Fits ``C(r) = A K0(r / xi) + B`` (K0 from ``scipy.special.k0``; the asymptotic OZ correlation
-    in two dimensions) by least squares to the radially averaged connected correlation on
-    ``[r_min, r_max]``. The constant B absorbs the offset left by subtracting the sample mean.
-    By default r_min is twice the grid step and r_max = min(5 xi, L/2), iterated from a first
-    guess.
-
-    Parameters
-    ----------
-    field, positions_nm, box_nm, period, periodic, valid
-        As in :func:`correlation_function`.
-    r_min_nm, r_max_nm : float, optional
-        Fit range in nm.
-    xi_guess_nm : float, optional
-        Starting value of xi in nm.
-
-    Returns
-    -------
-    dict
-        ``xi_nm``, ``xi_err_nm`` (one standard deviation from the fit covariance; it ignores the
-        correlation between radial bins and so underestimates the true scatter),
-        ``amplitude``, ``offset`` (field units squared), ``r_min_nm``, ``r_max_nm``.
-        Values are nan when the fit fails.
-    """
-    f, valid, pos, box, period, cell = _geometry(
-        field, positions_nm, box_nm, period, periodic, valid
-    )
-    f = np.where(valid, f - f[0][valid].mean(), 0.0)
-    spacing = _spacing(cell, period)
-    r_lim = 0.5 * float(box.min())
-    dist, sums, counts = _pair_entries(f, valid, pos, box, period, cell, periodic)
-    r, c, _ = _radial(_binning(dist, 0.5 * spacing, r_lim), dist, sums[0], counts)
-    xi, err, amp, off, lo, hi = _fit_oz(r, c, spacing, r_lim, r_min_nm, r_max_nm, xi_guess_nm)
-    return {
-        "xi_nm": xi,
-        "xi_err_nm": err,
-        "amplitude": amp,
-        "offset": off,
-        "r_min_nm": lo,
-        "r_max_nm": hi,
-    }
 
 
 def correlation_length(

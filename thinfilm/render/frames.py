@@ -103,7 +103,7 @@ def site_index_map(positions_nm, box_nm, pixel_nm, *, periodic=True):
     if not (pixel_nm and pixel_nm > 0):
         raise InputError(f"pixel_nm must be a positive length in nm; got {pixel_nm!r}.")
     try:
-        from thinfilm.analysis.imaging import rasterise
+        from thinfilm.analysis.instrument import rasterise
     except ImportError:
         return _nearest_site_raster(pos, box_nm, float(pixel_nm), bool(periodic))
     ids = np.arange(pos.shape[0] * pos.shape[1], dtype=np.float64).reshape(pos.shape[:2])

@@ -132,7 +132,7 @@ class _Painter:
     def _instrument_image(self, field):
         p = self.instrument
         try:
-            from thinfilm.analysis.imaging import instrument_view
+            from thinfilm.analysis.instrument import instrument_view
         except ImportError:
             instrument_view = None
         if instrument_view is not None:

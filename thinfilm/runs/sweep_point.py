@@ -209,7 +209,7 @@ def _instrument_length(fields, lat, instrument, seed, ordered):
     exp(-k^2 s^2), so it can only raise this xi; the difference shows what the instrument
     cannot resolve.
     """
-    from thinfilm.analysis.imaging import instrument_view
+    from thinfilm.analysis.instrument import instrument_view
 
     fwhm = instrument.get("resolution_nm")
     if not fwhm or not lat.periodic or len(fields) < 2:
