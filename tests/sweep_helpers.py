@@ -16,9 +16,10 @@ def tiny_sweep(*, temps=("1.5 K", "2.5 K", "3.5 K"), sizes=(6, 8), order="indepe
         "material": {"moment": "1 muB", "exchange": "0.25 meV",
                      "anisotropy": {"constant": "0.1 meV", "axis": [0, 0, 1]}},
         "temperature": temperature,
-        "dynamics": {"method": method, "sweeps": {"warmup": warmup, "samples": samples},
-                     "damping": 1.0, "timestep": "5 fs", "duration": "2 ps", "warmup": "0.5 ps",
-                     "sample_every": 1 if method == "monte-carlo" else 10},
+        "dynamics": {"method": method, "damping": 1.0, "timestep": "5 fs",
+                     "sample_every": 1 if method == "monte-carlo" else 10,
+                     **({"sweeps": {"warmup": warmup, "samples": samples}} if method == "monte-carlo"
+                        else {"duration": "2 ps", "warmup": "0.5 ps"})},
         "sweep": {"order": order, "snapshots": snapshots},
         "initial": initial,
         "seed": seed,

@@ -151,9 +151,9 @@ def _mc_llg_pair(temperature_K, *, llg_duration="100 ps", samples=8000):
                          "anisotropy": {"constant": "0.5 meV"}},
             "temperature": [f"{temperature_K} K", f"{temperature_K + 1} K"], "initial": "up",
             "seed": 3, "sweep": {"snapshots": 2},
-            "dynamics": {"method": method, "damping": 1.0, "timestep": "2 fs",
-                         "duration": llg_duration, "warmup": "10 ps", "sample_every": 30,
-                         "sweeps": {"warmup": 500, "samples": samples}}})
+            "dynamics": {"method": method, "damping": 1.0, "timestep": "2 fs", "sample_every": 30,
+                         **({"sweeps": {"warmup": 500, "samples": samples}} if method == "monte-carlo"
+                            else {"duration": llg_duration, "warmup": "10 ps"})}})
         task = PointTask(sc, 16, temperature_K, point_seed(3, 16, temperature_K))
         rows[method] = compute_point(task)["row"]
     return rows["monte-carlo"], rows["llg"]

@@ -27,7 +27,7 @@ def _heating_scenario(sc):
                      "ramp": {"temperature": f"{temps[-1]} K"}},
         "record": {"every": "0.25 ps", "snapshots": "0.5 ps"},
     })
-    for k in ("sizes", "sweep"):
+    for k in ("sizes", "sweep", "instrument", "analysis", "movie"):
         raw.pop(k, None)
     return load_scenario(raw)
 

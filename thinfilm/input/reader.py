@@ -79,6 +79,12 @@ class Reader:
             raise self.error(f"must be at most {hi}, got {val!r}", name)
         return int(val) if integer else float(val)
 
+    def flag(self, name, *, default=False):
+        val = self.raw(name, default)
+        if not isinstance(val, bool):
+            raise self.error(f"must be true or false, got {val!r}", name)
+        return val
+
     def choice(self, name, allowed, *, default=None, required=False):
         val = self.raw(name, default, required)
         if val is not None and val not in allowed:

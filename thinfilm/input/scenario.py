@@ -13,6 +13,7 @@ import yaml
 
 from thinfilm.input.continuum import continuum_to_lattice
 from thinfilm.input.errors import ScenarioError
+from thinfilm.input.modes import check_keys_for_mode, scenario_mode
 from thinfilm.input.reader import Reader
 from thinfilm.input.spec import (
     SHAPES,
@@ -84,9 +85,7 @@ def _material(r, lat):
         ku = m.quantity("anisotropy_density", "energy_density", default="0 J/m^3")
         ms = m.quantity("magnetisation", "magnetisation", required=True, positive=True)
         t = m.quantity("thickness", "length", required=True, positive=True)
-        shape_aniso = m.raw("shape_anisotropy", False)
-        if not isinstance(shape_aniso, bool):
-            raise m.error(f"must be true or false, got {shape_aniso!r}", "shape_anisotropy")
+        shape_aniso = m.flag("shape_anisotropy", default=False)
         axis = m.vector("axis", default=[0, 0, 1], nonzero=True)
         mu, jj, kk = continuum_to_lattice(lat.shape, lat.spacing_nm * 1e-9, a, ku, ms, t,
                                           shape_anisotropy=shape_aniso, axis=axis)
@@ -274,6 +273,7 @@ def load_scenario(source):
     mat = _material(r, lat)
     field_T = r.vector("field", unit_kind="field", default={"value": [0, 0, 0], "unit": "T"})
     t0, temps, refine = _temperatures(r, path)
+    temps = temps if temps is not None else (t0,)
     sizes = r.raw("sizes")
     if sizes is not None:
         if (not isinstance(sizes, list) or not sizes
@@ -284,6 +284,8 @@ def load_scenario(source):
         sizes = tuple(sorted(set(sizes)))
     _check_memory(r, lat, sizes)
     dyn = _dynamics(r)
+    mode = scenario_mode(dyn.method, len(temps), sizes is not None)
+    check_keys_for_mode(data, mode, path, n_temperatures=len(temps))
     sw = r.sub("sweep")
     sw.check_keys({"order", "cluster", "snapshots"})
     order = sw.choice("order", ORDERS, default="independent")
@@ -291,9 +293,7 @@ def load_scenario(source):
     if cluster is not None and (not isinstance(cluster, str) or "://" not in cluster):
         raise sw.error(f"must be a scheduler address such as 'tcp://host:8786', got {cluster!r}", "cluster")
     n_snap = sw.number("snapshots", default=20, lo=1, integer=True)
-    sweep = None
-    if temps is not None and (len(temps) > 1 or sizes or refine):
-        sweep = SweepSpec(temps, sizes, refine, order, cluster, n_snap)
+    sweep = None if mode == "run" else SweepSpec(temps, sizes, refine, order, cluster, n_snap)
     rec = r.sub("record")
     rec.check_keys({"every", "snapshots"})
     every = rec.quantity("every", "time", positive=True)
@@ -308,7 +308,7 @@ def load_scenario(source):
         m.check_keys({"fps", "colour", "gif", "instrument"})
         movie = {"fps": m.number("fps", default=20, lo=1, hi=120, integer=True),
                  "colour": m.choice("colour", COLOURS, default="mz"),
-                 "gif": bool(m.raw("gif", False)), "instrument": bool(m.raw("instrument", False))}
+                 "gif": m.flag("gif", default=False), "instrument": m.flag("instrument", default=False)}
     an = r.sub("analysis")
     an.check_keys({"level", "smoothing"})
     analysis = {"level": an.number("level", default=0.0, lo=-1.0, hi=1.0)}
@@ -317,7 +317,7 @@ def load_scenario(source):
         analysis["smoothing_nm"] = sm * 1e9
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, _initial(r, path), every,
-                    snap_every, seed, sweep, _instrument(r), movie, analysis, data)
+                    snap_every, seed, sweep, _instrument(r), movie, analysis, data, mode)
 
 
 def thermal_energy_meV(temperature_K):

@@ -74,9 +74,11 @@ class Scenario:
     movie: dict | None = None
     analysis: dict = field(default_factory=dict)
     raw: dict = field(default_factory=dict, repr=False)
+    mode: str = "run"  # run | llg-set | mc-set (thinfilm.input.modes)
 
     @property
     def is_sweep(self):
+        """True for an equilibrium set (llg-set or mc-set): one row per size and temperature."""
         return self.sweep is not None
 
     def with_changes(self, **changes):
@@ -91,6 +93,7 @@ class Scenario:
         out = {
             "name": self.name,
             "source": self.source,
+            "mode": self.mode,
             "lattice": {"shape": lat.shape, "cells": [lat.nx, lat.ny], "spacing_nm": lat.spacing_nm,
                         "edges": "periodic" if lat.periodic else "open"},
             "material": {"moment_muB": m.moment_J_per_T / MU_B_J_PER_T,
@@ -121,4 +124,6 @@ class Scenario:
                             "snapshots": self.sweep.snapshots}
         if self.instrument:
             out["instrument"] = dict(self.instrument)
+        if self.analysis and self.sweep:
+            out["analysis"] = dict(self.analysis)
         return out

@@ -232,12 +232,14 @@ def _instrument_length(fields, lat, instrument, seed, ordered):
     return r["second_moment_nm"], r["second_moment_err_nm"]
 
 
-def _spatial(model, snaps, ordered, instrument=None, seed=0):
+def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None):
     """Correlation lengths, C(r) and domain statistics of the snapshots (field S.n).
 
     ``ordered`` selects the ordered-phase second-moment form (S(0) extrapolated from k1 and
     2 k1, since there S(0) holds the spontaneous moment); otherwise S(0)/S(k1) is used.
+    ``analysis`` holds the scenario's domain threshold ``level`` and ``smoothing_nm``.
     """
+    analysis = analysis or {}
     lat = model.lattice
     fields = [s @ model.axis for s in snaps]
     pos, box = lat.positions_nm, lat.box_nm
@@ -253,7 +255,9 @@ def _spatial(model, snaps, ordered, instrument=None, seed=0):
     dom_rows, means, weighted, counts, largest = [], [], [], [], []
     for k, f in enumerate(fields):
         st = domain_statistics(f, lat.site_area_nm2, neighbours=lat.neighbours,
-                               periodic=lat.periodic)
+                               periodic=lat.periodic, level=analysis.get("level", 0.0),
+                               smoothing_nm=analysis.get("smoothing_nm"), positions_nm=pos,
+                               box_nm=box if lat.periodic else None)
         a = st["area_by_label_nm2"]
         for lab in range(1, a.size):
             dom_rows.append((k, a[lab], 2.0 * math.sqrt(a[lab] / math.pi), int(st["signs"][lab])))
@@ -321,7 +325,8 @@ def _compute(task, sc, model, lat, method, t0):
         order = _order(model, mv)
         th = thermodynamics(series["energy_J"], order, mv, lat.n_sites, task.temperature_K)
         ordered = th["binder"] > ORDERED_BINDER
-        spatial, corr_rows, dom_rows = _spatial(model, snaps, ordered, sc.instrument, task.seed)
+        spatial, corr_rows, dom_rows = _spatial(model, snaps, ordered, sc.instrument, task.seed,
+                                                   sc.analysis)
     row = {"size": int(task.size), "temperature_K": float(task.temperature_K)}
     for name in ROW_COLUMNS[2:19]:
         row[name] = float(th[name]) if name != "n_samples" else int(th[name])
