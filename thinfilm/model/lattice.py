@@ -20,11 +20,12 @@ from functools import cached_property
 import numpy as np
 
 from thinfilm.input.spec import SHAPES
+from thinfilm.model.neighbours import COUNT, SHAPE_CODE
+from thinfilm.model.neighbours import neighbour_offsets as _offsets
 
 __all__ = ["Lattice", "SHAPES", "SHAPE_CODE", "COORDINATION"]
 
-SHAPE_CODE = {"square": 0, "triangular": 1, "honeycomb": 2}
-COORDINATION = {"square": 4, "triangular": 6, "honeycomb": 3}
+COORDINATION = {s: int(COUNT[c]) for s, c in SHAPE_CODE.items()}
 # Sites per rectangular Bravais cell along (rows, columns): the grid repeats exactly with it.
 PERIOD = {"square": (1, 1), "triangular": (2, 1), "honeycomb": (2, 2)}
 SQ3 = np.sqrt(3.0)
@@ -115,13 +116,11 @@ class Lattice:
         return pos
 
     def neighbour_offsets(self, i, j):
-        """List of (di, dj) index offsets of the neighbours of site (i, j), before wrapping."""
-        if self.shape == "square":
-            return [(0, 1), (0, -1), (1, 0), (-1, 0)]
-        if self.shape == "triangular":
-            s = -1 if i % 2 == 0 else 1
-            return [(0, 1), (0, -1), (1, 0), (-1, 0), (1, s), (-1, s)]
-        return [(0, 1), (0, -1), (1 if (i + j) % 2 == 0 else -1, 0)]
+        """List of (di, dj) index offsets of the neighbours of site (i, j), before wrapping.
+
+        From the one neighbour description, :mod:`thinfilm.model.neighbours`.
+        """
+        return _offsets(self.shape, i, j)
 
     @cached_property
     def neighbours(self):

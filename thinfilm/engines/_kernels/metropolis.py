@@ -53,6 +53,7 @@ from numba.core import cgutils
 from numba.extending import intrinsic
 
 from thinfilm.engines._kernels.field import neighbour_rows, row_pad
+from thinfilm.engines._kernels.neighbours import site_neighbour_sum
 from thinfilm.engines._kernels.rng import _bits_f64, fast_log, hash64, key, normals_row
 
 __all__ = [
@@ -112,62 +113,8 @@ def row_colouring(ny, periodic):
 
 @nb.njit(inline="always", cache=True)
 def neighbour_sum(s, i, j, dn, up, has_dn, has_up, code, periodic):
-    """Sum of the neighbour spins of site (i, j) (same neighbour rules as ``row_field``)."""
-    nx = s.shape[1]
-    hx = 0.0
-    hy = 0.0
-    hz = 0.0
-    jl = j - 1
-    jr = j + 1
-    if jl < 0:
-        jl = nx - 1 if periodic else -1
-    if jr >= nx:
-        jr = 0 if periodic else -1
-    if jl >= 0:
-        hx += s[i, jl, 0]
-        hy += s[i, jl, 1]
-        hz += s[i, jl, 2]
-    if jr >= 0:
-        hx += s[i, jr, 0]
-        hy += s[i, jr, 1]
-        hz += s[i, jr, 2]
-    if code == 2:
-        if (i + j) % 2 == 0:
-            if has_up:
-                hx += s[up, j, 0]
-                hy += s[up, j, 1]
-                hz += s[up, j, 2]
-        elif has_dn:
-            hx += s[dn, j, 0]
-            hy += s[dn, j, 1]
-            hz += s[dn, j, 2]
-    else:
-        if has_up:
-            hx += s[up, j, 0]
-            hy += s[up, j, 1]
-            hz += s[up, j, 2]
-        if has_dn:
-            hx += s[dn, j, 0]
-            hy += s[dn, j, 1]
-            hz += s[dn, j, 2]
-        if code == 1:
-            js = j + (-1 if i % 2 == 0 else 1)
-            ok = True
-            if js < 0 or js >= nx:
-                if periodic:
-                    js = js % nx
-                else:
-                    ok = False
-            if ok:
-                if has_up:
-                    hx += s[up, js, 0]
-                    hy += s[up, js, 1]
-                    hz += s[up, js, 2]
-                if has_dn:
-                    hx += s[dn, js, 0]
-                    hy += s[dn, js, 1]
-                    hz += s[dn, js, 2]
-    return hx, hy, hz
+    """Sum of the neighbour spins of site (i, j) (the neighbour table's order; dn, up unused)."""
+    return site_neighbour_sum(s, i, j, code, periodic)
 
 
 @nb.njit(cache=True)
