@@ -54,8 +54,9 @@ def _outside(box, fig):
 def text_problems(fig, dpi):
     """Texts that overlap another text (any pair, across panels) or leave the canvas."""
     items = drawn_texts(fig, dpi)
-    out = [f"{_describe(t)} leaves the {fig.bbox.width:.0f} x {fig.bbox.height:.0f} px canvas "
-           f"({b.x0:.0f}..{b.x1:.0f}, {b.y0:.0f}..{b.y1:.0f})" for t, b in items if _outside(b, fig)]
+    size = f"{fig.bbox.width:.0f} x {fig.bbox.height:.0f} px"
+    out = [f"{_describe(t)} leaves the {size} canvas (x {b.x0:.0f}..{b.x1:.0f}, "
+           f"y {b.y0:.0f}..{b.y1:.0f})" for t, b in items if _outside(b, fig)]
     for i, (ta, ba) in enumerate(items):
         for tb, bb in items[i + 1 :]:
             if _overlap(ba, bb):
