@@ -117,32 +117,40 @@ def _band(ax, plan):
     ax.plot([], [], "|", color="k", ms=8, label="schedule temperatures")  # legend of the ticks
 
 
+def _duration(seconds):
+    """'10 ms', '0.2 ps': a time (s) with the unit that keeps the number at or above 1."""
+    for unit, f in (("s", 1.0), ("ms", 1e-3), ("µs", 1e-6), ("ns", 1e-9), ("ps", 1e-12)):
+        if seconds >= f:
+            return f"{seconds / f:.3g} {unit}"
+    return f"{seconds / 1e-12:.3g} ps"
+
+
 def _captions(plan):
     """{PNG name: caption markdown} of the three plan figures."""
     from thinfilm.render.captions import definition_list
 
     ins = plan["instrument"]
     exp_ps = ins["exposure_s"] * 1e12
+    tc = _fmt(plan["tc_K"], plan["tc_err_K"]).replace("+-", "±")
     common = (f"Black ticks on the T axis: the {plan['n_points']} schedule temperatures. Grey line "
-              f"and band: Tc = {_fmt(plan['tc_K'], plan['tc_err_K'])} ({plan['tc_method']}) and "
+              f"and band: Tc = {tc} ({str(plan['tc_method']).replace('_', ' ')}) and "
               "its error; light orange: the break-up window of the domain pattern (plan.md).")
     t_item = ("T", "K", "temperature of the film")
+    curves = [
+        ("ξ (second moment)", "correlation length of the sweep; error bars: standard errors"),
+        ("mean domain d", "sqrt(4 A / π) of the mean domain area A (every island counts)"),
+        ("typical domain d", f"sqrt(4 A / π) of {plan['typical_domain_column']} (the domain a "
+         "random pixel lies in: what an image shows)"),
+        ("resolution", f"instrument resolution, {ins['resolution_nm']:g} nm"),
+        ("view limit", "the smaller of the field of view and the simulated film side, "
+         f"{plan['view_limit_nm']:.3g} nm")]
     return {
         "plan_xi.png": f"Lengths of the simulated film (scenario {plan['scenario']}, lattice size "
         f"L = {plan['size']}) against the temperature, with the instrument limits. {common}\n\n"
-        + definition_list([
-            t_item,
-            ("length: ξ", "nm", "correlation length (second moment) of the sweep, error bars: "
-             "standard errors"),
-            ("length: mean domain d", "nm", "sqrt(4 A / π) of the mean domain area A (every "
-             "island counts)"),
-            ("length: typical domain d", "nm", f"sqrt(4 A / π) of {plan['typical_domain_column']}"
-             " (the domain a random pixel lies in: what an image shows)"),
-            ("resolution", "nm", f"instrument resolution, {ins['resolution_nm']:g} nm"),
-            ("view limit", "nm", "the smaller of the field of view and the simulated film side, "
-             f"{plan['view_limit_nm']:.3g} nm")]),
+        + definition_list([t_item, ("length", "nm", "the curves of the legend:")]) + "\n"
+        + "\n".join(f"  - {name}: {text}" for name, text in curves),
         "plan_tau.png": "Fluctuation time of the order against the temperature, compared with "
-        f"the exposure ({ins['exposure_s']:g} s = {exp_ps:.3g} ps; dashed line when it lies "
+        f"the exposure ({_duration(ins['exposure_s'])} = {exp_ps:.3g} ps; dashed line when it lies "
         f"within a factor 100 of the plotted times). {common}\n\n"
         + definition_list([
             t_item,
@@ -196,7 +204,7 @@ def figures(plan, out):
     ax.set_yscale("log")
     exp_ps = ins["exposure_s"] * 1e12
     ax.set(xlabel="T (K)", ylabel=r"$\tau$ (ps)",
-           title=f"fluctuation time; exposure {ins['exposure_s']:g} s")
+           title=f"fluctuation time; exposure {_duration(ins['exposure_s'])}")
     lo, hi = ax.get_ylim()
     if lo <= exp_ps <= hi * 1e2:
         ax.axhline(exp_ps, color=VERMILION, ls="--", label="exposure")

@@ -98,23 +98,23 @@ def _tick_text(v):
 
 
 def tidy_log_ticks(ax):
-    """Log axes spanning fewer than two decades: labels at 1, 2, 5 x 10^n (or 1..9 x 10^n
-    when those are too few) and no minor labels, which otherwise run into each other."""
-    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+    """Log axes spanning fewer than two decades: labels at 1, 2, 5 x 10^n (or at evenly spaced
+    values in narrower ranges) and no minor labels, which otherwise run into each other."""
+    from matplotlib.ticker import FixedLocator, FuncFormatter, MaxNLocator, NullFormatter
 
     for axis, lim in ((ax.xaxis, ax.get_xlim()), (ax.yaxis, ax.get_ylim())):
         lo, hi = sorted(lim)
         if axis.get_scale() != "log" or lo <= 0 or hi / lo >= 100:
             continue
         e0, e1 = math.floor(math.log10(lo)), math.ceil(math.log10(hi))
-        for subs in ((1.0, 2.0, 5.0), tuple(range(1, 10))):
-            inside = [m * 10.0**e for e in range(e0, e1 + 1) for m in subs
-                      if lo <= m * 10.0**e <= hi]
-            if len(inside) >= 2:
-                axis.set_major_locator(LogLocator(subs=subs))
-                axis.set_major_formatter(FuncFormatter(lambda v, _pos: _tick_text(v)))
-                axis.set_minor_formatter(NullFormatter())
-                break
+        ticks = [m * 10.0**e for e in range(e0, e1 + 1) for m in (1, 2, 5)
+                 if lo <= m * 10.0**e <= hi]
+        if len(ticks) < 2:
+            ticks = [v for v in MaxNLocator(nbins=4).tick_values(lo, hi) if lo <= v <= hi]
+        if len(ticks) >= 2:
+            axis.set_major_locator(FixedLocator(ticks))
+            axis.set_major_formatter(FuncFormatter(lambda v, _pos: _tick_text(v)))
+            axis.set_minor_formatter(NullFormatter())
 
 
 def save_png(fig, path, dpi=110):

@@ -167,14 +167,14 @@ def _lengths(table, tc, units, resolution_nm, path):
         return None
     lines = [("ξ, second moment", xi_unit, xi_def or "second-moment correlation length")]
     if _has(table, "correlation_length_instrument_nm"):
-        for k, (size, sel) in enumerate(_by_size(table)):
+        for k, (_size, sel) in enumerate(_by_size(table)):
             t = table["temperature_K"][sel]
             o = np.argsort(t)
             axes[0].plot(t[o], table["correlation_length_instrument_nm"][sel][o], ls="--",
-                         color=OKABE_ITO[k % 8], lw=1.0,
-                         label=f"L = {size}, instrument view" if size is not None
-                         else "instrument view")
-        lines.append(("ξ, instrument view (dashed)", "nm",
+                         color=OKABE_ITO[k % 8], lw=1.0)
+        # one legend entry for the dashed curves of every size
+        axes[0].plot([], [], ls="--", color="0.4", lw=1.0, label="instrument view (dashed)")
+        lines.append(("ξ, instrument view (dashed, same colour per size)", "nm",
                       ins_def or "the same estimator on the instrument view of the film"))
     lines += [("ξ, fit of S(k)", sk_unit, sk_def or "Ornstein-Zernike fit of S(k)"),
               ("d", "nm", "equivalent diameter 2 sqrt(A/π) of the mean domain area A"
