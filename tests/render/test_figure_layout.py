@@ -8,6 +8,7 @@ draws the figure at the saved dpi and compares every drawn text box with every o
 
 import csv
 import json
+import re
 
 import imageio.v3 as iio3
 import numpy as np
@@ -116,6 +117,17 @@ def test_figure_text_does_not_overlap_or_leave_the_canvas(rendered, label):
     h, w = iio3.imread(path).shape[:2]
     assert (w, h) == (round(fig.bbox.width), round(fig.bbox.height))
     assert len(drawn_texts(fig, dpi)) >= 8  # tick labels, axis labels, legend: the check saw text
+
+
+@pytest.mark.parametrize("label", FIGURES)
+def test_every_axis_label_is_short_and_carries_a_unit(rendered, label):
+    fig = rendered[label][0]
+    names = [a.get_label_text() for ax in fig.axes for a in (ax.xaxis, ax.yaxis)
+             if a.label.get_visible() and a.get_label_text()]
+    assert names
+    for name in names:
+        assert re.fullmatch(r".+ \([^()]+\)", name), f"{label}: {name!r} has no (unit)"
+        assert len(name) <= 30, f"{label}: {name!r} is long; definitions go to captions.md"
 
 
 def _crowded():
