@@ -151,7 +151,7 @@ def _has(table, col):
 
 
 def _lengths(table, tc, units, resolution_nm, path):
-    fig, axes = new_figure(1, 3, 4.2, 3.6)
+    fig, axes = new_figure(1, 3, 4.2, 3.6, sharex=True)
     xi_unit, xi_def = split_unit(units.get("correlation_length_nm"), "nm")
     sk_unit, sk_def = split_unit(units.get("correlation_length_sk_nm"), "nm")
     ins_def = split_unit(units.get("correlation_length_instrument_nm"), "nm")[1]
