@@ -4,11 +4,12 @@ Every import is read from the source with ``ast``, including imports inside func
 lazy import cannot hide a circle. The stage order is the flow of data (common practice for a
 layered package):
 
-    leaves (_io, _version, config) -> input -> model -> engines -> analysis -> runs -> plan
-    -> render -> api -> demo_pipeline -> cli
+    leaves (_io, _version, config) -> input -> model -> engines -> analysis -> runs -> render
+    -> plan -> api -> demo_pipeline -> cli
 
 Analysis sits before runs because the analysers are functions of plain arrays that a sweep
-calls on each point; they never read a run folder.
+calls on each point; they never read a run folder. Render (figures and movies of run folders)
+sits before the plan, which draws its own figures with render's layout helpers.
 """
 
 import ast
@@ -17,7 +18,7 @@ from pathlib import Path
 import pytest
 
 PKG = Path(__file__).resolve().parents[1] / "thinfilm"
-ORDER = ["leaf", "input", "model", "engines", "analysis", "runs", "plan", "render", "api",
+ORDER = ["leaf", "input", "model", "engines", "analysis", "runs", "render", "plan", "api",
          "demo_pipeline", "cli", "top"]
 LEAVES = {"thinfilm._io", "thinfilm._version", "thinfilm.config"}
 MAX_LINES = 420

@@ -153,6 +153,25 @@ def test_plot_timeseries(tmp_path):
     assert_pngs(plot_timeseries(tmp_path), ["timeseries.png"])
 
 
+def test_captions_define_the_figures_of_a_folder(tmp_path, rng):
+    run = fake_sweep(tmp_path / "sweep", rng)
+    paths = plot_sweep(run)
+    text = (run / "plots" / "captions.md").read_text()
+    sections = text.split("\n## ")[1:]
+    assert [s.splitlines()[0] for s in sections] == [p.name for p in paths]
+    assert "**χ** (1/meV)" in text  # unit from columns.json
+    assert "Tc = 2.45 ± 0.05 K (binder crossing)" in text
+    # a second writer into the same folder keeps the sections of the first
+    t = np.linspace(0, 5, 10)
+    write_table(tmp_path / "run" / "timeseries.csv", ["time_ps", "mx", "my", "mz", "energy_meV"],
+                [[ti, 0.0, 0.0, 1.0, -1.0] for ti in t])
+    plot_timeseries(tmp_path / "run", run / "plots")
+    text = (run / "plots" / "captions.md").read_text()
+    assert text.count("\n## ") == len(paths) + 1 and "## timeseries.png" in text
+    assert "**E** (meV per spin)" in text
+    assert not list((run / "plots").glob("*.tmp"))
+
+
 def test_log_histogram_is_a_normalised_density(rng):
     a = rng.pareto(1.2, 500) + 1.0
     centres, dens, counts = log_histogram(a, 12)

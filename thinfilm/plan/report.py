@@ -107,76 +107,120 @@ def command(plan, out):
 def _band(ax, plan):
     tc, err = plan["tc_K"], plan["tc_err_K"] or 0.0
     ax.axvspan(tc - err, tc + err, color=GREY, alpha=0.25, lw=0)
-    ax.axvline(tc, color=GREY, lw=1, label=f"Tc = {_fmt(tc, plan['tc_err_K'])}")
+    tc_text = _fmt(tc, plan["tc_err_K"]).replace("+-", "±")
+    ax.axvline(tc, color=GREY, lw=1, label=f"$T_c$ = {tc_text}")
     lo, hi = plan["breakup_window_K"]
     if lo is not None and hi is not None:
         ax.axvspan(lo, hi, color=ORANGE, alpha=0.12, lw=0, label="break-up window")
     for s in plan["schedule_K"]:
         ax.axvline(s, ymin=0, ymax=0.04, color="k", lw=1)
+    ax.plot([], [], "|", color="k", ms=8, label="schedule temperatures")  # legend of the ticks
+
+
+def _duration(seconds):
+    """'10 ms', '0.2 ps': a time (s) with the unit that keeps the number at or above 1."""
+    for unit, f in (("s", 1.0), ("ms", 1e-3), ("µs", 1e-6), ("ns", 1e-9), ("ps", 1e-12)):
+        if seconds >= f:
+            return f"{seconds / f:.3g} {unit}"
+    return f"{seconds / 1e-12:.3g} ps"
+
+
+def _captions(plan):
+    """{PNG name: caption markdown} of the three plan figures."""
+    from thinfilm.render.captions import definition_list
+
+    ins = plan["instrument"]
+    exp_ps = ins["exposure_s"] * 1e12
+    tc = _fmt(plan["tc_K"], plan["tc_err_K"]).replace("+-", "±")
+    common = (f"Black ticks on the T axis: the {plan['n_points']} schedule temperatures. Grey line "
+              f"and band: Tc = {tc} ({str(plan['tc_method']).replace('_', ' ')}) and "
+              "its error; light orange: the break-up window of the domain pattern (plan.md).")
+    t_item = ("T", "K", "temperature of the film")
+    curves = [
+        ("ξ (second moment)", "correlation length of the sweep; error bars: standard errors"),
+        ("mean domain d", "sqrt(4 A / π) of the mean domain area A (every island counts)"),
+        ("typical domain d", f"sqrt(4 A / π) of {plan['typical_domain_column']} (the domain a "
+         "random pixel lies in: what an image shows)"),
+        ("resolution", f"instrument resolution, {ins['resolution_nm']:g} nm"),
+        ("view limit", "the smaller of the field of view and the simulated film side, "
+         f"{plan['view_limit_nm']:.3g} nm")]
+    return {
+        "plan_xi.png": f"Lengths of the simulated film (scenario {plan['scenario']}, lattice size "
+        f"L = {plan['size']}) against the temperature, with the instrument limits. {common}\n\n"
+        + definition_list([t_item, ("length", "nm", "the curves of the legend:")]) + "\n"
+        + "\n".join(f"  - {name}: {text}" for name, text in curves),
+        "plan_tau.png": "Fluctuation time of the order against the temperature, compared with "
+        f"the exposure ({_duration(ins['exposure_s'])} = {exp_ps:.3g} ps; dashed line when it lies "
+        f"within a factor 100 of the plotted times). {common}\n\n"
+        + definition_list([
+            t_item,
+            ("τ", "ps", "integrated autocorrelation time of m along the order axis in stochastic "
+             f"LLG runs on {plan['llg']['size']} x {plan['llg']['size']} sites (points with error "
+             "bars), interpolated in ln τ at the schedule temperatures (crosses)")]),
+        "plan_schedule.png": "Recommended heating schedule on the order-parameter curve of the "
+        f"sweep (lattice size L = {plan['size']}). {common}\n\n"
+        + definition_list([
+            t_item,
+            ("⟨|m|⟩", "per spin", "mean absolute magnetisation along the order axis; diamonds: "
+             "the schedule temperatures, ⟨|m|⟩ interpolated there")]),
+    }
 
 
 def figures(plan, out):
-    """Write plan_xi.png (lengths), plan_tau.png (times) and plan_schedule.png; return paths."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    """Write plan_xi.png (lengths), plan_tau.png (times), plan_schedule.png and their captions
+    (``captions.md``) into ``out``; return the PNG paths."""
+    from thinfilm.render.captions import write_captions
+    from thinfilm.render.layout import new_figure, save_png, shared_legend
 
     c = {k: np.array([np.nan if x is None else x for x in v], dtype=float)
          for k, v in plan["sweep_curves"].items()}
     t = c["temperature_K"]
     ins = plan["instrument"]
+    name = plan["scenario"] if len(plan["scenario"]) <= 40 else plan["scenario"][:39] + "…"
     paths = []
-    fig, ax = plt.subplots(figsize=(6.4, 4.2))
+    fig, (ax,) = new_figure(1, 1, 6.4, 4.8)
     ax.errorbar(t, c["correlation_length_nm"], yerr=c["correlation_length_err_nm"], fmt="o-",
-                color=BLUE, ms=4, label="correlation length xi")
-    ax.plot(t, c["mean_domain_diameter_nm"], "s--", color=GREEN, ms=4, label="mean domain diameter")
-    ax.plot(t, c["typical_domain_diameter_nm"], "^:", color=PURPLE, ms=4,
-            label="typical (area-weighted) diameter")
-    ax.axhline(ins["resolution_nm"], color=VERMILION, ls="--", label=f"resolution {ins['resolution_nm']:g} nm")
+                color=BLUE, ms=4, label=r"$\xi$ (second moment)")
+    ax.plot(t, c["mean_domain_diameter_nm"], "s--", color=GREEN, ms=4, label="mean domain d")
+    ax.plot(t, c["typical_domain_diameter_nm"], "^:", color=PURPLE, ms=4, label="typical domain d")
+    ax.axhline(ins["resolution_nm"], color=VERMILION, ls="--",
+               label=f"resolution {ins['resolution_nm']:g} nm")
     ax.axhline(plan["view_limit_nm"], color=SKY, ls="-.",
                label=f"view limit {plan['view_limit_nm']:.3g} nm")
     _band(ax, plan)
     ax.set_yscale("log")
-    ax.set(xlabel="temperature (K)", ylabel="length (nm)",
-           title=f"{plan['scenario']}: lengths (L = {plan['size']}); ticks: schedule")
-    ax.legend(fontsize=7)
-    fig.tight_layout()
-    paths.append(out / "plan_xi.png")
-    fig.savefig(paths[-1], dpi=120)
-    plt.close(fig)
+    ax.set(xlabel="T (K)", ylabel="length (nm)", title=f"{name}: lengths, L = {plan['size']}")
+    shared_legend(fig)
+    paths.append(save_png(fig, out / "plan_xi.png", dpi=120))
 
-    fig, ax = plt.subplots(figsize=(6.4, 4.2))
+    fig, (ax,) = new_figure(1, 1, 6.4, 4.6)
     runs = plan["llg"]["runs"]
     ax.errorbar([r["temperature_K"] for r in runs], [r["tau_ps"] for r in runs],
                 yerr=[r["tau_err_ps"] for r in runs], fmt="o-", color=BLUE, label="LLG runs")
     ax.plot([p["temperature_K"] for p in plan["points"]],
-            [p["fluctuation_time_ps"] for p in plan["points"]], "x", color=ORANGE, label="schedule (interpolated)")
+            [p["fluctuation_time_ps"] for p in plan["points"]], "x", color=ORANGE,
+            label="schedule (interpolated)")
     _band(ax, plan)
     ax.set_yscale("log")
     exp_ps = ins["exposure_s"] * 1e12
-    ax.set(xlabel="temperature (K)", ylabel="fluctuation time (ps)",
-           title=f"fluctuation time; exposure = {ins['exposure_s']:g} s = {exp_ps:.3g} ps")
+    ax.set(xlabel="T (K)", ylabel=r"$\tau$ (ps)",
+           title=f"fluctuation time; exposure {_duration(ins['exposure_s'])}")
     lo, hi = ax.get_ylim()
     if lo <= exp_ps <= hi * 1e2:
         ax.axhline(exp_ps, color=VERMILION, ls="--", label="exposure")
-    ax.legend(fontsize=7)
-    fig.tight_layout()
-    paths.append(out / "plan_tau.png")
-    fig.savefig(paths[-1], dpi=120)
-    plt.close(fig)
+    shared_legend(fig)
+    paths.append(save_png(fig, out / "plan_tau.png", dpi=120))
 
-    fig, ax = plt.subplots(figsize=(6.4, 4.2))
-    ax.plot(t, c["m_abs"], "o-", color=BLUE, ms=4, label="<|m|> (sweep)")
-    ax.plot(plan["schedule_K"], np.interp(plan["schedule_K"], t, c["m_abs"]), "D", color=VERMILION,
-            label="schedule points")
+    fig, (ax,) = new_figure(1, 1, 6.4, 4.6)
+    ax.plot(t, c["m_abs"], "o-", color=BLUE, ms=4, label=r"$\langle|m|\rangle$ (sweep)")
+    ax.plot(plan["schedule_K"], np.interp(plan["schedule_K"], t, c["m_abs"]), "D",
+            color=VERMILION, label="schedule points")
     _band(ax, plan)
-    ax.set(xlabel="temperature (K)", ylabel="<|m|> per spin", title="recommended heating schedule")
-    ax.legend(fontsize=7)
-    fig.tight_layout()
-    paths.append(out / "plan_schedule.png")
-    fig.savefig(paths[-1], dpi=120)
-    plt.close(fig)
+    ax.set(xlabel="T (K)", ylabel=r"$\langle|m|\rangle$ (per spin)",
+           title="recommended heating schedule")
+    shared_legend(fig)
+    paths.append(save_png(fig, out / "plan_schedule.png", dpi=120))
+    write_captions(out, _captions(plan))
     return paths
 
 

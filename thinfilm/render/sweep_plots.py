@@ -1,0 +1,338 @@
+"""PNG figures of a temperature sweep (observables, lengths, domain sizes, snapshots) with
+their captions in ``captions.md``."""
+
+from pathlib import Path
+
+import numpy as np
+
+from thinfilm.input.errors import InputError
+
+from .captions import definition_list, write_captions
+from .frames import DIVERGING_CMAP, colour_frame
+from .layout import MARKERS, OKABE_ITO, new_figure, note, save_png, shared_legend, split_unit
+from .rundir import load_snapshot, read_json, read_table, sweep_points
+
+__all__ = ["plot_sweep", "log_histogram"]
+
+#: (column, panel title, axis symbol, caption symbol, default unit, default definition)
+THERMO = (
+    ("m_abs", "order parameter", r"$\langle|m|\rangle$", "⟨|m|⟩", "per spin",
+     "mean absolute magnetisation along the order axis"),
+    ("susceptibility", "susceptibility", r"$\chi$", "χ", "1/meV per spin",
+     "N(<m^2>-<|m|>^2)/(kB T)"),
+    ("specific_heat", "specific heat", "$C$", "C", "kB per spin", "N(<e^2>-<e>^2)/(kB T)^2"),
+    ("binder", "Binder cumulant", "$U_4$", "U₄", "dimensionless", "1 - <m^4>/(3<m^2>^2)"),
+)
+T_LABEL = "T (K)"
+SIZES = "one curve per lattice size L (a film of L x L cells); error bars: standard errors"
+
+
+def _tc_text(tc, tex=True):
+    """'Tc = 2.45 ± 0.05 K (binder crossing)', or None without a finite Tc."""
+    if not tc or tc.get("tc_K") is None or not np.isfinite(float(tc["tc_K"])):
+        return None
+    t, e = float(tc["tc_K"]), float(tc.get("tc_err_K") or 0.0)
+    s = ("$T_c$" if tex else "Tc") + f" = {t:.4g}" + (f" ± {e:.2g}" if e > 0 else "") + " K"
+    return s + (f" ({str(tc['method']).replace('_', ' ')})" if tc.get("method") else "")
+
+
+def _tc_caption(tc):
+    text = _tc_text(tc, tex=False)
+    return f" Dashed vertical line: {text}; grey band: its error." if text else ""
+
+
+def _mark_tc(ax, tc):
+    lab = _tc_text(tc)
+    if lab is None:
+        return
+    t, e = float(tc["tc_K"]), float(tc.get("tc_err_K") or 0.0)
+    if e > 0:
+        ax.axvspan(t - e, t + e, color="0.6", alpha=0.3, lw=0)
+    ax.axvline(t, color="0.3", ls="--", lw=1, label=lab)
+
+
+def _by_size(table):
+    sizes = table.get("size")
+    if sizes is None:
+        return [(None, np.ones(len(table["temperature_K"]), bool))]
+    return [(int(s), sizes == s) for s in np.unique(sizes[np.isfinite(sizes)])]
+
+
+def _curves(ax, table, col, tc, ylabel, transform=None):
+    """Error-bar curves of ``col`` vs T, one per size; returns False (with a note) if missing."""
+    ax.set_xlabel(T_LABEL)
+    if col not in table or not np.isfinite(table[col]).any():
+        note(ax, f"no '{col}' data in observables.csv")
+        return False
+    for k, (size, sel) in enumerate(_by_size(table)):
+        t, y = table["temperature_K"][sel], table[col][sel]
+        err = table.get(col + "_err")
+        err = err[sel] if err is not None else None
+        if transform is not None:
+            y, err = transform(y, err)
+        o = np.argsort(t)
+        ax.errorbar(t[o], y[o], yerr=None if err is None else err[o], color=OKABE_ITO[k % 8],
+                    marker=MARKERS[k % 8], ms=4, lw=1.2, capsize=2,
+                    label=f"L = {size}" if size is not None else None)
+    ax.set_ylabel(ylabel)
+    return True
+
+
+def _equivalent_diameter(area, err):
+    # d = 2 sqrt(A / pi); first-order error propagation, sigma_d = d sigma_A / (2 A)
+    # (J. R. Taylor, An Introduction to Error Analysis, 2nd ed., Sec. 3.8)
+    area = np.where(area > 0, area, np.nan)
+    d = 2.0 * np.sqrt(area / np.pi)
+    return d, (None if err is None else d * err / (2.0 * area))
+
+
+def log_histogram(areas, n_bins=None):
+    """Probability density of positive sizes on logarithmic bins.
+
+    Parameters
+    ----------
+    areas : array_like
+        Positive domain areas (nm^2); non-finite and non-positive values are dropped.
+    n_bins : int, optional
+        Number of bins (default sqrt(N) + 1, between 2 and 19).
+
+    Returns
+    -------
+    centres, density, counts : ndarray
+        Geometric bin centres (nm^2), density P(A) (1/nm^2, integrates to 1 over the bins)
+        and counts per bin.
+    """
+    a = np.asarray(areas, dtype=np.float64)
+    a = a[np.isfinite(a) & (a > 0)]
+    if a.size == 0:
+        raise InputError("log_histogram needs at least one positive, finite area.")
+    lo, hi = a.min(), a.max()
+    if hi <= lo:
+        lo, hi = lo / 1.5, hi * 1.5
+    n = n_bins if n_bins else max(2, min(19, int(np.sqrt(a.size)) + 1))
+    edges = np.logspace(np.log10(lo), np.log10(hi), n + 1)
+    edges[0], edges[-1] = lo, hi  # exact ends, so the extreme values fall inside
+    counts, _ = np.histogram(a, bins=edges)
+    dens = counts / (a.size * np.diff(edges))
+    return np.sqrt(edges[:-1] * edges[1:]), dens, counts
+
+
+def _pick(items, temperatures, n):
+    """Items (T, path) nearest to the requested temperatures, or n spread over the range."""
+    if temperatures is None:
+        idx = np.unique(np.rint(np.linspace(0, len(items) - 1, min(n, len(items)))).astype(int))
+        return [items[i] for i in idx]
+    ts = np.array([t for t, _ in items])
+    return [items[int(np.argmin(np.abs(ts - float(t))))] for t in temperatures]
+
+
+def _thermodynamics(table, tc, units, path):
+    fig, axes = new_figure(2, 2, 4.2, 3.3, sharex=True)
+    items, drawn = [], []
+    for ax, (col, title, sym, word, unit, text) in zip(axes, THERMO, strict=True):
+        unit, definition = split_unit(units.get(col), unit)
+        drawn.append(_curves(ax, table, col, tc, f"{sym} ({unit})"))
+        ax.set_title(title, fontsize=10)
+        items.append((word, unit, f"{title}, {definition or text}"))
+    if not any(drawn):
+        return None
+    for ax, ok in zip(axes, drawn, strict=True):
+        if ok:
+            _mark_tc(ax, tc)
+        if not ax.get_subplotspec().is_last_row():
+            ax.set_xlabel("")  # shared T axis: labelled on the bottom row
+    shared_legend(fig)
+    caption = (f"Thermodynamic observables against the temperature T (K), {SIZES}."
+               f"{_tc_caption(tc)}\n\n" + definition_list(items))
+    return save_png(fig, path), caption
+
+
+def _has(table, col):
+    return col in table and np.isfinite(table[col]).any()
+
+
+def _lengths(table, tc, units, resolution_nm, path):
+    fig, axes = new_figure(1, 3, 4.2, 3.6, sharex=True)
+    xi_unit, xi_def = split_unit(units.get("correlation_length_nm"), "nm")
+    sk_unit, sk_def = split_unit(units.get("correlation_length_sk_nm"), "nm")
+    ins_def = split_unit(units.get("correlation_length_instrument_nm"), "nm")[1]
+    a_def = split_unit(units.get("mean_domain_area_nm2"), "nm^2")[1]
+    ok = _curves(axes[0], table, "correlation_length_nm", tc, rf"$\xi$ ({xi_unit})")
+    ok += _curves(axes[1], table, "correlation_length_sk_nm", tc, rf"$\xi$ ({sk_unit})")
+    ok += _curves(axes[2], table, "mean_domain_area_nm2", tc, "d (nm)",
+                  transform=_equivalent_diameter)
+    for ax, title in zip(axes, ("ξ, second moment", "ξ, fit of S(k)", "domain diameter"),
+                         strict=True):
+        ax.set_title(title, fontsize=10)
+    if not ok:
+        return None
+    lines = [("ξ, second moment", xi_unit, xi_def or "second-moment correlation length")]
+    if _has(table, "correlation_length_instrument_nm"):
+        for k, (_size, sel) in enumerate(_by_size(table)):
+            t = table["temperature_K"][sel]
+            o = np.argsort(t)
+            axes[0].plot(t[o], table["correlation_length_instrument_nm"][sel][o], ls="--",
+                         color=OKABE_ITO[k % 8], lw=1.0)
+        # one legend entry for the dashed curves of every size
+        axes[0].plot([], [], ls="--", color="0.4", lw=1.0, label="instrument view (dashed)")
+        lines.append(("ξ, instrument view (dashed, same colour per size)", "nm",
+                      ins_def or "the same estimator on the instrument view of the film"))
+    lines += [("ξ, fit of S(k)", sk_unit, sk_def or "Ornstein-Zernike fit of S(k)"),
+              ("d", "nm", "equivalent diameter 2 sqrt(A/π) of the mean domain area A"
+               + (f" ({a_def})" if a_def else "") + "; error propagated from that of A")]
+    res = ""
+    if resolution_nm is not None:
+        for ax in axes:
+            if ax.lines or ax.collections:
+                ax.axhline(float(resolution_nm), color="#000000", ls=":", lw=1.5,
+                           label=f"resolution {float(resolution_nm):g} nm")
+        res = f" Dotted horizontal line: the instrument resolution ({float(resolution_nm):g} nm)."
+    for ax in axes:
+        if ax.lines or ax.collections:
+            _mark_tc(ax, tc)
+    shared_legend(fig)
+    caption = (f"Lengths against the temperature T (K), {SIZES}.{res}{_tc_caption(tc)}\n\n"
+               + definition_list(lines))
+    return save_png(fig, path), caption
+
+
+def _distributions(run_dir, size, temperatures, path):
+    pts = sweep_points(run_dir, "domain_sizes.csv")
+    if not pts:
+        return None
+    size = max(pts) if size is None or size not in pts else size
+    fig, (ax,) = new_figure(1, 1, 5.0, 4.0)
+    drawn = 0
+    for k, (t, p) in enumerate(_pick(pts[size], temperatures, 4)):
+        tab = read_table(p)
+        if "area_nm2" not in tab:
+            raise InputError(
+                f"Domain-size table {p} has no 'area_nm2' column; it needs one row per domain "
+                "with the domain area in nm^2."
+            )
+        a = tab["area_nm2"][np.isfinite(tab["area_nm2"]) & (tab["area_nm2"] > 0)]
+        if a.size == 0:
+            continue
+        mid, dens, counts = log_histogram(a)
+        keep = counts > 0
+        ax.loglog(mid[keep], dens[keep], marker=MARKERS[k % 8], color=OKABE_ITO[k % 8], lw=1,
+                  ms=4, label=f"T = {t:.4g} K ({a.size} domains)")
+        drawn += 1
+    if not drawn:
+        return None
+    ax.set_xlabel(r"A (nm$^2$)")
+    ax.set_ylabel(r"P(A) (1/nm$^2$)")
+    ax.set_title(f"domain sizes, L = {size}", fontsize=10)
+    shared_legend(fig)
+    caption = (f"Domain-size distributions of the lattice size L = {size} at a few "
+               "temperatures; the legend gives each temperature and its number of domains.\n\n"
+               + definition_list([
+                   ("A", "nm²", "area of one up or down domain, from domain_sizes.csv"),
+                   ("P(A)", "1/nm²", "probability density of A on logarithmic bins (it "
+                    "integrates to 1), drawn at the geometric bin centres")]))
+    return save_png(fig, path), caption
+
+
+def _snapshots(run_dir, size, temperatures, n_max, path):
+    pts = sweep_points(run_dir, "final.npz")
+    if not pts:
+        return None
+    size = max(pts) if size is None or size not in pts else size
+    chosen = _pick(pts[size], temperatures, n_max)
+    ncols = min(3, len(chosen))
+    nrows = -(-len(chosen) // ncols)
+    fig, axes = new_figure(nrows, ncols, 3.2, 3.0)
+    for ax, (t, p) in zip(axes, chosen, strict=False):
+        snap = load_snapshot(p)
+        box = snap.get("box_nm")
+        if box is None:
+            box = np.array(snap["spins"].shape[1::-1], float) * snap.get("spacing_nm", 1.0)
+        nx = snap["spins"].shape[1]
+        pix = None if snap["shape"] == "square" else float(box[0]) / min(1024, max(240, 8 * nx))
+        img = colour_frame(snap["spins"], colour="mz", shape=snap["shape"], pixel_nm=pix,
+                           positions_nm=snap.get("positions_nm"), box_nm=box,
+                           periodic=snap["periodic"])
+        ax.imshow(img, extent=(0, box[0], 0, box[1]), interpolation="nearest")
+        ax.set_title(f"T = {t:.4g} K", fontsize=9)
+        ax.set_xlabel("x (nm)")
+        ax.set_ylabel("y (nm)")
+    for ax in axes[len(chosen) :]:
+        ax.set_axis_off()
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.colors import Normalize
+
+    sm = ScalarMappable(norm=Normalize(-1, 1), cmap=DIVERGING_CMAP)
+    fig.colorbar(sm, ax=list(axes[: len(chosen)]), label=r"$m_z$ (per spin)", shrink=0.8)
+    caption = (f"Final spin states of the lattice size L = {size} at a few temperatures (panel "
+               "titles).\n\n" + definition_list([
+                   ("x, y", "nm", "position in the film"),
+                   ("m_z", "per spin", "colour scale, the spin component along the order axis from "
+                    "-1 (down) to +1 (up)")]))
+    return save_png(fig, path), caption
+
+
+def plot_sweep(run_dir, out_dir=None, *, resolution_nm=None, temperatures=None,
+               lattice_size=None, max_snapshots=6):
+    """Plot a temperature sweep folder into PNG files and their ``captions.md``.
+
+    Parameters
+    ----------
+    run_dir : path
+        Sweep folder with ``observables.csv`` and optionally ``tc.json``, ``columns.json``
+        ({column: "unit, definition"}), ``manifest.json`` and ``points/L{size}_T{T:.3f}K/``.
+    out_dir : path, optional
+        Where to write the PNGs (default ``run_dir/plots``).
+    resolution_nm : float, optional
+        Instrument resolution drawn as a horizontal line on the length plots (default
+        ``manifest["instrument"]["resolution_nm"]`` when present).
+    temperatures : sequence of float, optional
+        Temperatures (K) for the domain-size distributions and snapshot panel (nearest
+        available point); default: spread over the sweep.
+    lattice_size : int, optional
+        Size L for the distributions and snapshots (default: the largest).
+    max_snapshots : int
+        Largest number of snapshot maps in the panel.
+
+    Returns
+    -------
+    list of Path
+        ``sweep_thermodynamics.png`` (|m|, chi, C, U4 vs T per size, Tc band), ``sweep_lengths.png``
+        (correlation length and equivalent domain diameter in nm), ``sweep_domain_sizes.png``
+        and ``sweep_snapshots.png``; figures without any data are left out, panels whose
+        column is missing carry a note instead of curves. ``captions.md`` in the same folder
+        defines the quantity on each axis.
+    """
+    run_dir = Path(run_dir)
+    if not run_dir.is_dir():
+        raise InputError(
+            f"Sweep folder {run_dir} does not exist or is not a folder; give the folder a "
+            "temperature sweep wrote (with observables.csv)."
+        )
+    if not (run_dir / "observables.csv").is_file():
+        raise InputError(
+            f"Sweep folder {run_dir} has no observables.csv; plot_sweep needs that table "
+            "(columns size, temperature_K, m_abs, ...), written at the end of a sweep."
+        )
+    table = read_table(run_dir / "observables.csv")
+    if "temperature_K" not in table or not len(table["temperature_K"]):
+        raise InputError(
+            f"{run_dir / 'observables.csv'} has no 'temperature_K' column or no rows; "
+            "a sweep table needs one row per (size, temperature)."
+        )
+    tc = read_json(run_dir / "tc.json")
+    manifest = read_json(run_dir / "manifest.json") or {}
+    units = read_json(run_dir / "columns.json") or manifest.get("columns") or {}
+    if resolution_nm is None:
+        resolution_nm = (manifest.get("instrument") or {}).get("resolution_nm")
+    out_dir = Path(out_dir) if out_dir is not None else run_dir / "plots"
+    written = [
+        _thermodynamics(table, tc, units, out_dir / "sweep_thermodynamics.png"),
+        _lengths(table, tc, units, resolution_nm, out_dir / "sweep_lengths.png"),
+        _distributions(run_dir, lattice_size, temperatures, out_dir / "sweep_domain_sizes.png"),
+        _snapshots(run_dir, lattice_size, temperatures, max_snapshots,
+                   out_dir / "sweep_snapshots.png"),
+    ]
+    written = [w for w in written if w is not None]
+    if written:
+        write_captions(out_dir, {p.name: caption for p, caption in written})
+    return [p for p, _ in written]
