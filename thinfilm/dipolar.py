@@ -126,7 +126,7 @@ class DipolarField:
             x = sfft.fft(x, n=g.fy, axis=2, workers=w, overwrite_x=True)
         apply_tensor(x, self.tensor, self.pair_index, self.pair_conj)
         if g.periodic:
-            return sfft.irfftn(x, s=(g.my, g.mx), axes=(2, 3), workers=w, overwrite_x=True)
+            return sfft.irfftn(x, s=(g.my, g.mx), axes=(2, 3), workers=w)
         x = sfft.ifft(x, axis=2, workers=w, overwrite_x=True)[:, :, : g.my]
         return sfft.irfft(x, n=g.fx, axis=3, workers=w)
 

@@ -162,17 +162,20 @@ def _ewald_pair(grid, d, eta):
     return spec
 
 
-def tensor_spectrum(lattice, *, zz=False):
+def tensor_spectrum(lattice, *, zz=False, eta=None):
     """Transformed tensor of every stored pair (nm^-3), complex128 (n_pairs, 3 or 4, fy, fx//2+1).
 
     Components (xx, yy, xy), plus zz when ``zz`` is set (H_zz = -(H_xx + H_yy) otherwise).
     A convolution of the sublattice planes with it gives sum_j H(r_i - r_j) S_j.
+    ``eta`` (1/nm) overrides the Ewald splitting parameter (periodic; the result must not
+    depend on it).
     """
     grid = SublatticeGrid(lattice)
     ncomp = 4 if zz else 3
     out = np.empty((len(grid.pairs), ncomp, grid.fy, grid.fx // 2 + 1), dtype=np.complex128)
     # Ewald splitting parameter: reciprocal sums need only |g| <= one cell around the zone
-    eta = math.pi / (2 * EWALD_X * max(grid.cell))
+    if eta is None:
+        eta = math.pi / (2 * EWALD_X * max(grid.cell))
     for k, (s, t) in enumerate(grid.pairs):
         d = grid.offsets[s] - grid.offsets[t]
         if grid.periodic:

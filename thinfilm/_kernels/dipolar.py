@@ -50,12 +50,15 @@ def scatter_planes(y, p, q, scale, out):
     ny, nx = out.shape[0], out.shape[1]
     for i in nb.prange(ny):
         big, r = i // p, i % p
-        for j in range(nx):
-            sub = r * q + j % q
-            jj = j // q
-            out[i, j, 0] = scale * y[0, sub, big, jj]
-            out[i, j, 1] = scale * y[1, sub, big, jj]
-            out[i, j, 2] = scale * y[2, sub, big, jj]
+        for b in range(q):
+            y0 = y[0, r * q + b, big]
+            y1 = y[1, r * q + b, big]
+            y2 = y[2, r * q + b, big]
+            for jj in range((nx - b + q - 1) // q):
+                j = jj * q + b
+                out[i, j, 0] = scale * y0[jj]
+                out[i, j, 1] = scale * y1[jj]
+                out[i, j, 2] = scale * y2[jj]
 
 
 @nb.njit(parallel=True, **_OPT)
@@ -66,11 +69,13 @@ def dot_planes(s, y, p, q):
     for i in nb.prange(ny):
         big, r = i // p, i % p
         acc = 0.0
-        for j in range(nx):
-            sub = r * q + j % q
-            jj = j // q
-            acc += (s[i, j, 0] * y[0, sub, big, jj] + s[i, j, 1] * y[1, sub, big, jj]
-                    + s[i, j, 2] * y[2, sub, big, jj])
+        for b in range(q):
+            y0 = y[0, r * q + b, big]
+            y1 = y[1, r * q + b, big]
+            y2 = y[2, r * q + b, big]
+            for jj in range((nx - b + q - 1) // q):
+                j = jj * q + b
+                acc += s[i, j, 0] * y0[jj] + s[i, j, 1] * y1[jj] + s[i, j, 2] * y2[jj]
         total += acc
     return total
 

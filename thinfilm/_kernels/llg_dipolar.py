@@ -29,8 +29,12 @@ def _with_added(nzi, hd, i, p, q, nx, tot):
     big = i // p
     base = (i % p) * q
     for c in range(3):
-        for j in range(nx):
-            tot[c * nx + j] = nzi[c * nx + j] + hd[c, base + j % q, big, j // q]
+        o = c * nx
+        for b in range(q):
+            src = hd[c, base + b, big]
+            for jj in range((nx - b + q - 1) // q):
+                j = o + jj * q + b
+                tot[j] = nzi[j] + src[jj]
 
 
 @nb.njit(parallel=True, **_OPT)
