@@ -1,4 +1,4 @@
-"""Dipolar field and energy: direct sums, Ewald lattice sums, lattice-sum tables, continuum limit."""
+"""Dipolar field and energy: direct and image sums, Ewald split, lattice sums, continuum limit."""
 
 import math
 
