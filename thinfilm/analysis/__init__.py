@@ -9,6 +9,7 @@ from .correlation import (
 )
 from .critical import estimate_tc, tc_from_binder_crossing, tc_from_peaks
 from .domains import domain_statistics, label_domains
+from .patterns import bubble_statistics, stripe_orientation, stripe_period
 from .thermo import blocking_error, integrated_autocorrelation_time, thermodynamics
 
 __all__ = [
@@ -22,6 +23,9 @@ __all__ = [
     "tc_from_peaks",
     "domain_statistics",
     "label_domains",
+    "bubble_statistics",
+    "stripe_orientation",
+    "stripe_period",
     "blocking_error",
     "integrated_autocorrelation_time",
     "thermodynamics",
