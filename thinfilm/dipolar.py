@@ -14,9 +14,10 @@ transformed tensor is built once per (lattice, mu_s, precision) and cached (``ca
 
 Cost per field evaluation: 3 real forward and 3 inverse 2D FFTs (``scipy.fft``, ``workers``
 threads) of the sublattice grids, i.e. of about N points (periodic) or 4 N points (open), plus
-one pass over the tensor. Tensor memory: 12 n_pairs / n_sub bytes per transform point in double
-precision (half in single), n_pairs = n_sub (n_sub + 1)/2: about 24, 48, 80 bytes per site
-(square, triangular, honeycomb) periodic and 4 times that open; ``DipolarField.nbytes``.
+one pass over the tensor. Tensor memory, double precision: 24 n_pairs / n_sub bytes per site
+periodic (n_pairs = n_sub (n_sub + 1) / 2 stored pairs): 24, 36, 60 bytes per site for the
+square, triangular, honeycomb lattice; about 4 times that with open edges (96, 144, 240);
+half in single precision. ``DipolarField.bytes_per_site`` gives the exact figure.
 """
 
 from collections import OrderedDict
