@@ -120,15 +120,14 @@ class DipolarField:
             raise ValueError(f"spins must have shape {(self.lattice.ny, self.lattice.nx, 3)}, "
                              f"got {spins.shape}")
         gather_planes(spins, g.p, g.q, self._planes)
-        if g.periodic:
-            x = sfft.rfftn(self._planes, axes=(2, 3), workers=w)
-        else:
-            x = sfft.rfft(self._planes, n=g.fx, axis=3, workers=w)
-            x = sfft.fft(x, n=g.fy, axis=2, workers=w, overwrite_x=True)
+        # 1D passes: the column transforms run in place (overwrite_x), which saves two fresh
+        # array allocations per call (page faults: ~30 % of the time at 1024^2)
+        x = sfft.rfft(self._planes, n=g.fx, axis=3, workers=w)
+        x = sfft.fft(x, n=g.fy, axis=2, workers=w, overwrite_x=True)
         apply_tensor(x, self.tensor, self.pair_index, self.pair_conj)
-        if g.periodic:
-            return sfft.irfftn(x, s=(g.my, g.mx), axes=(2, 3), workers=w)
-        x = sfft.ifft(x, axis=2, workers=w, overwrite_x=True)[:, :, : g.my]
+        x = sfft.ifft(x, axis=2, workers=w, overwrite_x=True)
+        if not g.periodic:
+            x = x[:, :, : g.my]
         return sfft.irfft(x, n=g.fx, axis=3, workers=w)
 
     def field(self, spins, out=None):
