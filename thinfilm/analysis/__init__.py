@@ -9,6 +9,7 @@ from thinfilm.analysis.correlation import (
 )
 from thinfilm.analysis.critical import estimate_tc, tc_from_binder_crossing, tc_from_peaks
 from thinfilm.analysis.domains import domain_statistics, label_domains
+from thinfilm.analysis.patterns import bubble_statistics, stripe_orientation, stripe_period
 from thinfilm.analysis.thermo import blocking_error, integrated_autocorrelation_time, thermodynamics
 
 __all__ = [
@@ -22,6 +23,9 @@ __all__ = [
     "tc_from_peaks",
     "domain_statistics",
     "label_domains",
+    "bubble_statistics",
+    "stripe_orientation",
+    "stripe_period",
     "blocking_error",
     "integrated_autocorrelation_time",
     "thermodynamics",

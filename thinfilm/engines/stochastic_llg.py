@@ -7,6 +7,7 @@ import numpy as np
 from thinfilm.config import threads
 from thinfilm.engines._kernels.field import observables
 from thinfilm.engines._kernels.llg import heun_run, heun_run_twopass, heun_work, twopass_work
+from thinfilm.engines._kernels.llg_dipolar import heun_run_added
 from thinfilm.input.errors import StabilityError
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
 from thinfilm.model.parameters import Model
@@ -87,10 +88,15 @@ class LLGSimulation:
         Initial state (copied); default all along the anisotropy axis.
     gamma : float
         Gyromagnetic ratio (rad s^-1 T^-1), default the free-electron value (CODATA 2018).
+    dipolar : bool or DipolarField, optional
+        Add the dipole-dipole field (:mod:`thinfilm.engines.dipolar`) to the effective field of both
+        Heun stages. True builds ``DipolarField(model.lattice, model.moment_J_per_T)``; pass
+        an instance for other options (e.g. ``precision="single"``). Off by default: the
+        local-field kernels run unchanged. ``measure`` then includes the dipolar energy.
     """
 
     def __init__(self, model, *, temperature_K, damping, time_step_s, seed=1, spins=None,
-                 gamma=GAMMA_E_RAD_PER_S_T, step=0):
+                 gamma=GAMMA_E_RAD_PER_S_T, step=0, dipolar=None):
         if not isinstance(model, Model):
             raise TypeError("LLGSimulation needs a Model: call build_model(scenario) first")
         self.model = model
@@ -106,10 +112,16 @@ class LLGSimulation:
         self.spins = np.ascontiguousarray(np.array(spins, dtype=np.float64))
         if self.spins.shape != (lat.ny, lat.nx, 3):
             raise ValueError(f"spins must have shape {(lat.ny, lat.nx, 3)}, got {self.spins.shape}")
+        self.dipolar = _dipolar_field(model, dipolar)
         self._alloc()
 
     def _alloc(self):
         ny, nx = self.spins.shape[:2]
+        self._meas = np.empty_like(self.spins)
+        if self.dipolar is not None:
+            self._fused = False
+            self._work = twopass_work(ny, nx)[:3]
+            return
         nbands = min(max(1, threads()), ny // 2)
         self._fused = nbands >= 1
         if self._fused:
@@ -117,7 +129,6 @@ class LLGSimulation:
             self._work = heun_work(ny, nx, nbands)
         else:
             self._work = twopass_work(ny, nx)
-        self._meas = np.empty_like(self.spins)
 
     @property
     def time_s(self):
@@ -141,7 +152,9 @@ class LLGSimulation:
         gdt = self.gamma * self.time_step_s / (1 + self.damping**2)
         args = (self.spins, int(n_steps), self.step, self.seed, code, periodic, jt, kt, axis, b0, db,
                 t0, float(temperature_rate_K_per_step), self.noise_sigma_coef(), gdt, self.damping)
-        if self._fused:
+        if self.dipolar is not None:
+            heun_run_added(*args, self.dipolar.planes, *self.dipolar.lattice.period, *self._work)
+        elif self._fused:
             heun_run(*args, self._nbands, *self._work)
         else:
             heun_run_twopass(*args, *self._work)
@@ -154,5 +167,23 @@ class LLGSimulation:
                 suggested_time_step_fs=dt_ok * 1e15)
 
     def measure(self, field_T=None):
-        """(m vector per spin, energy per spin in meV) at the current state."""
-        return measure(self.model, self.spins, self._meas, field_T)
+        """(m vector per spin, energy per spin in meV) at the current state (with dipolar)."""
+        m, e = measure(self.model, self.spins, self._meas, field_T)
+        if self.dipolar is not None:
+            e += self.dipolar.energy(self.spins) / self.model.lattice.n_sites / MEV_J
+        return m, e
+
+
+def _dipolar_field(model, dipolar):
+    """None, or the DipolarField of the model (``dipolar`` True or a DipolarField of it)."""
+    if dipolar is None or dipolar is False:
+        return None
+    from thinfilm.engines.dipolar import DipolarField
+
+    if dipolar is True:
+        return DipolarField(model.lattice, model.moment_J_per_T)
+    if not isinstance(dipolar, DipolarField):
+        raise TypeError("dipolar must be True, False/None or a DipolarField")
+    if dipolar.lattice != model.lattice or dipolar.moment_J_per_T != model.moment_J_per_T:
+        raise ValueError("the DipolarField was built for another lattice or moment than the model")
+    return dipolar

@@ -1,0 +1,117 @@
+"""LLG with the dipolar field: both Heun stages, the unchanged local path, relaxation at T = 0."""
+
+import math
+
+import numpy as np
+import pytest
+import reference
+
+from thinfilm.engines._kernels.llg import heun_run_twopass, noise_field, twopass_work
+from thinfilm.engines._kernels.llg_dipolar import heun_run_added
+from thinfilm.engines.dipolar import DipolarField
+from thinfilm.engines.stochastic_llg import LLGSimulation, measure
+from thinfilm.input.units import MEV_J, MU_B_J_PER_T
+from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
+
+CASES = [("square", 5, 4, False), ("square", 6, 6, True), ("triangular", 5, 4, True),
+         ("triangular", 3, 5, False), ("honeycomb", 6, 4, True), ("honeycomb", 5, 3, False)]
+ALPHA, GAMMA, DT = 0.3, 1.7, 0.01
+
+
+def _args(lat, s, n_steps, step0, seed, temp0):
+    jt, kt, axis, _ = reference.kernel_params()
+    b0, db = np.array([0.1, -0.25, 0.4]), np.array([0.01, 0.0, -0.02])
+    gdt = GAMMA * DT / (1 + ALPHA**2)
+    return (s, n_steps, step0, seed, lat.code, lat.periodic, jt, kt, axis, b0, db, temp0, 0.5,
+            0.7, gdt, ALPHA)
+
+
+@pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
+def test_zero_added_field_is_the_twopass_step(rng, shape, nx, ny, periodic):
+    # same noise keys and arithmetic: bitwise equal when the added field is zero
+    lat = Lattice(shape, nx, ny, 0.3, periodic)
+    s0 = reference.random_spins(rng, ny, nx)
+    a, b = s0.copy(), s0.copy()
+    heun_run_twopass(*_args(lat, a, 3, 11, 5, 2.0), *twopass_work(ny, nx))
+    p, q = lat.period
+    zero = np.zeros((3, p * q, -(-ny // p), -(-nx // q)))
+    heun_run_added(*_args(lat, b, 3, 11, 5, 2.0), lambda x: zero, p, q, *twopass_work(ny, nx)[:3])
+    assert np.array_equal(a, b)
+
+
+@pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
+def test_dipolar_field_enters_both_stages(rng, shape, nx, ny, periodic):
+    # NumPy Heun (Garcia-Palacios and Lazaro, Phys. Rev. B 58, 14937 (1998)) with the dipolar
+    # field added to the effective field at the start of the step and at the predictor
+    lat = Lattice(shape, nx, ny, 0.3, periodic)
+    mu = 1e-21  # large moment: the dipolar field is comparable to the local one
+    dip = DipolarField(lat, mu)
+    s0 = reference.random_spins(rng, ny, nx)
+    args = _args(lat, s0.copy(), 3, 4, 9, 2.0)
+    jt, kt, axis, _ = reference.kernel_params()
+    b0, db, sigma_coef = args[9], args[10], args[13]
+    s = s0.copy()
+    for n in range(3):
+        noise = np.zeros_like(s)
+        noise_field(ny, nx, 9, 4 + n, sigma_coef * math.sqrt(2.0 + 0.5 * n), noise)
+        kw = dict(exchange_T=jt, anisotropy_T=kt, axis=axis, field_T=b0 + db * n)
+        h1 = reference.effective_field(lat, s, **kw) + dip.field(s) + noise
+        d1 = reference.llg_rhs(s, h1, GAMMA, ALPHA) * DT
+        sp = s + d1
+        sp /= np.linalg.norm(sp, axis=-1, keepdims=True)
+        h2 = reference.effective_field(lat, sp, **kw) + dip.field(sp) + noise
+        s = s + 0.5 * (d1 + reference.llg_rhs(sp, h2, GAMMA, ALPHA) * DT)
+        s /= np.linalg.norm(s, axis=-1, keepdims=True)
+    got = args[0]
+    heun_run_added(*args, dip.planes, *lat.period, *twopass_work(ny, nx)[:3])
+    np.testing.assert_allclose(got, s, rtol=0, atol=1e-12)
+    assert np.abs(got - s0).max() > 1e-3
+
+
+def _film(shape, n, periodic, mu):
+    lat = Lattice(shape, n, n, 0.3, periodic)
+    return Model(lat, mu, 0.5 * MEV_J, 0.05 * MEV_J)
+
+
+@pytest.mark.parametrize("shape,periodic", [("square", True), ("honeycomb", False),
+                                            ("triangular", True)])
+def test_relaxation_conserves_length_and_lowers_energy(rng, shape, periodic):
+    # deterministic LLG with damping: dE/dt = -alpha gamma mu_s/(1+alpha^2) |S x B_eff|^2 <= 0
+    # (Gilbert, IEEE Trans. Magn. 40, 3443 (2004)), here with B_eff including the dipolar field
+    mu = 50 * MU_B_J_PER_T  # dipolar fields of ~1 T, comparable to the exchange field
+    model = _film(shape, 16, periodic, mu)
+    s0 = reference.random_spins(rng, 16, 16)
+    sim = LLGSimulation(model, temperature_K=0.0, damping=0.5, time_step_s=5e-15, spins=s0,
+                        dipolar=True)
+    energies = [sim.measure()[1]]
+    for _ in range(30):
+        sim.advance(20)
+        energies.append(sim.measure()[1])
+    np.testing.assert_allclose(np.linalg.norm(sim.spins, axis=-1), 1.0, rtol=0, atol=1e-14)
+    assert np.all(np.diff(energies) < 0)
+    e_dip = sim.dipolar.energy(sim.spins) / model.lattice.n_sites / MEV_J
+    e_loc = measure(model, sim.spins)[1]
+    assert energies[-1] == pytest.approx(e_loc + e_dip, rel=1e-12)
+    assert abs(e_dip) > 1e-3 * abs(e_loc)  # the dipolar term matters in this film
+
+
+def test_dipolar_changes_the_trajectory_and_off_path_is_unchanged(rng):
+    model = _film("square", 8, True, 2 * MU_B_J_PER_T)
+    s0 = reference.random_spins(rng, 8, 8)
+    kw = dict(temperature_K=5.0, damping=0.1, time_step_s=1e-15, spins=s0, seed=3)
+    off = LLGSimulation(model, **kw)
+    off.advance(10)
+    plain = LLGSimulation(model, dipolar=False, **kw)
+    plain.advance(10)
+    assert np.array_equal(off.spins, plain.spins)
+    on = LLGSimulation(model, dipolar=True, **kw)
+    on.advance(10)
+    assert 0 < np.abs(on.spins - off.spins).max() < 1e-3
+
+
+def test_rejects_a_field_of_another_lattice():
+    model = _film("square", 8, True, 2 * MU_B_J_PER_T)
+    other = DipolarField(Lattice("square", 8, 8, 0.4, True), 2 * MU_B_J_PER_T)
+    with pytest.raises(ValueError, match="another lattice"):
+        LLGSimulation(model, temperature_K=0.0, damping=0.1, time_step_s=1e-15, dipolar=other)

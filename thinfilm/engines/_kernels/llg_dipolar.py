@@ -1,0 +1,123 @@
+"""Heun steps with a field array added in each stage (the dipolar field), stage by stage.
+
+``heun_predict_stage`` and ``heun_correct_stage`` are the two passes of ``llg.heun_run_twopass``
+with one change: the thermal-field row handed to the local field is the noise plus the added
+field of that stage (read from a sublattice-planes array, see :mod:`.dipolar`). The noise
+keys, counters and arithmetic are those of ``heun_run_twopass``, so with an all-zero added
+field the step is bitwise the same. ``heun_run_added`` drives them: it evaluates the added
+field at the start-of-step spins for the predictor and at the predictor for the corrector.
+"""
+
+import math
+
+import numba as nb
+import numpy as np
+
+from thinfilm.engines._kernels.field import field_soa, load_row, neighbour_rows, row_pad
+from thinfilm.engines._kernels.llg import _correct, _noise, _predict
+from thinfilm.engines._kernels.rng import key
+
+__all__ = ["heun_predict_stage", "heun_correct_stage", "heun_run_added"]
+
+_OPT = dict(cache=True, error_model="numpy", boundscheck=False)
+_CHUNKS = 32
+
+
+@nb.njit(inline="always", **_OPT)
+def _with_added(nzi, hd, i, p, q, nx, tot):
+    """tot (3 nx, component blocks) = noise row nzi + row i of the planes array hd."""
+    big = i // p
+    base = (i % p) * q
+    for c in range(3):
+        o = c * nx
+        for b in range(q):
+            src = hd[c, base + b, big]
+            for jj in range((nx - b + q - 1) // q):
+                j = o + jj * q + b
+                tot[j] = nzi[j] + src[jj]
+
+
+@nb.njit(parallel=True, **_OPT)
+def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, sigma, gdt,
+                       alpha, hd, p, q, sp, d1, nz):
+    """Predictor of one step: sp = normalised s + d1, field = local + noise + hd (T).
+
+    step keys the noise (as ``heun_run_twopass`` step ``step``); hd planes (3, n_sub, my, L)
+    of the added field at s; sp (ny, nx, 3); d1 and nz (ny, nx, 3) hold each row as flat
+    component blocks (increments and thermal field, kept for the corrector).
+    """
+    ny, nx = s.shape[0], s.shape[1]
+    L = row_pad(nx)
+    nch = min(_CHUNKS, ny)
+    k = key(seed, 0, step)
+    for ch in nb.prange(nch):
+        buf = np.zeros((6, 3, L))
+        zero = np.zeros((3, L))
+        tot = np.empty(3 * nx)
+        for i in range(ch * ny // nch, (ch + 1) * ny // nch):
+            dn, up, has_dn, has_up = neighbour_rows(i, ny, periodic)
+            load_row(s[dn], buf[0], periodic)
+            load_row(s[i], buf[1], periodic)
+            load_row(s[up], buf[2], periodic)
+            nzi = nz[i].reshape(3 * nx)
+            _noise(k, i, nx, sigma, nzi)
+            _with_added(nzi, hd, i, p, q, nx, tot)
+            field_soa(code, i, buf[0] if has_dn else zero, buf[1], buf[2] if has_up else zero,
+                      jt, kt, axis[0], axis[1], axis[2], bx, by, bz, tot, nx, buf[3])
+            _predict(buf[1], buf[3], gdt, alpha, nx, periodic, buf[4], buf[5])
+            d1i = d1[i].reshape(3 * nx)
+            for j in range(nx):
+                d1i[j] = buf[4, 0, j]
+                d1i[nx + j] = buf[4, 1, j]
+                d1i[2 * nx + j] = buf[4, 2, j]
+                sp[i, j, 0] = buf[5, 0, j + 1]
+                sp[i, j, 1] = buf[5, 1, j + 1]
+                sp[i, j, 2] = buf[5, 2, j + 1]
+
+
+@nb.njit(parallel=True, **_OPT)
+def heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, hd, p, q, sp,
+                       d1, nz):
+    """Corrector of one step into s, field at the predictor sp = local + noise + hd (T)."""
+    ny, nx = s.shape[0], s.shape[1]
+    L = row_pad(nx)
+    nch = min(_CHUNKS, ny)
+    for ch in nb.prange(nch):
+        buf = np.zeros((6, 3, L))
+        zero = np.zeros((3, L))
+        tot = np.empty(3 * nx)
+        for i in range(ch * ny // nch, (ch + 1) * ny // nch):
+            dn, up, has_dn, has_up = neighbour_rows(i, ny, periodic)
+            load_row(sp[dn], buf[0], periodic)
+            load_row(sp[i], buf[1], periodic)
+            load_row(sp[up], buf[2], periodic)
+            load_row(s[i], buf[4], periodic)
+            _with_added(nz[i].reshape(3 * nx), hd, i, p, q, nx, tot)
+            field_soa(code, i, buf[0] if has_dn else zero, buf[1], buf[2] if has_up else zero,
+                      jt, kt, axis[0], axis[1], axis[2], bx, by, bz, tot, nx, buf[3])
+            d1i = d1[i].reshape(3 * nx)
+            for j in range(nx):
+                buf[5, 0, j] = d1i[j]
+                buf[5, 1, j] = d1i[nx + j]
+                buf[5, 2, j] = d1i[2 * nx + j]
+            _correct(buf[1], buf[3], buf[4], buf[5], gdt, alpha, nx, s[i])
+
+
+def heun_run_added(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db, temp0, dtemp,
+                   sigma_coef, gdt, alpha, added, p, q, sp, d1, nz):
+    """Advance s in place by n_steps Heun steps with an added field in both stages.
+
+    Arguments as ``llg.heun_run_twopass``; ``added(spins)`` returns the added field (T) of a
+    spin array in planes layout with cell period (p, q) (e.g. ``DipolarField.planes``);
+    sp, d1, nz from ``llg.twopass_work``. T and B change linearly per step as in ``heun_run``.
+    """
+    for n in range(int(n_steps)):
+        temp = max(temp0 + dtemp * n, 0.0)
+        sigma = sigma_coef * math.sqrt(temp)
+        bx = b0[0] + db[0] * n
+        by = b0[1] + db[1] * n
+        bz = b0[2] + db[2] * n
+        heun_predict_stage(s, step0 + n, seed, code, periodic, jt, kt, axis, bx, by, bz, sigma,
+                           gdt, alpha, added(s), p, q, sp, d1, nz)
+        heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, added(sp),
+                           p, q, sp, d1, nz)

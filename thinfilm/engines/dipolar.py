@@ -1,0 +1,150 @@
+"""Dipole-dipole field and energy of the site moments of a 2D film, by FFT convolution.
+
+    E = (mu0 / 4 pi) mu_s^2 sum_<i<j> [S_i.S_j - 3 (S_i.r_ij)(S_j.r_ij) / r_ij^2] / r_ij^3
+
+over every pair once, at the true site positions (``Lattice.positions_nm``) of the square,
+triangular and honeycomb lattices. The field (tesla) is B_i = -(1/mu_s) dE/dS_i, so
+E = -(mu_s / 2) sum_i S_i.B_i. Open edges: zero-padded (exact free-space) convolution.
+Periodic edges: the converged sum over all torus images, by an Ewald split (see
+:mod:`thinfilm.model.dipolar_tensor`; relative error below 1e-13 of the nearest-neighbour term).
+
+The grid is split into the ``p q`` Bravais sublattices of the rectangular cell
+``Lattice.period``; each sublattice pair is one translation-invariant convolution. The
+transformed tensor is built once per (lattice, mu_s, precision) and cached (``cache_clear``).
+
+Cost per field evaluation: 3 real forward and 3 inverse 2D FFTs (``scipy.fft``, ``workers``
+threads) of the sublattice grids, i.e. of about N points (periodic) or 4 N points (open), plus
+one pass over the tensor. Tensor memory, double precision: 24 n_pairs / n_sub bytes per site
+periodic (n_pairs = n_sub (n_sub + 1) / 2 stored pairs): 24, 36, 60 bytes per site for the
+square, triangular, honeycomb lattice; about 4 times that with open edges (96, 144, 240);
+half in single precision. ``DipolarField.bytes_per_site`` gives the exact figure.
+"""
+
+from collections import OrderedDict
+
+import numpy as np
+from scipy import fft as sfft
+
+from thinfilm.config import threads
+from thinfilm.engines._kernels.dipolar import (
+    apply_tensor,
+    dot_planes,
+    gather_planes,
+    scatter_planes,
+)
+from thinfilm.input.units import MU0
+from thinfilm.model.dipolar_tensor import SublatticeGrid, tensor_spectrum
+from thinfilm.model.lattice import Lattice
+
+__all__ = ["DipolarField", "dipolar_constant_T", "cache_clear"]
+
+_PRECISION = {"double": (np.float64, np.complex128), "single": (np.float32, np.complex64)}
+_CACHE = OrderedDict()
+_CACHE_SIZE = 4
+
+
+def dipolar_constant_T(moment_J_per_T, spacing_nm):
+    """mu0 mu_s / (4 pi a^3) in tesla: the dipolar field of one moment at one spacing a."""
+    return MU0 / (4 * np.pi) * moment_J_per_T / (spacing_nm * 1e-9) ** 3
+
+
+def cache_clear():
+    """Forget the cached tensors."""
+    _CACHE.clear()
+
+
+def _cached_tensor(lattice, moment, precision):
+    key = (lattice, float(moment), precision)
+    if key in _CACHE:
+        _CACHE.move_to_end(key)
+        return _CACHE[key]
+    # mu0 / 4 pi * mu_s * (1 nm^-3 in m^-3): tesla per unit spin and nm^-3 of tensor
+    scale = MU0 / (4 * np.pi) * moment * 1e27
+    spec = (tensor_spectrum(lattice) * scale).astype(_PRECISION[precision][1])
+    spec.setflags(write=False)
+    _CACHE[key] = spec
+    while len(_CACHE) > _CACHE_SIZE:
+        _CACHE.popitem(last=False)
+    return spec
+
+
+class DipolarField:
+    """Dipolar field (T) and energy (J) of unit spins on a Lattice with moment mu_s per site.
+
+    Parameters
+    ----------
+    lattice : Lattice
+    moment_J_per_T : float
+        mu_s (J/T).
+    precision : {"double", "single"}
+        Floating type of the FFTs and of the cached tensor. "single" halves memory and roughly
+        halves FFT time; its field has relative errors ~1e-7 of the dipolar scale.
+    workers : int, optional
+        FFT threads (default: the kernel thread count, :func:`thinfilm.config.threads`).
+    """
+
+    def __init__(self, lattice, moment_J_per_T, *, precision="double", workers=None):
+        if not isinstance(lattice, Lattice):
+            raise TypeError("DipolarField needs a Lattice")
+        if precision not in _PRECISION:
+            raise ValueError(f"precision must be 'double' or 'single'; got {precision!r}")
+        if not moment_J_per_T > 0:
+            raise ValueError("the moment per site must be positive")
+        self.lattice = lattice
+        self.moment_J_per_T = float(moment_J_per_T)
+        self.precision = precision
+        self.workers = workers
+        self.grid = SublatticeGrid(lattice)
+        self.tensor = _cached_tensor(lattice, self.moment_J_per_T, precision)
+        self.pair_index, self.pair_conj = self.grid.pair_index()
+        g = self.grid
+        self._planes = np.zeros((3, g.n_sub, g.my, g.mx), dtype=_PRECISION[precision][0])
+
+    @property
+    def nbytes(self):
+        """Bytes of the cached tensor."""
+        return self.tensor.nbytes
+
+    @property
+    def bytes_per_site(self):
+        return self.nbytes / self.lattice.n_sites
+
+    def _workers(self):
+        return self.workers if self.workers is not None else threads()
+
+    def planes(self, spins):
+        """Dipolar field (T) in sublattice-planes layout (3, n_sub, my, L), L >= mx.
+
+        Component c of site (i, j) is ``[c, (i % p) q + j % q, i // p, j // q]`` with
+        (p, q) = ``lattice.period``. The array is new on every call.
+        """
+        g = self.grid
+        w = self._workers()
+        spins = np.asarray(spins)
+        if spins.shape != (self.lattice.ny, self.lattice.nx, 3):
+            raise ValueError(f"spins must have shape {(self.lattice.ny, self.lattice.nx, 3)}, "
+                             f"got {spins.shape}")
+        gather_planes(spins, g.p, g.q, self._planes)
+        # 1D passes: the column transforms run in place (overwrite_x), which saves two fresh
+        # array allocations per call (page faults: ~30 % of the time at 1024^2)
+        x = sfft.rfft(self._planes, n=g.fx, axis=3, workers=w)
+        x = sfft.fft(x, n=g.fy, axis=2, workers=w, overwrite_x=True)
+        apply_tensor(x, self.tensor, self.pair_index, self.pair_conj)
+        x = sfft.ifft(x, axis=2, workers=w, overwrite_x=True)
+        if not g.periodic:
+            x = x[:, :, : g.my]
+        return sfft.irfft(x, n=g.fx, axis=3, workers=w)
+
+    def field(self, spins, out=None):
+        """Dipolar field (T) at every site, shape (ny, nx, 3) float64 (into ``out`` if given)."""
+        y = self.planes(spins)
+        if out is None:
+            out = np.empty((self.lattice.ny, self.lattice.nx, 3))
+        scatter_planes(y, self.grid.p, self.grid.q, 1.0, out)
+        return out
+
+    def energy(self, spins):
+        """Dipolar energy (J), each pair once: -(mu_s/2) sum_i S_i.B_i."""
+        y = self.planes(spins)
+        s = np.ascontiguousarray(spins, dtype=np.float64)
+        return -0.5 * self.moment_J_per_T * dot_planes(s, y, self.grid.p, self.grid.q)
