@@ -33,6 +33,7 @@ MODE_BASE = {
 VALUES = {
     "sizes": [6, 8],
     "temperature.refine": "near-tc",
+    "material.dipolar": True,
     "dynamics.duration": "0.05 ps",
     "dynamics.warmup": "0.01 ps",
     "dynamics.ramp": {"temperature": "3 K"},
@@ -127,3 +128,26 @@ def test_flags_must_be_booleans():
     d = scenario("run") | {"movie": {"gif": "no"}}
     with pytest.raises(ScenarioError, match=r"movie\.gif: must be true or false, got 'no'"):
         load_scenario(d)
+
+
+def test_dipolar_and_shape_anisotropy_count_the_same_energy_twice():
+    d = scenario("run")
+    d["material"] = {"stiffness": "10 pJ/m", "magnetisation": "1 MA/m", "thickness": "0.5 nm",
+                     "anisotropy_density": "1 MJ/m^3", "shape_anisotropy": True, "dipolar": True}
+    with pytest.raises(ScenarioError, match=r"material\.shape_anisotropy: .*count it twice"):
+        load_scenario(d)
+    d["material"]["shape_anisotropy"] = False
+    sc = load_scenario(d)
+    assert sc.material.dipolar and sc.describe()["material"]["dipolar"]
+
+
+def test_a_dipolar_run_goes_through_the_dipolar_engine(tmp_path):
+    from thinfilm.engines.stochastic_llg import LLGSimulation
+    from thinfilm.model.parameters import build_model
+
+    d = scenario("run", "material.dipolar")
+    model = build_model(load_scenario(d))
+    assert model.dipolar and LLGSimulation(model, temperature_K=1.0, damping=0.1,
+                                           time_step_s=1e-15).dipolar is not None
+    out = run(d, tmp_path / "dip", progress=False)
+    assert (out / "snapshots" / "final.npz").is_file()

@@ -54,7 +54,7 @@ def _equilibrate(model, temperature_K, seed, warmup_sweeps):
         from thinfilm.engines.montecarlo import MonteCarlo
     except ImportError:  # pragma: no cover - the Monte Carlo driver is part of the package
         return None, "none"
-    if warmup_sweeps <= 0 or not temperature_K > 0:
+    if warmup_sweeps <= 0 or not temperature_K > 0 or model.dipolar:
         return None, "none"
     mc = MonteCarlo(model, temperature_K, seed=seed, initial_spins="ordered", stream=3)
     mc.warmup(int(warmup_sweeps))

@@ -64,6 +64,9 @@ class MonteCarlo:
                  reflection="auto", over_relaxation=1, stream=1, parallel=None):
         if not isinstance(model, Model):
             raise TypeError("MonteCarlo needs a thinfilm.model.Model")
+        if model.dipolar:
+            raise ValueError("the Monte Carlo engine has no dipolar field: run dipolar models "
+                             "with LLGSimulation")
         if not temperature_K > 0:
             raise ValueError(f"temperature must be positive (K); got {temperature_K!r}")
         lat = model.lattice

@@ -176,7 +176,9 @@ class LLGSimulation:
 
 def _dipolar_field(model, dipolar):
     """None, or the DipolarField of the model (``dipolar`` True or a DipolarField of it)."""
-    if dipolar is None or dipolar is False:
+    if dipolar is None:
+        dipolar = model.dipolar
+    if dipolar is False:
         return None
     from thinfilm.engines.dipolar import DipolarField
 

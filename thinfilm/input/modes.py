@@ -36,6 +36,9 @@ KEY_MODES = {
               "use lattice.cells for one lattice, or set dynamics.method: monte-carlo"),
     "temperature.refine": (SETS, "extra temperatures near Tc",
                            "give several temperatures, or remove refine"),
+    "material.dipolar": (LLG, "dipole-dipole field of the moments in both Heun stages",
+                         "the Monte Carlo engine has no long-range field; set dynamics.method: "
+                         "llg"),
     "dynamics.duration": (LLG, "length of the run (run) or sampled time per point (llg-set)",
                           "a Monte Carlo set is as long as dynamics.sweeps"),
     "dynamics.warmup": (LLG, "LLG time before recording or sampling",
@@ -70,20 +73,19 @@ def scenario_mode(method, n_temperatures, has_sizes):
 
 
 def _present(data, dotted):
+    """True when the key is given with a value that asks for something (not null, false, none)."""
     node = data
     for part in dotted.split("."):
         if not isinstance(node, dict) or node.get(part) is None:
             return False
         node = node[part]
-    return True
+    return node is not False and node != "none"
 
 
 def check_keys_for_mode(data, mode, path, *, n_temperatures):
     """Raise ScenarioError for the first key of ``data`` that cannot take effect in ``mode``."""
     for key, (modes, what, fix) in KEY_MODES.items():
         if not _present(data, key) or mode in modes:
-            continue
-        if key == "temperature.refine" and data["temperature"]["refine"] == "none":
             continue
         if key == "instrument" and mode == "run" and _present(data, "movie.instrument") \
                 and data["movie"]["instrument"] is True:
@@ -92,8 +94,7 @@ def check_keys_for_mode(data, mode, path, *, n_temperatures):
             f"cannot take effect in this scenario, which runs as {MODE_TEXT[mode]}; it acts only "
             f"in {', '.join(modes)} ({what}). Remove it or change the mode: {fix}.",
             path=path, key=key)
-    if (mode in SETS and _present(data, "temperature.refine") and n_temperatures < 2
-            and data["temperature"]["refine"] != "none"):
+    if mode in SETS and _present(data, "temperature.refine") and n_temperatures < 2:
         raise ScenarioError("refine: near-tc needs several temperatures to find Tc between; "
                             "give a wider {start, stop, step} range or remove refine",
                             path=path, key="temperature.refine")

@@ -73,7 +73,8 @@ def _material(r, lat):
     m = r.sub("material", required=True)
     continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
-    m.check_keys(continuum_keys | lattice_keys | {"axis"})
+    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar"})
+    dipolar = m.flag("dipolar", default=False)
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
     if given_c and given_l:
@@ -86,13 +87,18 @@ def _material(r, lat):
         ms = m.quantity("magnetisation", "magnetisation", required=True, positive=True)
         t = m.quantity("thickness", "length", required=True, positive=True)
         shape_aniso = m.flag("shape_anisotropy", default=False)
+        if dipolar and shape_aniso:
+            raise m.error("shape_anisotropy: true folds the thin-film demagnetising energy into K, "
+                          "and dipolar: true computes it from the moments: together they count it "
+                          "twice; keep one (dipolar: true for stripe and bubble domains)",
+                          "shape_anisotropy")
         axis = m.vector("axis", default=[0, 0, 1], nonzero=True)
         mu, jj, kk = continuum_to_lattice(lat.shape, lat.spacing_nm * 1e-9, a, ku, ms, t,
                                           shape_anisotropy=shape_aniso, axis=axis)
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
                 "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
                 "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
-        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont)
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar)
     mu = m.quantity("moment", "moment", required=True, positive=True)
     jj = m.quantity("exchange", "energy", required=True)
     aniso = m.raw("anisotropy")
@@ -105,7 +111,7 @@ def _material(r, lat):
         axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None)
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar)
 
 
 def _lattice(r):

@@ -27,6 +27,7 @@ class MaterialSpec:
     anisotropy_J: float
     axis: np.ndarray
     continuum: dict | None = None  # the continuum inputs when the film was given that way
+    dipolar: bool = False  # dipole-dipole interaction between the site moments
 
 
 @dataclass(frozen=True)
@@ -111,6 +112,8 @@ class Scenario:
         }
         if m.continuum:
             out["material"]["continuum"] = m.continuum
+        if m.dipolar:
+            out["material"]["dipolar"] = True
         if d.ramp_temperature_K is not None:
             out["dynamics"]["ramp_to_temperature_K"] = d.ramp_temperature_K
         if d.ramp_field_T is not None:

@@ -34,6 +34,9 @@ class Model:
         Unit anisotropy axis n.
     field_T : ndarray, shape (3,)
         Uniform Zeeman field B (T).
+    dipolar : bool
+        Dipole-dipole interaction between the site moments (stochastic LLG only; the field is
+        :class:`thinfilm.engines.dipolar.DipolarField`).
     """
 
     lattice: Lattice
@@ -42,6 +45,7 @@ class Model:
     anisotropy_J: float
     axis: np.ndarray = field(default_factory=lambda: np.array([0.0, 0.0, 1.0]))
     field_T: np.ndarray = field(default_factory=lambda: np.zeros(3))
+    dipolar: bool = False
 
     def __post_init__(self):
         axis = np.asarray(self.axis, dtype=np.float64)
@@ -79,7 +83,7 @@ class Model:
     def with_field(self, field_T):
         """Copy of the model with another Zeeman field (T)."""
         return Model(self.lattice, self.moment_J_per_T, self.exchange_J, self.anisotropy_J,
-                     self.axis, np.asarray(field_T, dtype=np.float64))
+                     self.axis, np.asarray(field_T, dtype=np.float64), self.dipolar)
 
     def kernel_args(self):
         """Tuple (code, periodic, exchange_T, anisotropy_T, axis) for the field kernels."""
@@ -97,4 +101,4 @@ def build_model(scenario):
                   scenario.lattice.spacing_nm, scenario.lattice.periodic)
     m = scenario.material
     return Model(lat, m.moment_J_per_T, m.exchange_J, m.anisotropy_J, m.axis,
-                 np.asarray(scenario.field_T, dtype=np.float64))
+                 np.asarray(scenario.field_T, dtype=np.float64), m.dipolar)

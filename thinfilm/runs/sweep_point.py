@@ -19,11 +19,12 @@ import numpy as np
 
 from thinfilm.analysis.correlation import correlation_function, correlation_length
 from thinfilm.analysis.domains import domain_statistics
+from thinfilm.analysis.patterns import bubble_statistics, stripe_orientation, stripe_period
 from thinfilm.analysis.structure import structure_factor_length
 from thinfilm.analysis.thermo import thermodynamics
 from thinfilm.engines.montecarlo import PARALLEL_MIN_SITES, MonteCarlo
 from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, measure, stable_time_step
-from thinfilm.input.errors import ScenarioError, ThinFilmWarning
+from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
 from thinfilm.input.units import MEV_J
 from thinfilm.model.parameters import build_model
 
@@ -41,7 +42,8 @@ ROW_COLUMNS = (
     "correlation_length_sk_nm", "correlation_length_sk_nm_err",
     "correlation_length_instrument_nm", "correlation_length_instrument_nm_err",
     "mean_domain_area_nm2", "mean_domain_area_nm2_err", "area_weighted_domain_area_nm2",
-    "domain_count", "largest_domain_fraction", "method", "seed",
+    "domain_count", "largest_domain_fraction",
+    "stripe_period_nm", "stripe_order", "bubble_count", "method", "seed",
 )
 
 
@@ -232,6 +234,32 @@ def _instrument_length(fields, lat, instrument, seed, ordered):
     return r["second_moment_nm"], r["second_moment_err_nm"]
 
 
+def _patterns(fields, lat):
+    """Stripe period (nm), stripe orientation order and bubble count, means over snapshots.
+
+    NaN on open edges (the analysers assume periodic boundaries) and for uniform snapshots.
+    """
+    out = {"stripe_period_nm": math.nan, "stripe_order": math.nan, "bubble_count": math.nan}
+    if not lat.periodic:
+        return out
+    geo = {"positions_nm": lat.positions_nm, "box_nm": lat.box_nm, "period": lat.period}
+    periods, orders, bubbles = [], [], []
+    for f in fields:
+        try:
+            periods.append(stripe_period(f, **geo)["period_nm"])
+            orders.append(stripe_orientation(f, **geo)["order"])
+            bubbles.append(bubble_statistics(f, lat.site_area_nm2, positions_nm=lat.positions_nm,
+                                             box_nm=lat.box_nm, neighbours=lat.neighbours,
+                                             periodic=True)["count"])
+        except InputError:  # a uniform snapshot has no pattern
+            continue
+    for key, vals in (("stripe_period_nm", periods), ("stripe_order", orders),
+                      ("bubble_count", bubbles)):
+        if vals:
+            out[key] = float(np.mean(vals))
+    return out
+
+
 def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None):
     """Correlation lengths, C(r) and domain statistics of the snapshots (field S.n).
 
@@ -270,7 +298,7 @@ def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None):
     sk, sk_err = _sk_length(fields, pos, box, lat.period,
                             lat.spacing_nm if lat.shape == "square" else None)
     ins, ins_err = _instrument_length(fields, lat, instrument or {}, seed, ordered)
-    row = {
+    row = {**_patterns(fields, lat),
         "correlation_length_sk_nm": sk, "correlation_length_sk_nm_err": sk_err,
         "correlation_length_instrument_nm": ins, "correlation_length_instrument_nm_err": ins_err,
         "correlation_length_nm": xi["second_moment_nm"],

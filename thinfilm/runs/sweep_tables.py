@@ -51,6 +51,9 @@ COLUMN_UNITS = {
     "area_weighted_domain_area_nm2": "nm^2, sum A^2/sum A, mean over snapshots",
     "domain_count": "domains per snapshot (up and down), mean over snapshots",
     "largest_domain_fraction": "largest domain area / film area, mean over snapshots",
+    "stripe_period_nm": "nm, period from the radial peak of S(k) of S.n, mean over snapshots",
+    "stripe_order": "dimensionless, nematic orientation order of the pattern (0 isotropic, 1 stripes)",
+    "bubble_count": "round (bubble) domains per snapshot, mean over snapshots",
     "method": "sampler: monte-carlo or llg",
     "seed": "seed of this point, derived from (scenario seed, size, temperature)",
 }
