@@ -124,7 +124,7 @@ class RunFolder:
         return p
 
     def write_checkpoint(self, **arrays):
-        write_npz(self.path / "checkpoint.npz", **arrays)
+        write_npz(self.path / "checkpoint.npz", compress=False, **arrays)
 
     def read_checkpoint(self):
         p = self.path / "checkpoint.npz"
