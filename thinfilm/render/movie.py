@@ -231,6 +231,8 @@ def _frame_text(fr):
         out.append(f"t = {float(fr['time_ps']):.2f} ps")
     if fr.get("temperature_K") is not None:
         out.append(f"T = {float(fr['temperature_K']):.1f} K")
+    if fr.get("label"):
+        out.append(str(fr["label"]))
     return out
 
 

@@ -46,6 +46,8 @@ def load_snapshot(path):
     for key in ("time_ps", "temperature_K", "spacing_nm"):
         if key in data:
             out[key] = float(data[key])
+    if "label" in data:
+        out["label"] = str(data["label"])
     out["shape"] = str(data["shape"]) if "shape" in data else "square"
     out["periodic"] = bool(data["periodic"]) if "periodic" in data else True
     return out
