@@ -61,9 +61,9 @@ def _curves(rng):
                "domain_count": 10.0 + 0 * t, "largest_domain_fraction": (1 + m) / 2}
 
 
-def make_synthetic_sweep(folder, *, tc_json=True, seed=5):
+def make_synthetic_sweep(folder, *, tc_json=True, seed=5, scenario=SCENARIO):
     """A finished sweep folder with the synthetic curves (size L only) and its manifest."""
-    sc = load_scenario(SCENARIO)
+    sc = load_scenario(scenario)
     t, cols = _curves(np.random.default_rng(seed))
     names = ["size", "temperature_K", *cols]
     rows = [[L, t[i], *(float(cols[c][i]) for c in cols)] for i in range(t.size)]
@@ -184,3 +184,23 @@ def test_exposure_verdict_flips_with_exposure():
     assert exposure_verdict(5e-12, 5e-12) == "blurred/partly averaged"
     assert exposure_verdict(5e-12, 1e-2) == "averaged out to grey"
     assert exposure_verdict(5e-12, 1e-2, ordered=True) == "averaged to the mean contrast"
+
+
+def test_a_plan_per_named_instrument_reuses_the_fluctuation_runs(tmp_path):
+    two = [{"name": "peem", "resolution": "2 nm", "exposure": "1 s", "field_of_view": "5 um"},
+           {"name": "kerr", "resolution": "8 nm", "exposure": "10 ms", "field_of_view": "50 um"}]
+    sc = make_synthetic_sweep(tmp_path, scenario=dict(SCENARIO, instrument=two))
+    a = make_plan(sc, tmp_path, reuse=True, progress=False, instrument="peem", **FAST)
+    stamp = (tmp_path / "fluctuations.json").stat().st_mtime_ns
+    b = make_plan(sc, tmp_path, reuse=True, progress=False, instrument="kerr", **FAST)
+    assert (tmp_path / "fluctuations.json").stat().st_mtime_ns == stamp  # reused, not rerun
+    assert a["plan"]["llg"]["runs"] == b["plan"]["llg"]["runs"]
+    for name, res in (("peem", 2.0), ("kerr", 8.0)):
+        p = json.loads((tmp_path / f"plan-{name}.json").read_text())
+        assert p["instrument"]["resolution_nm"] == pytest.approx(res)
+        assert (tmp_path / f"plan-{name}_xi.png").is_file()
+    # a coarser instrument resolves a narrower window (xi must exceed its resolution)
+    wa, wb = a["plan"]["resolved_window_K"], b["plan"]["resolved_window_K"]
+    assert wb[1] - wb[0] < wa[1] - wa[0]
+    with pytest.raises(InputError, match="--instrument 'sem'"):
+        make_plan(sc, tmp_path, reuse=True, progress=False, instrument="sem", **FAST)

@@ -128,7 +128,7 @@ def _cmd_plan(args):
     res = plan(args.file, args.output, resolution=args.resolution, exposure=args.exposure,
                     field_of_view=args.field_of_view, workers=args.workers, reuse=args.reuse,
                     progress=not args.quiet, n_points=args.points, dwell=args.dwell,
-                    llg_duration=args.llg_duration)
+                    llg_duration=args.llg_duration, instrument=args.instrument)
     print(res["summary_text"])
     print(f"plan written to {res['plan_md']}")
     return 0
@@ -198,6 +198,8 @@ def build_parser():
     s.add_argument("--field-of-view", default=None, help='field of view, e.g. "5 um"')
     s.add_argument("--workers", type=int, default=None)
     s.add_argument("--reuse", action="store_true", help="reuse a finished sweep in the folder")
+    s.add_argument("--instrument", default=None,
+                   help="name of one of the scenario's instruments (default: the first)")
     s.add_argument("--points", type=int, default=15, help="number of temperatures in the schedule")
     s.add_argument("--dwell", default="5 min", help='dwell per temperature point, e.g. "10 min"')
     s.add_argument("--llg-duration", default="150 ps",

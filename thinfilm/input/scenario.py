@@ -219,10 +219,15 @@ def _initial(r, path):
     return str(p)
 
 
-def _instrument(r):
-    ins = r.sub("instrument")
-    ins.check_keys({"resolution", "pixel", "noise", "exposure", "field_of_view"})
+def _one_instrument(ins, named):
+    keys = {"resolution", "pixel", "noise", "exposure", "field_of_view"}
+    ins.check_keys(keys | ({"name"} if named else set()))
     out = {}
+    if named:
+        name = ins.raw("name", required=True)
+        if not isinstance(name, str) or not name.strip() or not name.replace("-", "").isalnum():
+            raise ins.error(f"must be a short name of letters, digits and '-', got {name!r}", "name")
+        out["name"] = name
     for key, kind, name in (("resolution", "length", "resolution_nm"), ("pixel", "length", "pixel_nm"),
                             ("field_of_view", "length", "field_of_view_nm")):
         v = ins.quantity(key, kind, positive=True)
@@ -238,6 +243,27 @@ def _instrument(r):
         raise ins.error(f"resolution ({out['resolution_nm']:g} nm) must be smaller than the field of view "
                         f"({out['field_of_view_nm']:g} nm)", "resolution")
     return out
+
+
+def _instruments(r):
+    """The instrument (a mapping) or instruments (a list of mappings, each with a name).
+
+    Returns (primary instrument dict, tuple of all instrument dicts); the first of a list is
+    the primary one (the sweep's instrument-limited lengths and the movie use it).
+    """
+    val = r.raw("instrument")
+    if not isinstance(val, list):
+        one = _one_instrument(r.sub("instrument"), named=False)
+        return one, ((one,) if one else ())
+    if not val:
+        raise r.error("an instrument list must not be empty", "instrument")
+    out = []
+    for k, item in enumerate(val):
+        out.append(_one_instrument(Reader(item, r.path, f"instrument[{k}]"), named=True))
+    names = [o["name"] for o in out]
+    if len(set(names)) != len(names):
+        raise r.error(f"instrument names must differ, got {names}", "instrument")
+    return out[0], tuple(out)
 
 
 def load_scenario(source):
@@ -322,8 +348,9 @@ def load_scenario(source):
     if sm:
         analysis["smoothing_nm"] = sm * 1e9
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
+    primary, instruments = _instruments(r)
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, _initial(r, path), every,
-                    snap_every, seed, sweep, _instrument(r), movie, analysis, data, mode)
+                    snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments)
 
 
 def thermal_energy_meV(temperature_K):

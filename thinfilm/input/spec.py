@@ -76,6 +76,7 @@ class Scenario:
     analysis: dict = field(default_factory=dict)
     raw: dict = field(default_factory=dict, repr=False)
     mode: str = "run"  # run | llg-set | mc-set (thinfilm.input.modes)
+    instruments: tuple = ()  # every instrument (dicts); ``instrument`` is the first
 
     @property
     def is_sweep(self):
@@ -127,6 +128,8 @@ class Scenario:
                             "snapshots": self.sweep.snapshots}
         if self.instrument:
             out["instrument"] = dict(self.instrument)
+        if len(self.instruments) > 1:
+            out["instruments"] = [dict(i) for i in self.instruments]
         if self.analysis and self.sweep:
             out["analysis"] = dict(self.analysis)
         return out

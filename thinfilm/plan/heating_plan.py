@@ -50,8 +50,10 @@ def _quantity(option, text, kind, example):
     return v
 
 
-def instrument_values(scenario, resolution=None, exposure=None, field_of_view=None):
+def instrument_values(scenario, resolution=None, exposure=None, field_of_view=None, name=None):
     """Instrument of the plan: command-line values override the scenario's ``instrument``.
+
+    ``name`` picks one of the scenario's named instruments (default: the first).
 
     Returns
     -------
@@ -66,6 +68,13 @@ def instrument_values(scenario, resolution=None, exposure=None, field_of_view=No
         not smaller than the field of view.
     """
     ins = dict(getattr(scenario, "instrument", {}) or {})
+    if name is not None:
+        named = {i.get("name"): i for i in getattr(scenario, "instruments", ())}
+        if name not in named:
+            raise InputError(f"--instrument {name!r}: the scenario names "
+                             f"{', '.join(repr(n) for n in named if n) or 'no instruments'}; "
+                             f"give one of those names, or leave --instrument out")
+        ins = dict(named[name])
     out, src = {}, {}
     for key, opt, val, kind, ex, scale in (
             ("resolution_nm", "--resolution", resolution, "length", "30 nm", 1e9),
@@ -87,6 +96,7 @@ def instrument_values(scenario, resolution=None, exposure=None, field_of_view=No
                          f"--field-of-view ({fov:g} nm): the instrument cannot resolve anything "
                          f"inside its own view. Check the units of both values.")
     out["source"] = src
+    out["name"] = ins.get("name")
     return out
 
 
@@ -247,12 +257,25 @@ def _llg_temperatures(tc, t_lo, t_hi, given):
     return out
 
 
-def _fluctuations(sc, temps, size, duration_s, progress):
+def _fluctuations(sc, temps, size, duration_s, progress, out):
+    """LLG fluctuation runs at ``temps``; kept in ``fluctuations.json`` and reused by a later plan
+    of the same folder with the same runs (e.g. a plan for another instrument)."""
     from thinfilm.model.parameters import build_model
     from thinfilm.runs.sweep_point import sized_scenario
 
     model = build_model(sized_scenario(sc, size))
     dy = sc.dynamics
+    key = {"temperatures_K": [float(x) for x in temps], "size": int(size),
+           "duration_s": float(duration_s), "damping": dy.damping, "time_step_s": dy.time_step_s,
+           "gamma": dy.gamma, "seed": int(sc.seed), "scenario": _comparable(sc.describe())}
+    cache = out / "fluctuations.json"
+    if cache.is_file():
+        try:
+            old = json.loads(cache.read_text())
+        except (OSError, ValueError):
+            old = {}
+        if old.get("key") == _clean(key):
+            return old["runs"], model
     runs = []
     from tqdm import tqdm
 
@@ -260,6 +283,7 @@ def _fluctuations(sc, temps, size, duration_s, progress):
                                   leave=False)):
         runs.append(fluctuation_time(model, temp, damping=dy.damping, time_step_s=dy.time_step_s,
                                      duration_s=duration_s, seed=sc.seed + 101 * (i + 1), gamma=dy.gamma))
+    write_json(cache, {"key": _clean(key), "runs": _clean(runs)})
     return runs, model
 
 
@@ -298,7 +322,8 @@ def _edge(d):
 
 def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=None, workers=None,
               reuse=False, progress=True, n_points=15, dwell="5 min", llg_size=16,
-              llg_duration="150 ps", llg_temperatures=None, n_boot=400, seed=0, runner=None):
+              llg_duration="150 ps", llg_temperatures=None, n_boot=400, seed=0, runner=None,
+              instrument=None):
     """Heating plan for a film (scenario with a temperature sweep) and an instrument.
 
     Parameters
@@ -331,6 +356,9 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
         Bootstrap replicas for the window edges.
     seed : int
         Seed of the bootstrap.
+    instrument : str, optional
+        Name of one of the scenario's instruments (default the first); the plan's files are then
+        ``plan-<name>.md``, ``plan-<name>.json`` and ``plan-<name>_*.png``.
     runner : callable, optional
         ``runner(scenario, out_dir, *, resume=False, workers, progress)`` that runs the sweep when
         the folder does not hold one yet; default :func:`thinfilm.runs.sweep.run_sweep` (no
@@ -345,7 +373,7 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     from thinfilm.plan import report as plan_report
 
     sc = _scenario(source)
-    ins = instrument_values(sc, resolution, exposure, field_of_view)
+    ins = instrument_values(sc, resolution, exposure, field_of_view, instrument)
     if isinstance(n_points, bool) or not isinstance(n_points, (int, np.integer)) or n_points < 3:
         raise InputError(f"--points (n_points) {n_points!r}: must be a whole number of at least 3 temperatures")
     if isinstance(llg_size, bool) or not isinstance(llg_size, (int, np.integer)) or llg_size < 4:
@@ -362,7 +390,7 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     a = analyse_sweep(out, ins, box_nm=box, n_points=n_points, n_boot=n_boot, seed=seed)
     t = a["temperature_K"]
     temps = _llg_temperatures(a["tc_K"], float(t[0]), float(t[-1]), llg_temperatures)
-    runs, llg_model = _fluctuations(sc, temps, llg_size, llg_s, progress)
+    runs, llg_model = _fluctuations(sc, temps, llg_size, llg_s, progress, out)
     points = _points(a, runs, ins, a["tc_K"])
     low, high = _edge(a["low"]), _edge(a["high"])
     rlo, rhi = a["resolved_low"], a["resolved_high"]
@@ -392,12 +420,14 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
                          "typical_domain_diameter_nm": a["d_typ_nm"]},
     }
     plan = _clean(plan)
+    plan["instrument_name"] = ins["name"]
+    plan["file_stem"] = f"plan-{ins['name']}" if instrument is not None else "plan"
     plan["resolved_note"] = plan_report.resolved_note(plan)
     plan["timescale_note"] = plan_report.timescale_note(plan)
     plan["command"] = plan_report.command(plan, out)
     figures = plan_report.figures(plan, out)
     plan["figures"] = [p.name for p in figures]
-    plan_json = write_json(out / "plan.json", plan)
-    plan_md = atomic_write_text(out / "plan.md", plan_report.markdown(plan))
+    plan_json = write_json(out / f"{plan['file_stem']}.json", plan)
+    plan_md = atomic_write_text(out / f"{plan['file_stem']}.md", plan_report.markdown(plan))
     return {"plan": plan, "plan_md": plan_md, "plan_json": plan_json, "figures": figures,
             "summary_text": plan_report.summary_text(plan)}

@@ -91,6 +91,11 @@ def timescale_note(plan):
             f"an image (see the verdict per temperature). " + base)
 
 
+def _stem(plan):
+    """File stem of the plan's files: plan, or plan-<instrument name> for a named instrument."""
+    return plan.get("file_stem", "plan")
+
+
 def command(plan, out):
     """The command that reproduces the plan."""
     ins = plan["instrument"]
@@ -100,6 +105,8 @@ def command(plan, out):
              "--exposure", f"{ins['exposure_s']:g} s"]
     if ins["field_of_view_nm"] is not None:
         parts += ["--field-of-view", f"{ins['field_of_view_nm']:g} nm"]
+    if plan.get("instrument_name"):
+        parts += ["--instrument", plan["instrument_name"]]
     parts += ["--reuse"]
     return " ".join(shlex.quote(p) for p in parts)
 
@@ -145,11 +152,11 @@ def _captions(plan):
         ("view limit", "the smaller of the field of view and the simulated film side, "
          f"{plan['view_limit_nm']:.3g} nm")]
     return {
-        "plan_xi.png": f"Lengths of the simulated film (scenario {plan['scenario']}, lattice size "
+        f"{_stem(plan)}_xi.png": f"Lengths of the simulated film (scenario {plan['scenario']}, lattice size "
         f"L = {plan['size']}) against the temperature, with the instrument limits. {common}\n\n"
         + definition_list([t_item, ("length", "nm", "the curves of the legend:")]) + "\n"
         + "\n".join(f"  - {name}: {text}" for name, text in curves),
-        "plan_tau.png": "Fluctuation time of the order against the temperature, compared with "
+        f"{_stem(plan)}_tau.png": "Fluctuation time of the order against the temperature, compared with "
         f"the exposure ({_duration(ins['exposure_s'])} = {exp_ps:.3g} ps; dashed line when it lies "
         f"within a factor 100 of the plotted times). {common}\n\n"
         + definition_list([
@@ -157,7 +164,7 @@ def _captions(plan):
             ("τ", "ps", "integrated autocorrelation time of m along the order axis in stochastic "
              f"LLG runs on {plan['llg']['size']} x {plan['llg']['size']} sites (points with error "
              "bars), interpolated in ln τ at the schedule temperatures (crosses)")]),
-        "plan_schedule.png": "Recommended heating schedule on the order-parameter curve of the "
+        f"{_stem(plan)}_schedule.png": "Recommended heating schedule on the order-parameter curve of the "
         f"sweep (lattice size L = {plan['size']}). {common}\n\n"
         + definition_list([
             t_item,
@@ -191,7 +198,7 @@ def figures(plan, out):
     ax.set_yscale("log")
     ax.set(xlabel="T (K)", ylabel="length (nm)", title=f"{name}: lengths, L = {plan['size']}")
     shared_legend(fig)
-    paths.append(save_png(fig, out / "plan_xi.png", dpi=120))
+    paths.append(save_png(fig, out / f"{_stem(plan)}_xi.png", dpi=120))
 
     fig, (ax,) = new_figure(1, 1, 6.4, 4.6)
     runs = plan["llg"]["runs"]
@@ -209,7 +216,7 @@ def figures(plan, out):
     if lo <= exp_ps <= hi * 1e2:
         ax.axhline(exp_ps, color=VERMILION, ls="--", label="exposure")
     shared_legend(fig)
-    paths.append(save_png(fig, out / "plan_tau.png", dpi=120))
+    paths.append(save_png(fig, out / f"{_stem(plan)}_tau.png", dpi=120))
 
     fig, (ax,) = new_figure(1, 1, 6.4, 4.6)
     ax.plot(t, c["m_abs"], "o-", color=BLUE, ms=4, label=r"$\langle|m|\rangle$ (sweep)")
@@ -219,7 +226,7 @@ def figures(plan, out):
     ax.set(xlabel="T (K)", ylabel=r"$\langle|m|\rangle$ (per spin)",
            title="recommended heating schedule")
     shared_legend(fig)
-    paths.append(save_png(fig, out / "plan_schedule.png", dpi=120))
+    paths.append(save_png(fig, out / f"{_stem(plan)}_schedule.png", dpi=120))
     write_captions(out, _captions(plan))
     return paths
 
