@@ -10,19 +10,22 @@ vectorised across the rows of a class); each visit makes a Gaussian trial step, 
 axis reflection S -> S - 2(S.n)n and ``over_relaxation`` over-relaxation moves. The Gaussian
 width sigma is tuned toward acceptance 0.5 only inside :meth:`MonteCarlo.warmup`; it is frozen
 during sampling so detailed balance holds.
+
+The spins stay in the sweep kernel's banded layout for the whole run (see
+:mod:`thinfilm._kernels.banded`): sweeps and measurements work on it directly, and
+:attr:`MonteCarlo.spins` converts to (ny, nx, 3) only when read (cached until the next sweep).
 """
 
 import numpy as np
 
-from ._kernels.metropolis import (
-    N_COUNTS,
-    make_work,
-    row_colouring,
-    row_sums,
-    row_sums_serial,
-    samples_with_work,
-    sweeps_with_work,
+from ._kernels.banded import (
+    banded_row_sums,
+    banded_samples,
+    banded_sweeps,
+    from_banded,
+    to_banded,
 )
+from ._kernels.metropolis import N_COUNTS, make_work, row_colouring
 from .model import Model
 from .units import KB_J_PER_K, MEV_J
 
@@ -87,9 +90,13 @@ class MonteCarlo:
         self.temperature_K = temperature_K
         self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
         self._rows = np.empty((lat.ny, 4))
-        self._work = None  # kernel work arrays (about the size of the spins), see _kernel_work
         self.sweep_count = 0
         self.sigma = float(sigma)
+        # The state lives in the kernel's banded layout (work tuple: cbounds, chunks, bands, T,
+        # zc, buf, g, cnt); _host is its (ny, nx, 3) copy, refreshed lazily by `spins`.
+        self._host = np.empty((lat.ny, lat.nx, 3))
+        self._host_ok = False
+        self._work = make_work(self._host, self._order, self._bounds)
         self.spins = self._initial(initial_spins)
 
     # ---------------------------------------------------------------- state
@@ -131,17 +138,29 @@ class MonteCarlo:
 
     @property
     def spins(self):
-        """Current spins (ny, nx, 3), the live array (copy before keeping it)."""
-        return self._spins
+        """Current spins (ny, nx, 3), a read-only view.
+
+        The sampler keeps its spins in the kernel's banded layout; this converts them on the
+        first access after a sweep and caches the result until the next sweep, reusing one
+        buffer (copy before keeping it). Assign to ``spins`` to change the state.
+        """
+        if not self._host_ok:
+            from_banded(self._work[3], self._host, self._work[2], self.parallel)
+            self._host_ok = True
+        view = self._host.view()
+        view.setflags(write=False)
+        return view
 
     @spins.setter
     def spins(self, value):
-        self._spins = self._checked(value)
+        self._host[...] = self._checked(value)
+        to_banded(self._host, self._work[3], self._work[2], self._periodic, self.parallel)
+        self._host_ok = True
 
     @property
     def state(self):
         """Resumable state: dict with spins (copy), sweep (int), sigma (float)."""
-        return {"spins": self._spins.copy(), "sweep": int(self.sweep_count),
+        return {"spins": np.array(self.spins), "sweep": int(self.sweep_count),
                 "sigma": float(self.sigma)}
 
     @state.setter
@@ -151,11 +170,11 @@ class MonteCarlo:
         self.sigma = float(value["sigma"])
 
     # ---------------------------------------------------------------- moves
-    def _kernel_work(self):
-        """Kernel work arrays (transposed spins, scratch), made on first use and kept."""
-        if self._work is None:
-            self._work = make_work(self._spins, self._order, self._bounds)
-        return self._work
+    def _kernel_args(self):
+        """Banded spins, work arrays, row count and model arguments for the banded kernels."""
+        cbounds, chunks, bands, T, zc, buf, g, cnt = self._work
+        return (T, zc, cbounds, chunks, bands, self.model.lattice.ny, self._code, self._periodic,
+                self._jt, self._kt, self._axis, self._b)
 
     def sweep(self, n=1):
         """Make n sweeps at the current (frozen) sigma.
@@ -168,10 +187,11 @@ class MonteCarlo:
         n = int(n)
         self._counts[:] = 0
         if n > 0:
-            sweeps_with_work(self._spins, *self._kernel_work(), self._code, self._periodic,
-                             self._jt, self._kt, self._axis, self._b, self._beta, self.sigma,
-                             self.seed, self.stream, self.sweep_count, n, self.reflection,
-                             self.n_or, self._counts, self.parallel)
+            buf, g, cnt = self._work[5:]
+            banded_sweeps(*self._kernel_args(), self._beta, self.sigma, self.seed, self.stream,
+                          self.sweep_count, n, self.reflection, self.n_or, self._counts, buf, g,
+                          cnt, self.parallel)
+            self._host_ok = False
             self.sweep_count += n
         visits = max(n, 1) * self.model.lattice.n_sites
         acc = self._counts.sum(axis=0)
@@ -206,9 +226,9 @@ class MonteCarlo:
             energy_J (per spin, J), m_vector (3,) (mean spin), m_order (component along the
             anisotropy axis if K > 0, else abs(m_vector)).
         """
-        sums = row_sums if self.parallel else row_sums_serial
-        sums(self._spins, self._code, self._periodic, self._jt, self._kt, self._axis, self._b,
-             self._rows)
+        T, _, _, _, bands = self._kernel_args()[:5]
+        banded_row_sums(T, bands, self.model.lattice.ny, self._code, self._periodic, self._jt,
+                        self._kt, self._axis, self._b, self._rows, self.parallel)
         tot = self._rows.sum(axis=0)
         return self._per_spin(tot[None, :])[0]
 
@@ -229,11 +249,11 @@ class MonteCarlo:
         out = np.empty((n_samples, 4))
         self._counts[:] = 0
         if n_samples > 0:
-            samples_with_work(self._spins, *self._kernel_work(), self._code, self._periodic,
-                              self._jt, self._kt, self._axis, self._b, self._beta, self.sigma,
-                              self.seed, self.stream, self.sweep_count, n_samples, sample_every,
-                              self.reflection, self.n_or, self._counts, self._rows, out,
-                              self.parallel)
+            buf, g, cnt = self._work[5:]
+            banded_samples(*self._kernel_args(), self._beta, self.sigma, self.seed, self.stream,
+                           self.sweep_count, n_samples, sample_every, self.reflection, self.n_or,
+                           self._counts, buf, g, cnt, self._rows, out, self.parallel)
+            self._host_ok = False
             self.sweep_count += n_samples * sample_every
         return out
 
