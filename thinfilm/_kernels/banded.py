@@ -10,38 +10,61 @@ the ghost rows current, so T alone is the whole state between sweeps.
 :func:`thinfilm._kernels.metropolis.row_sums` in the same order (neighbour sum left, right,
 up, down, diagonals; row sums in increasing column order), so its results are bitwise equal to
 converting T to (ny, nx, 3) and calling ``row_sums``.
+
+Dispatch. Cached compiled functions here never call a ``parallel=True`` function: a cached
+caller of a parallel callee that was itself loaded from the cache can segfault when it is
+loaded back (numba issue 8578). The threaded path is therefore driven from Python, one sweep
+kernel call per sample (negligible against a sweep of >= 4096 sites), the serial path by
+compiled loops.
 """
 
 import numba as nb
 
 from .field import neighbour_rows
-from .metropolis import _convert, _run_sweeps
+from .metropolis import _convert_par, _from_t, _sweeps_t, _sweeps_t_serial, _to_t
 
-__all__ = ["to_banded", "from_banded", "banded_sweeps", "banded_row_sums", "banded_samples"]
+__all__ = ["to_banded", "from_banded", "banded_sweeps", "banded_row_sums", "banded_samples",
+           "row_totals"]
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 
 
 @nb.njit(**_OPT)
+def _to_banded_serial(s, T, bands, periodic):
+    for b in range(bands.shape[0] - 1):
+        _to_t(s, T, bands, b, periodic)
+
+
+@nb.njit(**_OPT)
+def _from_banded_serial(T, s, bands):
+    for b in range(bands.shape[0] - 1):
+        _from_t(T, s, bands, b)
+
+
 def to_banded(s, T, bands, periodic, parallel):
     """Copy spins s (ny, nx, 3) into the banded array T, ghost rows included."""
-    _convert(s, T, bands, periodic, True, parallel)
+    if parallel:
+        _convert_par(s, T, bands, periodic, True)
+    else:
+        _to_banded_serial(s, T, bands, periodic)
 
 
-@nb.njit(**_OPT)
 def from_banded(T, s, bands, parallel):
     """Copy the banded spins T into s (ny, nx, 3)."""
-    _convert(s, T, bands, False, False, parallel)
+    if parallel:
+        _convert_par(s, T, bands, False, False)
+    else:
+        _from_banded_serial(T, s, bands)
 
 
-@nb.njit(**_OPT)
 def banded_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
                   sigma, seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt,
                   parallel):
     """n_sweeps Metropolis sweeps of the banded spins T in place (arguments as
     :func:`thinfilm._kernels.metropolis.metropolis_sweeps`; work arrays from ``make_work``)."""
-    _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
-                seed, stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt, parallel)
+    kern = _sweeps_t if parallel else _sweeps_t_serial
+    kern(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma, seed,
+         stream, sweep0, n_sweeps, reflect, n_or, counts, buf, g, cnt)
 
 
 @nb.njit(inline="always", **_OPT)
@@ -129,30 +152,54 @@ def _row_sums_par(T, bands, ny, code, periodic, jt, kt, axis, b, rows):
 
 
 @nb.njit(**_OPT)
+def _row_sums_serial(T, bands, ny, code, periodic, jt, kt, axis, b, rows):
+    for bnd in range(bands.shape[0] - 1):
+        _band_sums(T, bands, bnd, ny, code, periodic, jt, kt, axis, b, rows)
+
+
 def banded_row_sums(T, bands, ny, code, periodic, jt, kt, axis, b, rows, parallel):
     """Per-row sums into rows (ny, 4): mx, my, mz and the energy (units of mu_s * T), as
     :func:`thinfilm._kernels.metropolis.row_sums` (bitwise equal), read from the banded T."""
-    if parallel:
-        _row_sums_par(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
-    else:
-        for bnd in range(bands.shape[0] - 1):
-            _band_sums(T, bands, bnd, ny, code, periodic, jt, kt, axis, b, rows)
+    kern = _row_sums_par if parallel else _row_sums_serial
+    kern(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
 
 
 @nb.njit(**_OPT)
+def row_totals(rows, out, k):
+    """out[k, c] = sum of rows[:, c], added in increasing row order."""
+    for c in range(4):
+        acc = 0.0
+        for i in range(rows.shape[0]):
+            acc += rows[i, c]
+        out[k, c] = acc
+
+
+@nb.njit(**_OPT)
+def _samples_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
+                    sigma, seed, stream, sweep0, n_samples, sample_every, reflect, n_or, counts,
+                    buf, g, cnt, rows, out):
+    for k in range(n_samples):
+        _sweeps_t_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b,
+                         beta, sigma, seed, stream, sweep0 + k * sample_every, sample_every,
+                         reflect, n_or, counts, buf, g, cnt)
+        _row_sums_serial(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
+        row_totals(rows, out, k)
+
+
 def banded_samples(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
                    sigma, seed, stream, sweep0, n_samples, sample_every, reflect, n_or, counts,
                    buf, g, cnt, rows, out, parallel):
     """n_samples times: sample_every sweeps of T, then the totals (mx, my, mz, energy in
     mu_s T) into out (n_samples, 4); rows (ny, 4) scratch. Totals add the rows in increasing
     order (independent of the thread count)."""
+    if not parallel:
+        _samples_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
+                        sigma, seed, stream, sweep0, n_samples, sample_every, reflect, n_or,
+                        counts, buf, g, cnt, rows, out)
+        return
     for k in range(n_samples):
-        _run_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta,
-                    sigma, seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or,
-                    counts, buf, g, cnt, parallel)
-        banded_row_sums(T, bands, ny, code, periodic, jt, kt, axis, b, rows, parallel)
-        for c in range(4):
-            acc = 0.0
-            for i in range(ny):
-                acc += rows[i, c]
-            out[k, c] = acc
+        _sweeps_t(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
+                  seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or, counts,
+                  buf, g, cnt)
+        _row_sums_par(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
+        row_totals(rows, out, k)
