@@ -321,21 +321,26 @@ class MonteCarlo:
         return out
 
     def warmup(self, n, *, tune=True, chunk=10):
-        """Make n sweeps; with tune, adjust sigma after every chunk toward acceptance 0.5 (and
-        clusters_per_sweep to N / mean cluster size of the chunk, if it is tuned).
+        """Make n sweeps; with tune, adjust sigma after every chunk toward acceptance 0.5 (and,
+        if it is tuned, clusters_per_sweep to N / mean cluster size: of the chunk in the first
+        half of the warm-up, of all chunks of the second half so far afterwards).
 
         Returns the Gaussian acceptance ratio of the last chunk.
         """
         done = 0
         acc = float("nan")
+        made = sites = 0.0
         while done < n:
             m = min(chunk, n - done)
             res = self.sweep(m)
             acc = res["gaussian"]
             done += m
             if tune and self._cl is not None and self._tune_clusters:
-                n_sites = self.model.lattice.n_sites
-                self.clusters_per_sweep = max(1, int(round(n_sites / res["cluster_size"])))
+                if 2 * done > n:
+                    made += self._cl_stats[0]
+                    sites += self._cl_stats[1]
+                mean = sites / made if made else res["cluster_size"]
+                self.clusters_per_sweep = max(1, int(round(self.model.lattice.n_sites / mean)))
             if tune:
                 # multiplicative update, factor exp(2 (a - 0.5)) in [0.37, 2.7]
                 s = self.sigma * np.exp(2.0 * (acc - TARGET_ACCEPTANCE))
