@@ -20,7 +20,9 @@ from thinfilm.units import MEV_J, MU_B_J_PER_T
 
 CASES = [("square", 6, 5, True), ("square", 5, 5, False), ("square", 3, 258, True),
          ("triangular", 6, 6, True), ("triangular", 4, 262, False), ("honeycomb", 8, 6, True),
-         ("honeycomb", 5, 7, False), ("honeycomb", 4, 258, True)]
+         ("honeycomb", 5, 7, False), ("honeycomb", 4, 258, True), ("square", 1, 4, False),
+         ("square", 2, 2, True), ("triangular", 2, 2, True), ("triangular", 1, 5, False),
+         ("honeycomb", 1, 3, False), ("honeycomb", 2, 2, True)]
 
 
 def _model(shape, nx, ny, periodic):

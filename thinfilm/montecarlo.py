@@ -357,9 +357,9 @@ class MonteCarlo:
             energy_J (per spin, J), m_vector (3,) (mean spin), m_order (component along the
             anisotropy axis if K > 0, else abs(m_vector)).
         """
-        T, _, _, _, bands = self._kernel_args()[:5]
-        banded_row_sums(T, bands, self.model.lattice.ny, self._code, self._periodic, self._jt,
-                        self._kt, self._axis, self._b, self._rows, self.parallel)
+        T, zc, _, _, bands = self._kernel_args()[:5]
+        banded_row_sums(T, zc, bands, self._code, self._periodic, self._jt, self._kt, self._axis,
+                        self._b, self._rows, self.parallel)
         tot = self._rows.sum(axis=0)
         return self._per_spin(tot[None, :])[0]
 

@@ -9,7 +9,8 @@ the ghost rows current, so T alone is the whole state between sweeps.
 :func:`banded_row_sums` evaluates exactly the expressions of
 :func:`thinfilm._kernels.metropolis.row_sums` in the same order (neighbour sum left, right,
 up, down, diagonals; row sums in increasing column order), so its results are bitwise equal to
-converting T to (ny, nx, 3) and calling ``row_sums``.
+converting T to (ny, nx, 3) and calling ``row_sums``. It reads whole columns (rows of one
+parity at a time) into per-band accumulators, branch-free.
 
 Dispatch. Cached compiled functions here never call a ``parallel=True`` function: a cached
 caller of a parallel callee that was itself loaded from the cache can segfault when it is
@@ -19,8 +20,8 @@ compiled loops.
 """
 
 import numba as nb
+import numpy as np
 
-from .field import neighbour_rows
 from .metropolis import _convert_par, _from_t, _sweeps_t, _sweeps_t_serial, _to_t
 
 __all__ = ["to_banded", "from_banded", "banded_sweeps", "banded_row_sums", "banded_samples",
@@ -68,100 +69,117 @@ def banded_sweeps(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axi
 
 
 @nb.njit(inline="always", **_OPT)
-def _band_sums(T, bands, bnd, ny, code, periodic, jt, kt, axis, b, rows):
-    """Row sums (mx, my, mz, energy in mu_s T) of the rows of band bnd into rows."""
+def _column(tb, zc, j, periodic):
+    """Column j of band tb, or the zero column zc beyond an open edge."""
+    nx = tb.shape[0]
+    if j < 0:
+        return tb[nx - 1] if periodic else zc
+    if j >= nx:
+        return tb[0] if periodic else zc
+    return tb[j]
+
+
+@nb.njit(inline="always", **_OPT)
+def _accumulate(acc, cur, lft, rgt, up, dn, dia_up, dia_dn, p0, p1, step, jt, kt, ax, ay, az,
+                bx, by, bz, diag, vo):
+    """acc[:, P] += (S, energy) of rows P = p0, p0 + step, .. < p1 of one column. Neighbour sum in
+    the order left, right, up, down (square, triangular), diagonal up, down (triangular), or
+    left, right, vertical (honeycomb, vo = +1 up / -1 down, up/dn ignored)."""
+    for P in range(p0, p1, step):
+        sx = cur[0, P]
+        sy = cur[1, P]
+        sz = cur[2, P]
+        hx = 0.0
+        hy = 0.0
+        hz = 0.0
+        hx += lft[0, P]
+        hy += lft[1, P]
+        hz += lft[2, P]
+        hx += rgt[0, P]
+        hy += rgt[1, P]
+        hz += rgt[2, P]
+        if vo != 0:
+            hx += cur[0, P + vo]
+            hy += cur[1, P + vo]
+            hz += cur[2, P + vo]
+        else:
+            hx += up[0, P + 1]
+            hy += up[1, P + 1]
+            hz += up[2, P + 1]
+            hx += dn[0, P - 1]
+            hy += dn[1, P - 1]
+            hz += dn[2, P - 1]
+            if diag:
+                hx += dia_up[0, P + 1]
+                hy += dia_up[1, P + 1]
+                hz += dia_up[2, P + 1]
+                hx += dia_dn[0, P - 1]
+                hy += dia_dn[1, P - 1]
+                hz += dia_dn[2, P - 1]
+        sn = sx * ax + sy * ay + sz * az
+        acc[0, P] += sx
+        acc[1, P] += sy
+        acc[2, P] += sz
+        acc[3, P] += (-0.5 * jt * (sx * hx + sy * hy + sz * hz) - 0.5 * kt * sn * sn
+                      - (sx * bx + sy * by + sz * bz))
+
+
+@nb.njit(inline="always", **_OPT)
+def _band_sums(T, zc, bands, bnd, code, periodic, jt, kt, axis, b, rows):
+    """Row sums (mx, my, mz, energy in mu_s T) of the rows of band bnd into rows.
+
+    Missing neighbours (open edges) are read as the zero ghost rows / zero column: adding
+    +0.0 to a sum that started at +0.0 leaves it bitwise unchanged, so the results equal
+    ``row_sums``, which skips them.
+    """
     tb = T[bnd]
     nx = tb.shape[0]
     lo = bands[bnd]
-    hi = bands[bnd + 1]
-    for i in range(lo, hi):
-        for c in range(4):
-            rows[i, c] = 0.0
+    ln = bands[bnd + 1] - lo
+    acc = np.zeros((4, ln + 2))
+    ax, ay, az = axis[0], axis[1], axis[2]
+    bx, by, bz = b[0], b[1], b[2]
     for j in range(nx):
-        jl = j - 1
-        jr = j + 1
-        if jl < 0:
-            jl = nx - 1 if periodic else -1
-        if jr >= nx:
-            jr = 0 if periodic else -1
-        for i in range(lo, hi):
-            P = i - lo + 1
-            _, _, has_dn, has_up = neighbour_rows(i, ny, periodic)
-            hx = 0.0
-            hy = 0.0
-            hz = 0.0
-            if jl >= 0:
-                hx += tb[jl, 0, P]
-                hy += tb[jl, 1, P]
-                hz += tb[jl, 2, P]
-            if jr >= 0:
-                hx += tb[jr, 0, P]
-                hy += tb[jr, 1, P]
-                hz += tb[jr, 2, P]
-            if code == 2:
-                if (i + j) % 2 == 0:
-                    if has_up:
-                        hx += tb[j, 0, P + 1]
-                        hy += tb[j, 1, P + 1]
-                        hz += tb[j, 2, P + 1]
-                elif has_dn:
-                    hx += tb[j, 0, P - 1]
-                    hy += tb[j, 1, P - 1]
-                    hz += tb[j, 2, P - 1]
+        cur = tb[j]
+        lft = _column(tb, zc, j - 1, periodic)
+        rgt = _column(tb, zc, j + 1, periodic)
+        # local row P = i - lo + 1: P odd <-> i even (bands start on even rows)
+        if code == 0:  # all rows alike
+            _accumulate(acc, cur, lft, rgt, cur, cur, cur, cur, 1, ln + 1, 1, jt, kt, ax, ay,
+                        az, bx, by, bz, False, 0)
+            continue
+        for par in range(2):  # par 0: even rows i
+            p0 = 1 + par
+            if code == 1:
+                dia = _column(tb, zc, j - 1 if par == 0 else j + 1, periodic)
+                _accumulate(acc, cur, lft, rgt, cur, cur, dia, dia, p0, ln + 1, 2, jt, kt, ax,
+                            ay, az, bx, by, bz, True, 0)
             else:
-                if has_up:
-                    hx += tb[j, 0, P + 1]
-                    hy += tb[j, 1, P + 1]
-                    hz += tb[j, 2, P + 1]
-                if has_dn:
-                    hx += tb[j, 0, P - 1]
-                    hy += tb[j, 1, P - 1]
-                    hz += tb[j, 2, P - 1]
-                if code == 1:
-                    js = j + (-1 if i % 2 == 0 else 1)
-                    ok = True
-                    if js < 0 or js >= nx:
-                        if periodic:
-                            js = js % nx
-                        else:
-                            ok = False
-                    if ok:
-                        if has_up:
-                            hx += tb[js, 0, P + 1]
-                            hy += tb[js, 1, P + 1]
-                            hz += tb[js, 2, P + 1]
-                        if has_dn:
-                            hx += tb[js, 0, P - 1]
-                            hy += tb[js, 1, P - 1]
-                            hz += tb[js, 2, P - 1]
-            sx = tb[j, 0, P]
-            sy = tb[j, 1, P]
-            sz = tb[j, 2, P]
-            sn = sx * axis[0] + sy * axis[1] + sz * axis[2]
-            rows[i, 0] += sx
-            rows[i, 1] += sy
-            rows[i, 2] += sz
-            rows[i, 3] += (-0.5 * jt * (sx * hx + sy * hy + sz * hz) - 0.5 * kt * sn * sn
-                           - (sx * b[0] + sy * b[1] + sz * b[2]))
+                vo = 1 if (lo + par + j) % 2 == 0 else -1
+                _accumulate(acc, cur, lft, rgt, cur, cur, cur, cur, p0, ln + 1, 2, jt, kt, ax,
+                            ay, az, bx, by, bz, False, vo)
+    for P in range(1, ln + 1):
+        for c in range(4):
+            rows[lo + P - 1, c] = acc[c, P]
 
 
 @nb.njit(parallel=True, **_OPT)
-def _row_sums_par(T, bands, ny, code, periodic, jt, kt, axis, b, rows):
+def _row_sums_par(T, zc, bands, code, periodic, jt, kt, axis, b, rows):
     for bnd in nb.prange(bands.shape[0] - 1):
-        _band_sums(T, bands, bnd, ny, code, periodic, jt, kt, axis, b, rows)
+        _band_sums(T, zc, bands, bnd, code, periodic, jt, kt, axis, b, rows)
 
 
 @nb.njit(**_OPT)
-def _row_sums_serial(T, bands, ny, code, periodic, jt, kt, axis, b, rows):
+def _row_sums_serial(T, zc, bands, code, periodic, jt, kt, axis, b, rows):
     for bnd in range(bands.shape[0] - 1):
-        _band_sums(T, bands, bnd, ny, code, periodic, jt, kt, axis, b, rows)
+        _band_sums(T, zc, bands, bnd, code, periodic, jt, kt, axis, b, rows)
 
 
-def banded_row_sums(T, bands, ny, code, periodic, jt, kt, axis, b, rows, parallel):
+def banded_row_sums(T, zc, bands, code, periodic, jt, kt, axis, b, rows, parallel):
     """Per-row sums into rows (ny, 4): mx, my, mz and the energy (units of mu_s * T), as
     :func:`thinfilm._kernels.metropolis.row_sums` (bitwise equal), read from the banded T."""
     kern = _row_sums_par if parallel else _row_sums_serial
-    kern(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
+    kern(T, zc, bands, code, periodic, jt, kt, axis, b, rows)
 
 
 @nb.njit(**_OPT)
@@ -182,7 +200,7 @@ def _samples_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, a
         _sweeps_t_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b,
                          beta, sigma, seed, stream, sweep0 + k * sample_every, sample_every,
                          reflect, n_or, counts, buf, g, cnt)
-        _row_sums_serial(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
+        _row_sums_serial(T, zc, bands, code, periodic, jt, kt, axis, b, rows)
         row_totals(rows, out, k)
 
 
@@ -201,5 +219,5 @@ def banded_samples(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, ax
         _sweeps_t(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axis, b, beta, sigma,
                   seed, stream, sweep0 + k * sample_every, sample_every, reflect, n_or, counts,
                   buf, g, cnt)
-        _row_sums_par(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
+        _row_sums_par(T, zc, bands, code, periodic, jt, kt, axis, b, rows)
         row_totals(rows, out, k)

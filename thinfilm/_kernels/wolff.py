@@ -212,7 +212,7 @@ def _mixed_samples_serial(T, zc, cbounds, chunks, bands, ny, code, periodic, jt,
                       sigma, seed, stream, sweep0 + s * sample_every, sample_every, reflect,
                       n_or, counts, buf, g, cnt, Tf, addr, gaddr, nbr, frame, mode, n_clusters,
                       queue, sig, mark, stats)
-        _row_sums_serial(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
+        _row_sums_serial(T, zc, bands, code, periodic, jt, kt, axis, b, rows)
         row_totals(rows, out, s)
 
 
@@ -232,5 +232,5 @@ def mixed_samples(T, zc, cbounds, chunks, bands, ny, code, periodic, jt, kt, axi
     for s in range(n_samples):
         mixed_sweeps(*head, sweep0 + s * sample_every, sample_every, reflect, n_or, counts, buf,
                      g, cnt, True, *tail)
-        _row_sums_par(T, bands, ny, code, periodic, jt, kt, axis, b, rows)
+        _row_sums_par(T, zc, bands, code, periodic, jt, kt, axis, b, rows)
         row_totals(rows, out, s)
