@@ -246,3 +246,35 @@ def test_cluster_flips_keep_the_ghost_rows_current(shape, nx, ny, periodic):
                          anisotropy_J=m.anisotropy_J, axis=m.axis, moment=m.moment_J_per_T,
                          field_T=m.field_T)
     assert mc.measure()["energy_J"] * m.lattice.n_sites == pytest.approx(e, rel=1e-10)
+
+
+def _ising_square(L):
+    return Model(Lattice("square", L, L, 0.3, True), MU_B_J_PER_T, MEV_J, 1e3 * MEV_J, (0, 0, 1))
+
+
+def test_cluster_sampler_follows_yangs_magnetisation():
+    # spontaneous magnetisation of the square Ising model (Yang, Phys. Rev. 85, 808 (1952)):
+    # M(kB T/J = 2.0) = 0.911319. Ising limit K/J = 1e3, L = 24; tolerance: 4 jackknife errors
+    # + 0.004 for finite size (xi ~ 2 sites) and the cone of the pinned spins, <cos> ~ 0.999
+    model = _ising_square(24)
+    temp = 2.0 * JK
+    r = MonteCarlo(model, temp, seed=21, moves=("metropolis", "cluster")).run(200, 1500)
+    d = thermodynamics(r["energy_J"], r["m_order"], r["m_vector"], model.lattice.n_sites, temp)
+    assert abs(d["m_abs"] - 0.911319) < 4 * d["m_abs_err"] + 0.004
+    assert d["tau_int"] < 5  # a few cluster steps (local moves need tens of sweeps here)
+
+
+@pytest.mark.slow
+def test_cluster_binder_cumulant_at_the_onsager_temperature():
+    # U4 at Tc on the L x L torus: 0.61069 (Kamieniarz & Bloete, J. Phys. A 26, 201 (1993);
+    # from memory). Ising limit K/J = 1e3 at Onsager's Tc shifted to first order in T/K,
+    # Tc (1 - Tc/(K/J)) (as validation/ising_tc.py). Tolerance: 4 jackknife errors + 0.01 for
+    # the corrections to scaling at L = 16..64 (common practice)
+    tc = 2.0 / np.log(1.0 + np.sqrt(2.0))
+    temp = tc * (1.0 - tc / 1e3) * JK
+    for L in (16, 32, 64):
+        model = _ising_square(L)
+        r = MonteCarlo(model, temp, seed=40 + L, moves=("metropolis", "cluster")).run(500, 20000)
+        d = thermodynamics(r["energy_J"], r["m_order"], r["m_vector"], model.lattice.n_sites,
+                           temp)
+        assert abs(d["binder"] - 0.61069) < 4 * d["binder_err"] + 0.01, L

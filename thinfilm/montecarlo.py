@@ -1,4 +1,5 @@
-"""Equilibrium Metropolis Monte Carlo of a Model at fixed temperature: sweeps, samples, runs.
+"""Equilibrium Monte Carlo of a Model at fixed temperature: Metropolis sweeps, optional Wolff
+cluster moves, samples, runs.
 
 Units: spins are unit vectors; the sampled distribution is exp(-E/(kB T)) with E the Model
 energy in joules. A model with moment 1 muB and J = 1 meV has kB T/J = t at
@@ -88,7 +89,8 @@ def cluster_moves_exact(model, direction="auto"):
 
 
 class MonteCarlo:
-    """Metropolis sampler of one Model at one temperature.
+    """Metropolis sampler (optionally with Wolff cluster moves) of one Model at one
+    temperature.
 
     Parameters
     ----------
