@@ -1,9 +1,12 @@
 """Metropolis throughput on square lattices (256 x 256 and 1024 x 1024) for 1 and 2 threads.
 
-Run: ``python validation/mc_rate.py [--sizes 256 1024] [--repeats 7] [--modes sweep run kernel]``
+Run: ``python validation/mc_rate.py [--sizes 256 1024] [--repeats 7] [--modes sweep run kernel]
+[--moves all gaussian]``
 
-Prints the median of the repeats in million site visits per second; each visit is one Gaussian
-trial, one axis reflection and one over-relaxation move (the MonteCarlo defaults for K > 0).
+Prints the median of the repeats in million site visits per second; with ``--moves all`` each
+visit is one Gaussian trial, one axis reflection and one over-relaxation move (the MonteCarlo
+defaults for K > 0), with ``gaussian`` the Gaussian trial alone (reflection off, no
+over-relaxation).
 
 * sweep: ``MonteCarlo.sweep(n)`` calls, n = max(2, 2e6 / N) sweeps each (the public path);
 * run: ``MonteCarlo.run(0, n, 1)``, a measurement after every sweep;
@@ -27,9 +30,12 @@ from thinfilm.montecarlo import MonteCarlo
 from thinfilm.units import MEV_J, MU_B_J_PER_T
 
 
-def _sampler(n):
+def _sampler(n, moves="all"):
     model = Model(Lattice("square", n, n, 0.3, True), MU_B_J_PER_T, MEV_J, 0.1 * MEV_J,
                   (0.0, 0.0, 1.0))
+    if moves == "gaussian":
+        return MonteCarlo(model, 10.0, seed=1, parallel=True, reflection=False,
+                          over_relaxation=0)
     return MonteCarlo(model, 10.0, seed=1, parallel=True)
 
 
@@ -47,16 +53,17 @@ def _kernel_call(mc):
 
     def call(n):
         mk._run_sweeps(T, zc, cb, ch, bands, s.shape[0], code, per, jt, kt, axis, b, mc._beta,
-                       mc.sigma, 1, 1, state["sweep"], n, True, 1, counts, buf, g, cnt, True)
+                       mc.sigma, 1, 1, state["sweep"], n, mc.reflection, mc.n_or, counts, buf,
+                       g, cnt, True)
         state["sweep"] += n
 
     return call
 
 
-def rate(threads, n=256, mode="sweep", sweeps=None, repeats=5):
+def rate(threads, n=256, mode="sweep", sweeps=None, repeats=5, moves="all"):
     """Median site visits per second on `threads` threads for one mode (see module doc)."""
     numba.set_num_threads(threads)
-    mc = _sampler(n)
+    mc = _sampler(n, moves)
     sweeps = sweeps or max(2, int(2e6 // (n * n)))
     if mode == "sweep":
         call = mc.sweep
@@ -81,11 +88,14 @@ if __name__ == "__main__":
     ap.add_argument("--sizes", type=int, nargs="+", default=[256, 1024])
     ap.add_argument("--repeats", type=int, default=7)
     ap.add_argument("--modes", nargs="+", default=["sweep", "run", "kernel"])
+    ap.add_argument("--moves", nargs="+", default=["all"], choices=["all", "gaussian"])
     a = ap.parse_args()
     print(f"load average before: {os.getloadavg()[0]:.2f}")
-    for n in a.sizes:
-        for th in sorted({1, min(2, numba.config.NUMBA_NUM_THREADS)}):
-            for mode in a.modes:
-                r = rate(th, n, mode, repeats=a.repeats)
-                print(f"n={n} threads={th} {mode:>6}: {r / 1e6:6.2f} M site visits/s", flush=True)
+    for moves in a.moves:
+        for n in a.sizes:
+            for th in sorted({1, min(2, numba.config.NUMBA_NUM_THREADS)}):
+                for mode in a.modes:
+                    r = rate(th, n, mode, repeats=a.repeats, moves=moves)
+                    print(f"moves={moves} n={n} threads={th} {mode:>6}: {r / 1e6:6.2f} M site "
+                          "visits/s", flush=True)
     print(f"load average after: {os.getloadavg()[0]:.2f}")
