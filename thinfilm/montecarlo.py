@@ -27,7 +27,7 @@ from ._kernels.banded import (
     to_banded,
 )
 from ._kernels.metropolis import N_COUNTS, make_work, row_colouring
-from ._kernels.wolff import N_STATS, banded_addresses, mixed_samples, mixed_sweeps
+from ._kernels.wolff import N_STATS, make_cluster_work, mixed_samples, mixed_sweeps
 from .model import Model
 from .units import KB_J_PER_K, MEV_J
 
@@ -186,16 +186,8 @@ class MonteCarlo:
         if self.clusters_per_sweep < 1:
             raise ValueError("clusters_per_sweep must be >= 1")
         lat = self.model.lattice
-        T, bands = self._work[3], self._work[2]
-        addr, gaddr = banded_addresses(lat.ny, lat.nx, bands, T.shape[3], lat.periodic)
-        n = self._axis
-        e1 = np.cross(n, [1.0, 0.0, 0.0] if abs(n[0]) < 0.9 else [0.0, 1.0, 0.0])
-        e1 /= np.linalg.norm(e1)
-        frame = np.ascontiguousarray([n, e1, np.cross(n, e1)], dtype=np.float64)
-        nbr = np.ascontiguousarray(lat.neighbours, dtype=np.int64)
-        self._cl = (T.reshape(-1), addr, gaddr, nbr, frame, _MODE[self.cluster_direction],
-                    np.empty(lat.n_sites, dtype=np.int64), np.empty(lat.n_sites),
-                    np.zeros(lat.n_sites, dtype=np.uint8))
+        self._cl = make_cluster_work(self._work[3], self._work[2], lat.periodic, lat.neighbours,
+                                     self._axis, _MODE[self.cluster_direction])
 
     # ---------------------------------------------------------------- state
     @property

@@ -39,8 +39,8 @@ from .banded import _row_sums_par, _row_sums_serial, row_totals
 from .metropolis import _sweeps_t, _sweeps_t_serial
 from .rng import hash64, key, uniform01
 
-__all__ = ["banded_addresses", "wolff_clusters", "mixed_sweeps", "mixed_samples",
-           "CLUSTER_COUNTER", "N_STATS"]
+__all__ = ["banded_addresses", "make_cluster_work", "wolff_clusters", "mixed_sweeps",
+           "mixed_samples", "CLUSTER_COUNTER", "N_STATS"]
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 CLUSTER_COUNTER = np.uint64(0xC105_7E40_0000_0000)  # far above any Metropolis counter
@@ -72,6 +72,23 @@ def banded_addresses(ny, nx, bands, LP, periodic):
                 elif i == hi - 1 and (periodic or b < nbands - 1):  # ghost P = 0 of the next
                     gaddr[f] = bn * band_stride + j * 3 * LP
     return addr, gaddr
+
+
+def make_cluster_work(T, bands, periodic, neighbours, axis, mode):
+    """Cluster work tuple (Tf, addr, gaddr, nbr, frame, mode, queue, sig, mark) for the banded
+    spins T (n_bands, nx, 3, LP): the flat view and addresses, the neighbour table (n_sites, z),
+    the frame (n, e1, e2) of the unit axis n and the scratch arrays (see wolff_clusters)."""
+    nx = T.shape[1]
+    ny = int(bands[-1])
+    addr, gaddr = banded_addresses(ny, nx, bands, T.shape[3], periodic)
+    n = np.asarray(axis, dtype=np.float64)
+    e1 = np.cross(n, [1.0, 0.0, 0.0] if abs(n[0]) < 0.9 else [0.0, 1.0, 0.0])
+    e1 /= np.linalg.norm(e1)
+    frame = np.ascontiguousarray([n, e1, np.cross(n, e1)], dtype=np.float64)
+    n_sites = ny * nx
+    return (T.reshape(-1), addr, gaddr, np.ascontiguousarray(neighbours, dtype=np.int64), frame,
+            int(mode), np.empty(n_sites, dtype=np.int64), np.empty(n_sites),
+            np.zeros(n_sites, dtype=np.uint8))
 
 
 @nb.njit(inline="always", **_OPT)
