@@ -17,10 +17,10 @@ from thinfilm.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
 
 JK = MEV_J / KB_J_PER_K  # kB T/J = 1 at T = JK kelvin (moment 1 muB, J = 1 meV)
 # small lattices, all shapes, both edge kinds (periodic triangular/honeycomb need even sizes);
-# square 2 x 2 periodic lists each neighbour twice (two bonds per pair)
+# 2 x 2 periodic grids list a neighbour several times (one bond per table entry)
 ISING = [("square", 4, 4, True), ("square", 3, 3, False), ("square", 2, 2, True),
-         ("triangular", 4, 4, True), ("triangular", 3, 4, False),
-         ("honeycomb", 4, 4, True), ("honeycomb", 3, 4, False)]
+         ("triangular", 4, 4, True), ("triangular", 3, 4, False), ("triangular", 2, 2, True),
+         ("honeycomb", 4, 4, True), ("honeycomb", 3, 4, False), ("honeycomb", 2, 2, True)]
 BETA_J = {"square": 0.4, "triangular": 0.25, "honeycomb": 0.6}
 
 
