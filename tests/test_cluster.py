@@ -151,8 +151,10 @@ def test_cluster_and_metropolis_agree_for_vector_spins(shape, kk, field):
     # both samplers must have exp(-E/kBT) as stationary distribution (the embedded-spin cluster
     # construction is exact: Wolff, Phys. Rev. Lett. 62, 361 (1989)), so <E> and <|m|> agree;
     # K/J = 0.1 easy axis (r = n), -0.1 easy plane (r in the plane), 0 (r anywhere), fields
-    # on and off (field in T, ~ J/mu_s scale 17 T). Near Tc(K/J = 0.1) ~ 0.6 J/kB (Torelli &
-    # Olsen, 2D Mater. 6, 015028 (2019)). Tolerance: 4 combined jackknife errors.
+    # on and off (field in T; J/mu_s is 17 T). kB T/J = 0.65: just below this code's Tc for
+    # K/J = 0.1 (Binder crossing at 0.72, benchmarks/cluster_tau.py; the Monte Carlo fit of
+    # Torelli & Olsen, 2D Mater. 6, 015028 (2019) gives 0.60). Tolerance: 4 combined jackknife
+    # errors.
     lat = Lattice(shape, 8, 8, 0.3, shape != "honeycomb")
     model = Model(lat, MU_B_J_PER_T, MEV_J, kk * MEV_J, (0, 0, 1), np.array(field))
     temp = 0.65 * JK
