@@ -1,4 +1,5 @@
-"""Equilibrium Metropolis Monte Carlo of a Model at fixed temperature: sweeps, samples, runs.
+"""Equilibrium Monte Carlo of a Model at fixed temperature: Metropolis sweeps, optional Wolff
+cluster moves, samples, runs.
 
 Units: spins are unit vectors; the sampled distribution is exp(-E/(kB T)) with E the Model
 energy in joules. A model with moment 1 muB and J = 1 meV has kB T/J = t at
@@ -10,23 +11,33 @@ vectorised across the rows of a class); each visit makes a Gaussian trial step, 
 axis reflection S -> S - 2(S.n)n and ``over_relaxation`` over-relaxation moves. The Gaussian
 width sigma is tuned toward acceptance 0.5 only inside :meth:`MonteCarlo.warmup`; it is frozen
 during sampling so detailed balance holds.
+
+The spins stay in the sweep kernel's banded layout for the whole run (see
+:mod:`thinfilm._kernels.banded`): sweeps and measurements work on it directly, and
+:attr:`MonteCarlo.spins` converts to (ny, nx, 3) only when read (cached until the next sweep).
 """
 
 import numpy as np
 
-from thinfilm.engines._kernels.metropolis import (
-    N_COUNTS,
-    make_work,
-    row_colouring,
-    row_sums,
-    row_sums_serial,
-    samples_with_work,
-    sweeps_with_work,
+from thinfilm.engines._kernels.banded import (
+    banded_row_sums,
+    banded_samples,
+    banded_sweeps,
+    from_banded,
+    to_banded,
 )
+from thinfilm.engines._kernels.metropolis import N_COUNTS, make_work, row_colouring
+from thinfilm.engines._kernels.wolff import N_STATS, make_cluster_work, mixed_samples, mixed_sweeps
 from thinfilm.input.units import KB_J_PER_K, MEV_J
 from thinfilm.model.parameters import Model
 
-__all__ = ["MonteCarlo"]
+__all__ = ["MonteCarlo", "cluster_moves_exact", "MOVES", "CLUSTER_DIRECTIONS"]
+
+MOVES = ("metropolis", "cluster")
+# reflection direction r of the cluster moves: the anisotropy axis n, a random direction in the
+# plane perpendicular to n, a random direction on the sphere; "auto" picks by the sign of K
+CLUSTER_DIRECTIONS = ("auto", "axis", "plane", "sphere")
+_MODE = {"axis": 0, "plane": 1, "sphere": 2}
 
 SIGMA_MIN = 1e-4
 SIGMA_MAX = 5.0  # beyond this the trial direction is nearly uniform on the sphere
@@ -34,8 +45,52 @@ TARGET_ACCEPTANCE = 0.5
 PARALLEL_MIN_SITES = 4096  # smaller lattices run single-threaded (thread wake-ups dominate)
 
 
+def _direction(model, direction):
+    if direction not in CLUSTER_DIRECTIONS:
+        raise ValueError(f"cluster direction must be one of {', '.join(CLUSTER_DIRECTIONS)}; "
+                         f"got {direction!r}")
+    if direction != "auto":
+        return direction
+    k = model.anisotropy_J
+    return "axis" if k > 0 else ("plane" if k < 0 else "sphere")
+
+
+def cluster_moves_exact(model, direction="auto"):
+    """Whether Wolff cluster moves sample exp(-E/kBT) of this model exactly.
+
+    The cluster flip reflects the spin component along r, S -> S - 2 (S.r) r. Exchange enters
+    the bond probabilities and the Zeeman change is accepted by Metropolis, both exact for any
+    r; the anisotropy -K (S.n)^2 is unchanged only for r = n or r perpendicular to n (any r if
+    K = 0).
+
+    Parameters
+    ----------
+    model : Model
+    direction : {"auto", "axis", "plane", "sphere"}
+        Choice of r (see :data:`CLUSTER_DIRECTIONS`); "auto": axis for K > 0, plane for
+        K < 0, sphere for K = 0.
+
+    Returns
+    -------
+    (bool, str)
+        Exactness and a one-sentence reason.
+    """
+    d = _direction(model, direction)
+    if d == "axis":
+        return True, "reflection along the anisotropy axis n keeps -K (S.n)^2 unchanged"
+    if d == "plane":
+        return True, ("reflection along a direction perpendicular to the anisotropy axis keeps "
+                      "-K (S.n)^2 unchanged")
+    if model.anisotropy_J == 0:
+        return True, "without anisotropy any reflection direction is exact"
+    return False, ("cluster moves along random directions change the anisotropy energy "
+                   f"(K = {model.anisotropy_meV:g} meV != 0); use direction 'axis' or 'plane' "
+                   "(or 'auto')")
+
+
 class MonteCarlo:
-    """Metropolis sampler of one Model at one temperature.
+    """Metropolis sampler (optionally with Wolff cluster moves) of one Model at one
+    temperature.
 
     Parameters
     ----------
@@ -58,10 +113,22 @@ class MonteCarlo:
     parallel : bool or None
         Threaded kernels; None (default) uses them for lattices of >= 4096 sites. Results are
         bitwise identical either way.
+    moves : tuple of str
+        ("metropolis",) (default) or ("metropolis", "cluster"). With "cluster" one sweep is
+        a Metropolis sweep followed by ``clusters_per_sweep`` Wolff cluster moves (serial;
+        see :mod:`thinfilm._kernels.wolff`); the Zeeman energy of a cluster flip is accepted
+        by Metropolis. Cluster moves alone are refused: they only flip the component along r.
+    cluster_direction : {"auto", "axis", "plane", "sphere"}
+        Reflection direction of the cluster moves (see :func:`cluster_moves_exact`; a
+        combination that is not exact raises ValueError).
+    clusters_per_sweep : int or None
+        Clusters per sweep; None tunes it in :meth:`warmup` to N / (mean cluster size), so the
+        clusters of one sweep cover about N sites (frozen while sampling; 1 until tuned).
     """
 
     def __init__(self, model, temperature_K, *, seed, initial_spins=None, sigma=0.5,
-                 reflection="auto", over_relaxation=1, stream=1, parallel=None):
+                 reflection="auto", over_relaxation=1, stream=1, parallel=None,
+                 moves=("metropolis",), cluster_direction="auto", clusters_per_sweep=None):
         if not isinstance(model, Model):
             raise TypeError("MonteCarlo needs a thinfilm.model.Model")
         if model.dipolar:
@@ -90,10 +157,40 @@ class MonteCarlo:
         self.temperature_K = temperature_K
         self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
         self._rows = np.empty((lat.ny, 4))
-        self._work = None  # kernel work arrays (about the size of the spins), see _kernel_work
         self.sweep_count = 0
         self.sigma = float(sigma)
+        # The state lives in the kernel's banded layout (work tuple: cbounds, chunks, bands, T,
+        # zc, buf, g, cnt); _host is its (ny, nx, 3) copy, refreshed lazily by `spins`.
+        self._host = np.empty((lat.ny, lat.nx, 3))
+        self._host_ok = False
+        self._work = make_work(self._host, self._order, self._bounds)
         self.spins = self._initial(initial_spins)
+        self._setup_clusters(moves, cluster_direction, clusters_per_sweep)
+
+    def _setup_clusters(self, moves, direction, per_sweep):
+        moves = (moves,) if isinstance(moves, str) else tuple(moves)
+        bad = [m for m in moves if m not in MOVES]
+        if bad or "metropolis" not in moves:
+            raise ValueError(f"moves must be ('metropolis',) or ('metropolis', 'cluster'); got "
+                             f"{moves!r} (cluster moves alone are not ergodic: they only flip "
+                             "the spin component along the reflection direction)")
+        self.moves = tuple(m for m in MOVES if m in moves)
+        self.cluster_direction = _direction(self.model, direction)
+        self._cl = None
+        self._cl_stats = np.zeros(N_STATS)
+        self.last_cluster_stats = None
+        if "cluster" not in self.moves:
+            return
+        ok, why = cluster_moves_exact(self.model, self.cluster_direction)
+        if not ok:
+            raise ValueError(why)
+        self._tune_clusters = per_sweep is None
+        self.clusters_per_sweep = 1 if per_sweep is None else int(per_sweep)
+        if self.clusters_per_sweep < 1:
+            raise ValueError("clusters_per_sweep must be >= 1")
+        lat = self.model.lattice
+        self._cl = make_cluster_work(self._work[3], self._work[2], lat.periodic, lat.neighbours,
+                                     self._axis, _MODE[self.cluster_direction])
 
     # ---------------------------------------------------------------- state
     @property
@@ -134,31 +231,48 @@ class MonteCarlo:
 
     @property
     def spins(self):
-        """Current spins (ny, nx, 3), the live array (copy before keeping it)."""
-        return self._spins
+        """Current spins (ny, nx, 3), a read-only view.
+
+        The sampler keeps its spins in the kernel's banded layout; this converts them on the
+        first access after a sweep and caches the result until the next sweep, reusing one
+        buffer (copy before keeping it). Assign to ``spins`` to change the state.
+        """
+        if not self._host_ok:
+            from_banded(self._work[3], self._host, self._work[2], self.parallel)
+            self._host_ok = True
+        view = self._host.view()
+        view.setflags(write=False)
+        return view
 
     @spins.setter
     def spins(self, value):
-        self._spins = self._checked(value)
+        self._host[...] = self._checked(value)
+        to_banded(self._host, self._work[3], self._work[2], self._periodic, self.parallel)
+        self._host_ok = True
 
     @property
     def state(self):
         """Resumable state: dict with spins (copy), sweep (int), sigma (float)."""
-        return {"spins": self._spins.copy(), "sweep": int(self.sweep_count),
-                "sigma": float(self.sigma)}
+        out = {"spins": np.array(self.spins), "sweep": int(self.sweep_count),
+               "sigma": float(self.sigma)}
+        if self._cl is not None:
+            out["clusters_per_sweep"] = int(self.clusters_per_sweep)
+        return out
 
     @state.setter
     def state(self, value):
         self.spins = value["spins"]
         self.sweep_count = int(value["sweep"])
         self.sigma = float(value["sigma"])
+        if self._cl is not None and "clusters_per_sweep" in value:
+            self.clusters_per_sweep = int(value["clusters_per_sweep"])
 
     # ---------------------------------------------------------------- moves
-    def _kernel_work(self):
-        """Kernel work arrays (transposed spins, scratch), made on first use and kept."""
-        if self._work is None:
-            self._work = make_work(self._spins, self._order, self._bounds)
-        return self._work
+    def _kernel_args(self):
+        """Banded spins, work arrays, row count and model arguments for the banded kernels."""
+        cbounds, chunks, bands, T, zc, buf, g, cnt = self._work
+        return (T, zc, cbounds, chunks, bands, self.model.lattice.ny, self._code, self._periodic,
+                self._jt, self._kt, self._axis, self._b)
 
     def sweep(self, n=1):
         """Make n sweeps at the current (frozen) sigma.
@@ -166,33 +280,64 @@ class MonteCarlo:
         Returns
         -------
         dict
-            Acceptance ratios over these sweeps: "gaussian", "reflection", "over_relaxation".
+            Acceptance ratios over these sweeps: "gaussian", "reflection", "over_relaxation",
+            and with cluster moves "cluster" (accepted cluster flips) and "cluster_size" (mean
+            sites per cluster).
         """
         n = int(n)
         self._counts[:] = 0
+        self._cl_stats[:] = 0.0
         if n > 0:
-            sweeps_with_work(self._spins, *self._kernel_work(), self._code, self._periodic,
-                             self._jt, self._kt, self._axis, self._b, self._beta, self.sigma,
-                             self.seed, self.stream, self.sweep_count, n, self.reflection,
-                             self.n_or, self._counts, self.parallel)
+            buf, g, cnt = self._work[5:]
+            head = (*self._kernel_args(), self._beta, self.sigma, self.seed, self.stream,
+                    self.sweep_count, n, self.reflection, self.n_or, self._counts, buf, g, cnt,
+                    self.parallel)
+            if self._cl is None:
+                banded_sweeps(*head)
+            else:
+                mixed_sweeps(*head, *self._cl[:6], self.clusters_per_sweep, *self._cl[6:],
+                             self._cl_stats)
+            self._host_ok = False
             self.sweep_count += n
-        visits = max(n, 1) * self.model.lattice.n_sites
-        acc = self._counts.sum(axis=0)
-        return {"gaussian": acc[0] / visits,
-                "reflection": acc[1] / visits if self.reflection else float("nan"),
-                "over_relaxation": acc[2] / (visits * self.n_or) if self.n_or else float("nan")}
+        return self._acceptance(self._counts.sum(axis=0), max(n, 1))
+
+    def _acceptance(self, acc, n_sweeps):
+        visits = n_sweeps * self.model.lattice.n_sites
+        out = {"gaussian": acc[0] / visits,
+               "reflection": acc[1] / visits if self.reflection else float("nan"),
+               "over_relaxation": acc[2] / (visits * self.n_or) if self.n_or else float("nan")}
+        if self._cl is not None:
+            st = self._cl_stats
+            made = max(st[0], 1.0)
+            out["cluster"] = st[2] / made
+            out["cluster_size"] = st[1] / made
+            # improved estimator of <(r.m)^2> per spin (valid for B.r = 0), see kernels.wolff
+            self.last_cluster_stats = {"clusters": int(st[0]), "mean_size": st[1] / made,
+                                       "acceptance": st[2] / made,
+                                       "m_r2_improved": st[3] / made / self.model.lattice.n_sites}
+        return out
 
     def warmup(self, n, *, tune=True, chunk=10):
-        """Make n sweeps; with tune, adjust sigma after every chunk toward acceptance 0.5.
+        """Make n sweeps; with tune, adjust sigma after every chunk toward acceptance 0.5 (and,
+        if it is tuned, clusters_per_sweep to N / mean cluster size: of the chunk in the first
+        half of the warm-up, of all chunks of the second half so far afterwards).
 
         Returns the Gaussian acceptance ratio of the last chunk.
         """
         done = 0
         acc = float("nan")
+        made = sites = 0.0
         while done < n:
             m = min(chunk, n - done)
-            acc = self.sweep(m)["gaussian"]
+            res = self.sweep(m)
+            acc = res["gaussian"]
             done += m
+            if tune and self._cl is not None and self._tune_clusters:
+                if 2 * done > n:
+                    made += self._cl_stats[0]
+                    sites += self._cl_stats[1]
+                mean = sites / made if made else res["cluster_size"]
+                self.clusters_per_sweep = max(1, int(round(self.model.lattice.n_sites / mean)))
             if tune:
                 # multiplicative update, factor exp(2 (a - 0.5)) in [0.37, 2.7]
                 s = self.sigma * np.exp(2.0 * (acc - TARGET_ACCEPTANCE))
@@ -209,9 +354,9 @@ class MonteCarlo:
             energy_J (per spin, J), m_vector (3,) (mean spin), m_order (component along the
             anisotropy axis if K > 0, else abs(m_vector)).
         """
-        sums = row_sums if self.parallel else row_sums_serial
-        sums(self._spins, self._code, self._periodic, self._jt, self._kt, self._axis, self._b,
-             self._rows)
+        T, zc, _, _, bands = self._kernel_args()[:5]
+        banded_row_sums(T, zc, bands, self._code, self._periodic, self._jt, self._kt, self._axis,
+                        self._b, self._rows, self.parallel)
         tot = self._rows.sum(axis=0)
         return self._per_spin(tot[None, :])[0]
 
@@ -232,11 +377,16 @@ class MonteCarlo:
         out = np.empty((n_samples, 4))
         self._counts[:] = 0
         if n_samples > 0:
-            samples_with_work(self._spins, *self._kernel_work(), self._code, self._periodic,
-                              self._jt, self._kt, self._axis, self._b, self._beta, self.sigma,
-                              self.seed, self.stream, self.sweep_count, n_samples, sample_every,
-                              self.reflection, self.n_or, self._counts, self._rows, out,
-                              self.parallel)
+            buf, g, cnt = self._work[5:]
+            head = (*self._kernel_args(), self._beta, self.sigma, self.seed, self.stream,
+                    self.sweep_count, n_samples, sample_every, self.reflection, self.n_or,
+                    self._counts, buf, g, cnt, self._rows, out, self.parallel)
+            if self._cl is None:
+                banded_samples(*head)
+            else:
+                mixed_samples(*head, *self._cl[:6], self.clusters_per_sweep, *self._cl[6:],
+                              self._cl_stats)
+            self._host_ok = False
             self.sweep_count += n_samples * sample_every
         return out
 
@@ -265,7 +415,10 @@ class MonteCarlo:
         dict of arrays
             energy_J, energy_meV (n_samples,) per spin; m_vector (n_samples, 3); m_order
             (n_samples,); sweep (n_samples,) sweep count at each sample; plus scalars
-            temperature_K, n_sites, sigma, acceptance (dict, over the sampling sweeps).
+            temperature_K, n_sites, sigma, acceptance (dict, over the sampling sweeps); with
+            cluster moves also clusters_per_sweep and cluster (dict: clusters, mean_size in
+            sites, acceptance, m_r2_improved = improved estimator of <(r.m)^2>, valid for
+            B.r = 0).
         """
         self.warmup(n_warmup, tune=tune)
         n_samples = int(n_samples)
@@ -274,6 +427,7 @@ class MonteCarlo:
             raise ValueError("sample_every must be >= 1")
         tot = np.empty((n_samples, 4))
         acc_sum = np.zeros(N_COUNTS, dtype=np.int64)
+        self._cl_stats[:] = 0.0  # accumulated over the chunks of this run
         # chunks of about 2e6 site visits between progress calls
         per_sample = sample_every * self.model.lattice.n_sites
         chunk = max(1, min(n_samples, 2_000_000 // per_sample))
@@ -290,12 +444,12 @@ class MonteCarlo:
         e = self.model.moment_J_per_T * tot[:, 3] / n
         mo = mv @ self._axis if self.model.anisotropy_J > 0 else np.linalg.norm(mv, axis=1)
         sw = self.sweep_count - (n_samples - 1 - np.arange(n_samples)) * sample_every
-        visits = max(n_samples * int(sample_every), 1) * self.model.lattice.n_sites
-        acceptance = {"gaussian": acc_sum[0] / visits,
-                      "reflection": acc_sum[1] / visits if self.reflection else float("nan"),
-                      "over_relaxation": (acc_sum[2] / (visits * self.n_or) if self.n_or
-                                          else float("nan"))}
-        return {"energy_J": e, "energy_meV": e / MEV_J, "m_vector": mv, "m_order": mo,
-                "sweep": sw, "temperature_K": self.temperature_K,
-                "n_sites": self.model.lattice.n_sites, "sigma": self.sigma,
-                "acceptance": acceptance}
+        acceptance = self._acceptance(acc_sum, max(n_samples * sample_every, 1))
+        out = {"energy_J": e, "energy_meV": e / MEV_J, "m_vector": mv, "m_order": mo,
+               "sweep": sw, "temperature_K": self.temperature_K,
+               "n_sites": self.model.lattice.n_sites, "sigma": self.sigma,
+               "acceptance": acceptance}
+        if self._cl is not None:
+            out["clusters_per_sweep"] = self.clusters_per_sweep
+            out["cluster"] = self.last_cluster_stats
+        return out
