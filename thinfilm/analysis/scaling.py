@@ -127,7 +127,8 @@ def _fit_fixed(model, data, sel, p0, lo, hi, yfield="y"):
 
 
 def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.5), degree=3,
-                       correction=None, omega_guess=1.0, error_method="curvature", n_boot=200, seed=0):
+                       correction=None, omega_guess=1.0, error_method="curvature", n_boot=200,
+                       seed=0):
     """Data collapse of one or several quantities sharing Tc and nu.
 
     Parameters
@@ -193,8 +194,8 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
     hi = np.array(g_hi + [np.inf] * (n_par - model.n_global))
     tc, nu = float(tc_guess_K), float(nu_guess)
     sel = _select(data, tc, nu, (lo_w, hi_w))
-    p = None
-    for it in range(1, _MAX_SELECT + 1):
+    p, n_iter = None, 0
+    for n_iter in range(1, _MAX_SELECT + 1):  # noqa: B007 (n_iter is reported)
         _check(data, sel, n_par)
         if p is None:
             p = np.concatenate([[tc, nu] + ([om0] if model.fit_omega else [])]
@@ -247,7 +248,7 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
         "coefficients": {n: q[: model.degree + 1].tolist() for n, q in qs.items()},
         "correction_amplitude": ({n: float(q[-1]) for n, q in qs.items()} if model.has_corr
                                  else None),
-        "x_scale": scale, "degree": model.degree, "n_iter": it,
+        "x_scale": scale, "degree": model.degree, "n_iter": n_iter,
     }
 
 
