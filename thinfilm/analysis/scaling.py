@@ -9,7 +9,8 @@ Quality measure (our choice): one smooth master curve per quantity, a polynomial
 conditioning), optionally plus an additive correction ``a L^(-omega)``. Tc, nu (and a, omega)
 and the coefficients are fitted together by weighted least squares; the collapse quality is the
 reduced chi^2 of the data about the master curve. Only points with x inside a fixed window
-enter; the selection is redone with the fitted Tc, nu until it no longer changes, so the final
+enter; the selection is redone with the fitted Tc, nu until it no longer changes (or, when
+edge points move in and out, until it cycles: then the cycle's best fit is kept), so the final
 fit is a smooth function of its parameters on a fixed set of points. Errors of Tc and nu come
 from the curvature (inverse of J^T J at the minimum, scaled by sqrt(chi2/dof) when that exceeds
 1) or from a parametric bootstrap over the data errors (same selection, refits of redrawn data).
@@ -164,7 +165,9 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
         errors), x_window, x_range (min, max x of the points used), n_points, sizes (sizes with
         points in the window), used ({name: bool mask over the input rows}), x ({name: x of
         every row at the fitted Tc, nu}), coefficients ({name: master-curve coefficients
-        c_0..c_d}), correction_amplitude ({name: a} or None), x_scale (s), degree, n_iter.
+        c_0..c_d}), correction_amplitude ({name: a} or None), x_scale (s), degree, n_iter,
+        selection_settled (False when the window selection cycled between fits; the fit of the
+        cycle with the smallest chi^2 per point is returned).
 
     Raises
     ------
@@ -194,7 +197,7 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
     hi = np.array(g_hi + [np.inf] * (n_par - model.n_global))
     tc, nu = float(tc_guess_K), float(nu_guess)
     sel = _select(data, tc, nu, (lo_w, hi_w))
-    p, n_iter = None, 0
+    p, n_iter, settled, seen = None, 0, True, []
     for n_iter in range(1, _MAX_SELECT + 1):  # noqa: B007 (n_iter is reported)
         _check(data, sel, n_par)
         if p is None:
@@ -203,8 +206,19 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
                                   for n in data])
         res = _fit_fixed(model, data, sel, np.clip(p, lo, hi), lo, hi)
         p = res.x
+        key = b"".join(np.packbits(sel[n]).tobytes() for n in data)
+        seen.append((key, sel, res))
         new = _select(data, p[0], p[1], (lo_w, hi_w))
-        if all(np.array_equal(new[n], sel[n]) for n in data):
+        new_key = b"".join(np.packbits(new[n]).tobytes() for n in data)
+        if new_key == key:
+            break
+        keys = [k for k, _, _ in seen]
+        if new_key in keys:
+            # the selection cycles (points at the window edges move in and out): keep the fit
+            # of the cycle with the smallest chi2 per point, and say so
+            cyc = seen[keys.index(new_key):]
+            _, sel, res = min(cyc, key=lambda c: float(np.sum(c[2].fun**2)) / c[2].fun.size)
+            p, settled = res.x, False
             break
         sel = new
     else:
@@ -249,6 +263,7 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
         "correction_amplitude": ({n: float(q[-1]) for n, q in qs.items()} if model.has_corr
                                  else None),
         "x_scale": scale, "degree": model.degree, "n_iter": n_iter,
+        "selection_settled": settled,
     }
 
 
