@@ -217,10 +217,10 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
     out["amplitude_nm"], out["amplitude_err_nm"] = a, a * float(err["ln_a"])
     if "ln_a_below" in v:
         out["amplitude_below_nm"] = float(np.exp(v["ln_a_below"]))
-    elif amplitude_ratio:
-        out["amplitude_below_nm"] = a / amplitude_ratio
-    else:  # only the below side was fitted: ln_a is its amplitude
+    elif fitted == ["below"] and not amplitude_ratio:  # ln_a is the amplitude below Tc
         out["amplitude_below_nm"], out["amplitude_nm"] = a, float("nan")
+    else:
+        out["amplitude_below_nm"] = a / amplitude_ratio if amplitude_ratio else float("nan")
     out["correction"] = {s: float(v.get(f"c_{s}", 0.0)) for s in fitted}
     out["t_range"], out["max_used_nm"] = {}, {}
     for s in fitted:

@@ -134,7 +134,8 @@ def bkt_fit(temperatures_K, xi_nm, xi_err_nm, *, film_side_nm=None, min_ratio=6.
     Raises
     ------
     InputError
-        Fewer than 5 usable points, or no minimum of chi^2 below the lowest temperature.
+        Fewer than 5 usable points, no minimum of chi^2 below the lowest temperature, or
+        b <= 0 (the length does not fall with temperature).
     """
     T = np.asarray(temperatures_K, dtype=np.float64).ravel()
     xi = np.asarray(xi_nm, dtype=np.float64).ravel()
@@ -152,11 +153,11 @@ def bkt_fit(temperatures_K, xi_nm, xi_err_nm, *, film_side_nm=None, min_ratio=6.
     grid = np.min(Tu) * (1.0 - np.geomspace(1e-3, 0.95, n_grid))
     chis = np.array([_profile(tb, Tu, ly, w)[0] for tb in grid])
     k = int(np.argmin(chis))
-    if k in (0, n_grid - 1):
-        raise InputError(f"bkt_fit: the best T_BKT lies at the edge of the search range "
-                         f"({grid[k]:.4g} K): the data do not show an essential singularity "
-                         f"below {np.min(Tu):.4g} K")
     _, c0 = _profile(grid[k], Tu, ly, w)
+    if k in (0, n_grid - 1) or c0[1] <= 0:
+        raise InputError(f"bkt_fit: no essential singularity below {np.min(Tu):.4g} K: the best "
+                         f"T_BKT lies at the edge of the search range ({grid[k]:.4g} K) or the "
+                         f"length does not fall with T (b = {c0[1]:.3g})")
 
     def resid(p):
         return (p[1] + p[2] / np.sqrt(Tu / p[0] - 1.0) - ly) * w
