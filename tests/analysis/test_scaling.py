@@ -111,6 +111,16 @@ def test_collapse_refuses_too_few_points_in_the_window():
 
 
 def test_collapse_refuses_more_parameters_than_points():
-    L, T, y, e = synthetic(0, sizes=(8, 16), n_t=4)
-    with pytest.raises(InputError, match="points inside the x window for"):
+    # L = 8 with 6 points and L = 16 with 3 inside the window: 9 points for 7 parameters
+    a = synthetic(0, sizes=(8,), n_t=6)
+    b = synthetic(1, sizes=(16,), n_t=3)
+    L, T, y, e = (np.concatenate([u, v]) for u, v in zip(a, b, strict=True))
+    with pytest.raises(InputError, match="points inside the x window for 7 parameters"):
         collapse_fit(L, T, y, e, tc_guess_K=TC, x_window=(-1.3, 1.3), degree=4)
+
+
+def test_collapse_refuses_a_degree_as_high_as_the_points_per_size():
+    # 5 points per size at the same x: a degree-5 polynomial could pass through all of them
+    L, T, y, e = synthetic(0, sizes=(8, 16, 32), n_t=5)
+    with pytest.raises(InputError, match="degree 5 needs at least 7 points of one size"):
+        collapse_fit(L, T, y, e, tc_guess_K=TC, x_window=(-1.3, 1.3), degree=5)

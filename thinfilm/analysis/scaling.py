@@ -93,7 +93,7 @@ def _select(data, tc, nu, window):
             & (scaling_variable(d["L"], d["T"], tc, nu) <= window[1]) for n, d in data.items()}
 
 
-def _check(data, sel, n_par):
+def _check(data, sel, n_par, degree, final=True):
     for n, d in data.items():
         per = {int(L): int(np.sum(sel[n] & (d["L"] == L))) for L in np.unique(d["L"][d["ok"]])}
         good = [L for L, k in per.items() if k >= 3]
@@ -104,6 +104,12 @@ def _check(data, sel, n_par):
             raise InputError(f"collapse: {n!r}: too few points inside the x window: points per "
                              f"size {per}; at least 2 sizes need 3 or more. Widen x_window, add "
                              f"temperatures nearer Tc or check tc_guess_K")
+        if final and max(per.values()) < degree + 2:
+            # sizes measured at the same x would let a polynomial with as many coefficients
+            # as distinct x values pass through every point: a spurious perfect collapse
+            raise InputError(f"collapse: {n!r}: degree {degree} needs at least {degree + 2} "
+                             f"points of one size inside the x window (have {per}); lower the "
+                             f"degree or add temperatures")
     n_pts = sum(int(s.sum()) for s in sel.values())
     if n_pts - n_par < 3:
         raise InputError(f"collapse: {n_pts} points inside the x window for {n_par} parameters; "
@@ -199,7 +205,7 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
     sel = _select(data, tc, nu, (lo_w, hi_w))
     p, n_iter, settled, seen = None, 0, True, []
     for n_iter in range(1, _MAX_SELECT + 1):  # noqa: B007 (n_iter is reported)
-        _check(data, sel, n_par)
+        _check(data, sel, n_par, model.degree, final=False)
         if p is None:
             p = np.concatenate([[tc, nu] + ([om0] if model.fit_omega else [])]
                                + [_linear_start(model, data[n], sel[n], tc, nu, om0 or 1.0)
@@ -225,11 +231,16 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
         raise InputError(f"collapse: the set of points inside x_window {x_window!r} keeps "
                          f"changing between fits (Tc, nu not settled after {_MAX_SELECT} "
                          f"selections); try another tc_guess_K or a wider window")
-    n_pts = _check(data, sel, n_par)
+    n_pts = _check(data, sel, n_par, model.degree)
     chi2 = float(np.sum(res.fun**2))
     dof = n_pts - n_par
-    jtj = res.jac.T @ res.jac
-    cov = np.linalg.pinv(jtj)
+    sv = np.linalg.svd(res.jac, compute_uv=False)
+    if sv[-1] <= 1e-9 * sv[0]:
+        raise InputError(f"collapse: Tc, nu and the master curve are not all determined by the "
+                         f"{n_pts} points in the window (degenerate fit: the points take too few "
+                         f"distinct x values for degree {model.degree}); lower the degree or add "
+                         f"temperatures")
+    cov = np.linalg.pinv(res.jac.T @ res.jac)
     factor = float(np.sqrt(max(1.0, chi2 / dof)))
     g = model.n_global
     tc_err, nu_err = np.sqrt(np.diag(cov)[:2]) * factor
