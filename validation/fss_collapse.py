@@ -12,6 +12,7 @@ References: Tc = 2/ln(1 + sqrt 2) = 2.269185 J/kB and nu = 1 (Onsager, Phys. Rev
 Tc is 2.269185 (1 - 2.269185/1000) = 2.2640 (derived in validation/ising_tc.py).
 
     python validation/fss_collapse.py [--sweeps 100000] [--seed 1] [--save rows.npy]
+        [--load rows.npy] [--figure collapse.png]
 
 Units: moment 1 muB and J = 1 meV, so kB T/J = 1 is 11.6045 K; results printed in J/kB.
 """
@@ -88,6 +89,37 @@ def fit(rows, **kw):
             "binder": collapse_fit(*u, **kw), "xi_over_L": collapse_fit(*xl, **kw)}
 
 
+def figure(rows, fits, path):
+    """Collapse plot: U4 and xi/L against x = t L^(1/nu) at the joint fit, with master curves."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    from thinfilm.analysis.scaling import master_curve, scaling_variable
+
+    f = fits["joint"]
+    x = scaling_variable(rows[:, 0], rows[:, 1], f["tc_K"], f["nu"])
+    xs = np.linspace(*f["x_window"], 200)
+    fig, axes = plt.subplots(1, 2, figsize=(8, 3.4), layout="constrained")
+    for ax, (name, col, label) in zip(axes, (("binder", 2, "U4"), ("xi_over_L", 4, "xi/L")),
+                                      strict=True):
+        for L in SIZES:
+            k = rows[:, 0] == L
+            ax.errorbar(x[k], rows[k, col], rows[k, col + 1], fmt="o", ms=3, label=f"L = {L}")
+        ax.plot(xs, master_curve(f, xs, name), "k-", lw=1, label="master curve")
+        ax.axvspan(*f["x_window"], color="0.9", zorder=0)
+        ax.set_xlabel("x = t L^(1/nu) (1)")
+        ax.set_ylabel(f"{label} (1)")
+    handles, labels = axes[0].get_legend_handles_labels()
+    fig.legend(handles, labels, loc="outside right center")
+    fig.suptitle(f"Tc = {f['tc_K']:.4f}({f['tc_err_K'] * 1e4:.0f}) J/kB, "
+                 f"nu = {f['nu']:.3f}({f['nu_err'] * 1e3:.0f}), chi2/dof = {f['chi2_dof']:.2f}",
+                 fontsize=9)
+    fig.savefig(path, dpi=120)
+    plt.close(fig)
+
+
 def main():
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--sweeps", type=int, default=100000, help="sweeps per point at L = 32 "
@@ -95,6 +127,7 @@ def main():
     p.add_argument("--seed", type=int, default=1)
     p.add_argument("--save", help="write the measured rows to this .npy file")
     p.add_argument("--load", help="refit rows saved with --save instead of simulating")
+    p.add_argument("--figure", help="write the collapse plot to this .png file")
     args = p.parse_args()
     t0 = time.time()
     rows = np.load(args.load) if args.load else scan(args.sweeps, args.seed)
@@ -111,7 +144,11 @@ def main():
               f"K/J = 1000 shift {TC_K1000:.4f}: {(f['tc_K'] - TC_K1000) / f['tc_err_K']:+.1f} "
               f"sigma)  nu = {f['nu']:.3f} +- {f['nu_err']:.3f}  chi2/dof = {f['chi2_dof']:.2f} "
               f"(dof {f['dof']})  x in [{f['x_range'][0]:.2f}, {f['x_range'][1]:.2f}]")
-    print(check_universality(fit(rows)["joint"], 1000.0)["verdict"])
+    fits = fit(rows)
+    print(check_universality(fits["joint"], 1000.0)["verdict"])
+    if args.figure:
+        figure(rows, fits, args.figure)
+        print(f"figure {args.figure}")
     print(f"wall time {time.time() - t0:.0f} s")
 
 
