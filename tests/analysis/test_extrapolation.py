@@ -42,8 +42,8 @@ def fit(seed, **kw):
 
 
 def test_extrapolation_to_smaller_t_recovers_the_exact_xi_with_correct_coverage():
-    # targets at |t| = 0.03, closer to Tc than any fitted point (the t = 0.06 points are also
-    # dropped above Tc: xi = 11.7 > 64/6); 20 independent data sets, one target per side
+    # targets at |t| = 0.03, closer to Tc than any fitted point (|t| >= 0.06, xi <= 9.7 nm);
+    # 20 independent data sets, one target per side
     t_q = np.array([0.03, -0.03])
     Tq = TC * (1 + t_q)
     n = 20

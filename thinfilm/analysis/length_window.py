@@ -78,7 +78,7 @@ def temperatures_for_length(fit, target_nm, *, strict=True):
             edges[s] = errs[s] = None
             reasons[s] = msg
             continue
-        edges[s], ts[s] = r
+        edges[s], ts[s] = float(r[0]), float(r[1])
         g = np.zeros(p.size)
         for i in range(p.size):
             h = 1e-3 * np.sqrt(cov[i, i]) if cov[i, i] > 0 else 1e-7 * (abs(p[i]) + 1.0)
