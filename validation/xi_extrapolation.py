@@ -75,7 +75,8 @@ def main():
 
         fig, ax = plt.subplots(figsize=(6, 3.6), layout="constrained")
         ax.errorbar(T, y, e, fmt="o", ms=3, label="data (2 % noise)")
-        ax.plot(T[~f["used"]], y[~f["used"]], "x", color="r", label="not used (xi > L/6 or |t| > t_max)")
+        ax.plot(T[~f["used"]], y[~f["used"]], "x", color="r",
+                label="not used (xi > L/6 or |t| > t_max)")
         for s in f["sides"]:
             lo, hi = f["valid_range_K"][s]
             g = np.linspace(lo, hi, 200)
