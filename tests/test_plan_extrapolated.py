@@ -1,0 +1,101 @@
+"""Plan helpers for finite-size scaling and extrapolated lengths (thinfilm.plan.extrapolated).
+
+Synthetic observables tables: the exact square-Ising correlation length above and below Tc,
+xi = 1/[2(K* - K)] and 1/[4(K - K*)], tanh K* = exp(-2K) (Onsager 1944; McCoy and Wu 1973,
+textbook; below-Tc form from memory), in nm for a 1 nm cell, with 2 % noise; a U4-like
+scaling curve of x = t L (nu = 1, Onsager 1944). Temperatures in units of J/kB.
+"""
+
+import numpy as np
+import pytest
+
+from thinfilm.input.errors import InputError
+from thinfilm.plan.extrapolated import (
+    EXTRAPOLATION_COLUMNS,
+    collapse_from_table,
+    extrapolated_lengths,
+)
+
+TC = 2.0 / np.log(1.0 + np.sqrt(2.0))
+
+
+def xi_exact(T):
+    K = 1.0 / np.asarray(T, dtype=float)
+    ks = np.arctanh(np.exp(-2.0 * K))
+    return np.where(T > TC, 1.0 / (2.0 * (ks - K)), 1.0 / (4.0 * (K - ks)))
+
+
+def table(seed=0, sizes=(16, 32, 64)):
+    rng = np.random.default_rng(seed)
+    cols = {k: [] for k in ("size", "temperature_K", "binder", "binder_err",
+                            "correlation_length_nm", "correlation_length_nm_err",
+                            "mean_domain_area_nm2", "mean_domain_area_nm2_err")}
+    for L in sizes:
+        T = TC * (1 + np.linspace(-0.3, 0.3, 25))
+        T = T[np.abs(T - TC) > 1e-9]
+        x = (T - TC) / TC * L
+        u = (2 / 3) / (1 + np.exp(1.5 * x + 0.3))
+        xi = np.minimum(xi_exact(T), L / 3.0)  # a finite film caps xi (crudely)
+        d = 2.0 * xi  # arbitrary domain diameter, only to exercise the column
+        cols["size"] += [L] * T.size
+        cols["temperature_K"] += list(T)
+        cols["binder"] += list(u + 0.004 * rng.standard_normal(T.size))
+        cols["binder_err"] += [0.004] * T.size
+        cols["correlation_length_nm"] += list(xi * (1 + 0.02 * rng.standard_normal(T.size)))
+        cols["correlation_length_nm_err"] += list(0.02 * xi)
+        area = np.pi * d**2 / 4
+        cols["mean_domain_area_nm2"] += list(area * (1 + 0.04 * rng.standard_normal(T.size)))
+        cols["mean_domain_area_nm2_err"] += list(0.04 * area)
+    return {k: np.array(v, dtype=float) for k, v in cols.items()}
+
+
+def test_extrapolated_lengths_table_has_flags_and_covers_the_exact_xi():
+    tab = table(1)
+    out = extrapolated_lengths(tab, 1.0, tc_K=TC, tc_err_K=0.002, anisotropy=1.0,
+                               resolution_nm=20.0, amplitude_ratio=2.0)
+    cols = out["columns"]
+    assert set(cols) == set(EXTRAPOLATION_COLUMNS)
+    flags = np.array(cols["correlation_length_flag"])
+    assert set(flags) <= {"measured", "extrapolated"} and "extrapolated" in flags
+    T = np.array(cols["temperature_K"])
+    xi = np.array(cols["correlation_length_nm"])
+    err = np.array(cols["correlation_length_err_nm"])
+    ext = flags == "extrapolated"
+    # extrapolated rows reach beyond what the largest film (64 nm / 6) could hold ...
+    assert xi[ext].max() > 64.0 / 6
+    # ... and agree with the exact length within 4 of their errors
+    assert np.all(np.abs(xi - xi_exact(T)) < 4 * err)
+    lo, hi = out["resolved_window"]["window_K"]
+    assert lo < TC < hi
+    assert out["fits"]["correlation_length"]["nu"] == 1.0
+    assert "domain_diameter" in out["fits"]
+
+
+def test_extrapolated_lengths_declines_a_power_law_for_easy_plane():
+    out = extrapolated_lengths(table(2), 1.0, tc_K=TC, tc_err_K=0.002, anisotropy=-1.0)
+    assert out["columns"] is None and "BKT" in out["note"]
+
+
+def binder_table(seed, sizes=(16, 32, 64)):
+    rng = np.random.default_rng(seed)
+    x = np.tile(np.linspace(-1.2, 1.2, 9), len(sizes))
+    L = np.repeat(np.array(sizes, dtype=float), 9)
+    u = (2 / 3) / (1 + np.exp(1.5 * x + 0.3))
+    return {"size": L, "temperature_K": TC * (1 + x / L),
+            "binder": u + 0.004 * rng.standard_normal(u.size), "binder_err": np.full(u.size, 0.004),
+            "correlation_length_nm": 0.9 * np.exp(-0.8 * x) * L,
+            "correlation_length_nm_err": 0.01 * L}
+
+
+def test_collapse_from_table_gives_tc_and_the_ising_check():
+    tab = binder_table(3)
+    out = collapse_from_table(tab, {16: 16.0, 32: 32.0, 64: 64.0}, tc_guess_K=2.25,
+                              anisotropy=1.0, x_window=(-1.0, 1.0))
+    assert abs(out["tc_K"] - TC) < 4 * out["tc_err_K"]
+    assert out["universality"]["consistent"] is True
+    both = collapse_from_table(tab, 1.0, tc_guess_K=2.25, anisotropy=1.0, x_window=(-1.0, 1.0),
+                               quantities=("binder", "xi_over_L"))
+    assert both["tc_err_K"] < out["tc_err_K"] and abs(both["tc_K"] - TC) < 4 * both["tc_err_K"]
+    with pytest.raises(InputError, match="no entry for size"):
+        collapse_from_table(tab, {16: 16.0}, tc_guess_K=2.25, anisotropy=1.0,
+                            quantities=("xi_over_L",))
