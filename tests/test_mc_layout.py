@@ -7,12 +7,11 @@ import pytest
 
 from thinfilm.engines._kernels.metropolis import (
     N_COUNTS,
-    metropolis_samples,
     metropolis_sweeps,
     metropolis_sweeps_serial,
     row_colouring,
-    row_sums_serial,
 )
+from thinfilm.engines._kernels.metropolis_measure import metropolis_samples, row_sums_serial
 from thinfilm.engines.montecarlo import MonteCarlo
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 from thinfilm.model.lattice import Lattice

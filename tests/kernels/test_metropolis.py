@@ -9,10 +9,12 @@ import reference
 from thinfilm.engines._kernels import metropolis as mk
 from thinfilm.engines._kernels.metropolis import (
     chunk_table,
-    kernel_energy_changes,
     metropolis_sweeps,
     metropolis_sweeps_serial,
     row_colouring,
+)
+from thinfilm.engines._kernels.metropolis_measure import (
+    kernel_energy_changes,
     row_sums_serial,
     site_energy_change,
 )

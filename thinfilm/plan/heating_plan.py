@@ -25,9 +25,9 @@ from thinfilm._io import atomic_write_text, write_json
 from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
 from thinfilm.input.errors import InputError, ScenarioError
 from thinfilm.input.scenario import Scenario, load_scenario
-from thinfilm.input.units import parse_quantity
 from thinfilm.plan.curves import clean_json as _clean
 from thinfilm.plan.curves import crossing, fill_errors, schedule, smooth_log
+from thinfilm.plan.instrument import _quantity, instrument_values
 from thinfilm.runs.folder import read_csv_table
 from thinfilm.runs.sweep import run_sweep
 
@@ -36,68 +36,6 @@ __all__ = ["make_plan", "instrument_values", "analyse_sweep", "LLG_FRACTIONS"]
 #: LLG run temperatures as fractions of Tc (those inside the sweep range are used).
 LLG_FRACTIONS = (0.8, 0.9, 0.97, 1.03, 1.1, 1.25, 1.5)
 NEEDED = ("temperature_K", "m_abs", "correlation_length_nm", "mean_domain_area_nm2")
-
-
-def _quantity(option, text, kind, example):
-    try:
-        v = parse_quantity(text, kind)
-    except ValueError as exc:
-        raise InputError(f"{option} {text!r}: {exc}. Give the value with a {kind} unit, for "
-                         f"example {option} \"{example}\".") from None
-    if not v > 0:
-        raise InputError(f"{option} {text!r}: must be positive; give a {kind} greater than zero, "
-                         f"for example {option} \"{example}\".")
-    return v
-
-
-def instrument_values(scenario, resolution=None, exposure=None, field_of_view=None, name=None):
-    """Instrument of the plan: command-line values override the scenario's ``instrument``.
-
-    ``name`` picks one of the scenario's named instruments (default: the first).
-
-    Returns
-    -------
-    dict
-        resolution_nm, exposure_s, field_of_view_nm (None when neither gives it), and
-        ``source`` {name: "command line" | "scenario"}.
-
-    Raises
-    ------
-    InputError
-        Missing unit, non-positive value, missing resolution or exposure, or a resolution
-        not smaller than the field of view.
-    """
-    ins = dict(getattr(scenario, "instrument", {}) or {})
-    if name is not None:
-        named = {i.get("name"): i for i in getattr(scenario, "instruments", ())}
-        if name not in named:
-            raise InputError(f"--instrument {name!r}: the scenario names "
-                             f"{', '.join(repr(n) for n in named if n) or 'no instruments'}; "
-                             f"give one of those names, or leave --instrument out")
-        ins = dict(named[name])
-    out, src = {}, {}
-    for key, opt, val, kind, ex, scale in (
-            ("resolution_nm", "--resolution", resolution, "length", "30 nm", 1e9),
-            ("exposure_s", "--exposure", exposure, "time", "10 ms", 1.0),
-            ("field_of_view_nm", "--field-of-view", field_of_view, "length", "5 um", 1e9)):
-        if val is not None:
-            out[key], src[key] = _quantity(opt, val, kind, ex) * scale, "command line"
-        elif key in ins:
-            out[key], src[key] = float(ins[key]), "scenario"
-        elif key != "field_of_view_nm":
-            what = "resolution" if key == "resolution_nm" else "exposure"
-            raise InputError(f"no instrument {what}: give {opt} with a unit, e.g. {opt} \"{ex}\", "
-                             f"or set instrument.{what} in the scenario.")
-        else:
-            out[key] = None
-    fov = out["field_of_view_nm"]
-    if fov is not None and out["resolution_nm"] >= fov:
-        raise InputError(f"--resolution ({out['resolution_nm']:g} nm) must be smaller than "
-                         f"--field-of-view ({fov:g} nm): the instrument cannot resolve anything "
-                         f"inside its own view. Check the units of both values.")
-    out["source"] = src
-    out["name"] = ins.get("name")
-    return out
 
 
 def _scenario(source):
