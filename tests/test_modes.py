@@ -39,6 +39,8 @@ VALUES = {
     "dynamics.ramp": {"temperature": "3 K"},
     "dynamics.sweeps": {"warmup": 5, "samples": 20},
     "dynamics.sample_every": 2,
+    "dynamics.moves": ["metropolis"],
+    "dynamics.cluster_direction": "axis",
     "record": {"every": "0.01 ps"},
     "sweep": {"snapshots": 2},
     "analysis": {"level": 0.1},
@@ -151,3 +153,15 @@ def test_a_dipolar_run_goes_through_the_dipolar_engine(tmp_path):
                                            time_step_s=1e-15).dipolar is not None
     out = run(d, tmp_path / "dip", progress=False)
     assert (out / "snapshots" / "final.npz").is_file()
+
+
+def test_cluster_moves_default_on_and_refused_where_not_exact():
+    sc = load_scenario(scenario("mc-set"))
+    assert sc.dynamics.moves == ("metropolis", "cluster")  # exact for every easy axis / plane
+    d = scenario("mc-set", "dynamics.cluster_direction")
+    d["dynamics"]["cluster_direction"] = "sphere"  # K != 0: random reflections change -K (S.n)^2
+    with pytest.raises(ScenarioError, match=r"dynamics\.cluster_direction: sphere: .*anisotropy"):
+        load_scenario(d)
+    d["dynamics"]["moves"] = ["cluster"]
+    with pytest.raises(ScenarioError, match=r"dynamics\.moves: .*not ergodic"):
+        load_scenario(d)

@@ -31,6 +31,8 @@ DEFAULT_SCENARIO = Path(__file__).resolve().parents[1] / "data" / "demo.yaml"
 INITIAL_STATES = ("random", "up", "down", "stripes")
 METHODS = ("llg", "monte-carlo")
 ORDERS = ("heating", "cooling", "independent")
+MOVES = ("metropolis", "cluster")
+CLUSTER_DIRECTIONS = ("auto", "axis", "plane", "sphere")
 COLOURS = ("mz", "angle")
 MAX_SITES = 50_000_000  # 50 M sites ~ 5 GB of engine memory
 BYTES_PER_SITE = 100
@@ -151,7 +153,7 @@ def _check_memory(r, lat, sizes):
 def _dynamics(r):
     d = r.sub("dynamics")
     d.check_keys({"method", "damping", "timestep", "duration", "warmup", "gyromagnetic_ratio",
-                  "ramp", "sweeps", "sample_every"})
+                  "ramp", "sweeps", "sample_every", "moves", "cluster_direction"})
     method = d.choice("method", METHODS, default="llg")
     damping = d.number("damping", default=0.1, lo=0.0)
     if not damping > 0:
@@ -179,7 +181,15 @@ def _dynamics(r):
     n_warm = sw.number("warmup", default=2000, lo=0, integer=True)
     n_samp = sw.number("samples", default=5000, lo=10, integer=True)
     every = d.number("sample_every", default=1, lo=1, integer=True)
-    return DynamicsSpec(method, damping, dt, duration, gamma, warm, ramp_t, ramp_b, n_warm, n_samp, every)
+    moves = d.raw("moves", ["metropolis", "cluster"])
+    if (not isinstance(moves, list) or not moves or any(m not in MOVES for m in moves)
+            or "metropolis" not in moves):
+        raise d.error(f"must be a list of moves from {', '.join(MOVES)} that includes metropolis "
+                      f"(cluster moves alone flip only one spin component and are not ergodic); "
+                      f"got {moves!r}", "moves")
+    direction = d.choice("cluster_direction", CLUSTER_DIRECTIONS, default="auto")
+    return DynamicsSpec(method, damping, dt, duration, gamma, warm, ramp_t, ramp_b, n_warm, n_samp,
+                        every, tuple(m for m in MOVES if m in moves), direction)
 
 
 def _gamma(text):
@@ -317,6 +327,12 @@ def load_scenario(source):
     _check_memory(r, lat, sizes)
     dyn = _dynamics(r)
     mode = scenario_mode(dyn.method, len(temps), sizes is not None)
+    if "cluster" in dyn.moves and dyn.cluster_direction == "sphere" and mat.anisotropy_J != 0:
+        raise ScenarioError(
+            "sphere: cluster moves along random directions change the anisotropy energy "
+            f"-K (S.n)^2 (K = {mat.anisotropy_J / MEV_J:g} meV), so they would not sample the "
+            "Boltzmann distribution; use axis (easy axis), plane (easy plane) or auto",
+            path=path, key="dynamics.cluster_direction")
     check_keys_for_mode(data, mode, path, n_temperatures=len(temps))
     sw = r.sub("sweep")
     sw.check_keys({"order", "cluster", "snapshots"})

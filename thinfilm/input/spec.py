@@ -43,6 +43,8 @@ class DynamicsSpec:
     sweeps_warmup: int = 2000
     sweeps_samples: int = 5000
     sample_every: int = 1
+    moves: tuple = ("metropolis", "cluster")  # Monte Carlo move set
+    cluster_direction: str = "auto"  # reflection direction of the cluster moves
 
 
 @dataclass(frozen=True)
@@ -115,6 +117,9 @@ class Scenario:
             out["material"]["continuum"] = m.continuum
         if m.dipolar:
             out["material"]["dipolar"] = True
+        if d.method == "monte-carlo":
+            out["dynamics"]["moves"] = list(d.moves)
+            out["dynamics"]["cluster_direction"] = d.cluster_direction
         if d.ramp_temperature_K is not None:
             out["dynamics"]["ramp_to_temperature_K"] = d.ramp_temperature_K
         if d.ramp_field_T is not None:

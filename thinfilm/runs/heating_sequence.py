@@ -54,13 +54,16 @@ def run_heating_sequence(scenario, out_dir, *, size, temperatures_K, frames=3, b
     between, warmup : int
         Monte Carlo steps between snapshots, and before the first snapshot of a temperature.
     mc_options
-        Passed to :class:`thinfilm.engines.montecarlo.MonteCarlo` (e.g. the move set).
+        Passed to :class:`thinfilm.engines.montecarlo.MonteCarlo`; the move set defaults to the
+        scenario's ``dynamics.moves`` (Metropolis and cluster moves unless it says otherwise).
     """
     temps = sorted(float(t) for t in temperatures_K)
     if not temps or temps[0] <= 0 or frames < 1 or between < 1 or warmup < 0:
         raise InputError(f"heating sequence: needs temperatures above 0 K, frames >= 1, "
                          f"between >= 1, warmup >= 0; got {temps}, {frames}, {between}, {warmup}")
     sc = sized_scenario(scenario, size)
+    mc_options = {"moves": sc.dynamics.moves, "cluster_direction": sc.dynamics.cluster_direction,
+                  **mc_options}
     model = build_model(sc)
     lat = model.lattice
     folder = RunFolder(out_dir, resume=resume, overwrite=overwrite)

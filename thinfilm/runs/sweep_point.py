@@ -133,7 +133,8 @@ def _sample_mc(task, model, spins):
     d = task.scenario.dynamics
     every = int(d.sample_every)
     n_samples = max(4, int(d.sweeps_samples) // every)
-    mc = MonteCarlo(model, task.temperature_K, seed=task.seed, initial_spins=spins)
+    mc = MonteCarlo(model, task.temperature_K, seed=task.seed, initial_spins=spins, moves=d.moves,
+                    cluster_direction=d.cluster_direction)
     mc.warmup(int(d.sweeps_warmup))
     parts, snaps, acc = [], [], []
     for n in _split(n_samples, task.scenario.sweep.snapshots):
