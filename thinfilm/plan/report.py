@@ -194,6 +194,20 @@ def figures(plan, out):
                label=f"resolution {ins['resolution_nm']:g} nm")
     ax.axhline(plan["view_limit_nm"], color=SKY, ls="-.",
                label=f"view limit {plan['view_limit_nm']:.3g} nm")
+    cur = (plan.get("extrapolation") or {}).get("curve")
+    if cur:
+        ct = np.asarray(cur["temperature_K"], dtype=float)
+        cx = np.array([np.nan if v is None else v for v in cur["correlation_length_nm"]], float)
+        ce = np.array([np.nan if v is None else v for v in cur["correlation_length_err_nm"]], float)
+        ext = np.array([f == "extrapolated" for f in cur["flag"]])
+        label = r"$\xi$ extrapolated (fit)"
+        for side in (ct < plan["tc_K"], ct > plan["tc_K"]):
+            sel = side & ext
+            if sel.any():
+                ax.fill_between(ct[sel], cx[sel] - ce[sel], cx[sel] + ce[sel], color=BLUE,
+                                alpha=0.2, lw=0)
+                ax.plot(ct[sel], cx[sel], "-", color=BLUE, lw=1, label=label)
+                label = None
     _band(ax, plan)
     ax.set_yscale("log")
     ax.set(xlabel="T (K)", ylabel="length (nm)", title=f"{name}: lengths, L = {plan['size']}")
@@ -300,9 +314,59 @@ def markdown(plan):
     for r in llg["runs"]:
         lines.append(f"| {r['temperature_K']:.4g} | {r['tau_ps']:.3g} +- {r['tau_err_ps']:.2g} | "
                      f"{r['duration_ps']:.4g} | {r['time_step_fs']:.3g} | {r['n_independent']:.0f} | {r['seed']} |")
+    lines += beyond_lines(plan)
     lines += ["", "## Reproduce", "", "```", plan["command"], "```", "",
               "Figures: " + ", ".join(plan["figures"]), ""]
     return "\n".join(lines)
+
+
+def _beyond_summary(plan):
+    hw = (plan.get("extrapolation") or {}).get("resolved_halfwidth_K") or {}
+    if not hw:
+        return []
+    w = max(v[0] for v in hw.values())
+    return [f"  beyond       xi > {plan['instrument']['resolution_nm']:g} nm only within about "
+            f"{w:.3g} K of Tc (extrapolated from the lattice; extrapolation.csv)"]
+
+
+def beyond_lines(plan):
+    """plan.md section: what is measured on the lattice and what is extrapolated beyond it."""
+    b = plan.get("extrapolation") or {}
+    out = ["", "## Beyond the lattice", ""]
+    c = b.get("collapse")
+    if c:
+        u = c["universality"]
+        out.append(f"- Finite-size scaling collapse of U4 (sizes {c['sizes']}): Tc = "
+                   f"{_fmt(c['tc_K'], c['tc_err_K'])}, nu = {c['nu']:.3g} +- {c['nu_err']:.2g}, "
+                   f"chi2/dof = {c['chi2_dof']:.2g}. {u.get('verdict', '')}")
+    elif b.get("collapse_refused"):
+        out.append(f"- No scaling collapse: {b['collapse_refused']}")
+    if b.get("extrapolation_refused"):
+        out.append(f"- No extrapolation: {b['extrapolation_refused']}")
+        return out
+    fit = (b.get("fits") or {}).get("correlation_length")
+    if fit:
+        out.append(f"- xi fitted as A |t|^-nu (1 + c |t|), nu = {fit['nu']:g}, to "
+                   f"{fit['n_points']} points with film side >= 6 xi (largest used "
+                   f"{max(v for v in fit['max_used_nm'].values() if v is not None):.3g} nm); "
+                   f"values in extrapolation.csv are flagged measured / extrapolated / refused; "
+                   f"extrapolation stops where {fit['rule']}.")
+    w = b.get("resolved_window")
+    if w:
+        edges = w.get("window_K") or [None, None]
+        txt = [f"{e:.5g} K" if e is not None else "refused" for e in edges]
+        out.append(f"- xi exceeds the resolution ({b['resolution_nm']:g} nm) between {txt[0]} and "
+                   f"{txt[1]} (extrapolated; reasons for refused edges: "
+                   f"{'; '.join(f'{k}: {v}' for k, v in (w.get('reasons') or {}).items() if v) or 'none'}).")
+    hw = b.get("resolved_halfwidth_K") or {}
+    if hw:
+        out.append("- Half-width of that window about Tc (from the fitted amplitude, independent of "
+                   "the error of Tc): " + ", ".join(
+                       f"{s} Tc {v[0]:.3g} K" + (f" +- {v[1]:.2g} K" if v[1] is not None else "")
+                       for s, v in hw.items()) + ".")
+    if b.get("tc_note"):
+        out.append(f"- Note: {b['tc_note']}.")
+    return out
 
 
 def summary_text(plan):
@@ -327,6 +391,7 @@ def summary_text(plan):
         f"  schedule     {len(sched)} points {sched[0]:.4g}..{sched[-1]:.4g} K: "
         + ", ".join(f"{s:g}" for s in sched),
         f"  dwell        {_dwell(plan['dwell_s'])} per point (your choice), {_dwell(plan['total_dwell_s'])} total",
+        *_beyond_summary(plan),
         "  caution      model estimate; mind sample heating limits and sensor-film offsets; local "
         "lab rules and the instrument maker's limits come first.",
     ])
