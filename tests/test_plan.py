@@ -20,6 +20,7 @@ from thinfilm.input.errors import InputError
 from thinfilm.input.scenario import load_scenario
 from thinfilm.plan.curves import crossing
 from thinfilm.plan.heating_plan import make_plan
+from thinfilm.runs.folder import read_csv_table
 
 JK = 11.604518  # J/kB in K for J = 1 meV (CODATA 2018 constants)
 TC = 2.0 / math.log(1.0 + math.sqrt(2.0)) * JK
@@ -204,3 +205,18 @@ def test_a_plan_per_named_instrument_reuses_the_fluctuation_runs(tmp_path):
     assert wb[1] - wb[0] < wa[1] - wa[0]
     with pytest.raises(InputError, match="--instrument 'sem'"):
         make_plan(sc, tmp_path, reuse=True, progress=False, instrument="sem", **FAST)
+
+
+def test_the_plan_says_what_is_measured_and_what_is_extrapolated(plan):
+    res, folder = plan
+    b = res["plan"]["extrapolation"]
+    # the synthetic table has one size and no binder errors: no finite-size collapse, said in words
+    assert "collapse_refused" in b and b["collapse_refused"]
+    rows = read_csv_table(folder / "extrapolation.csv")
+    flags = set(rows["correlation_length_flag"].tolist())
+    assert "extrapolated" in flags and flags <= {"measured", "extrapolated"}
+    # synthetic xi = 0.5 nm / |t| above Tc (see _curves): the half-width where xi > 2 nm is
+    # Tc * 0.5 / 2 (exact for the synthetic form), within the fit's stated error
+    w, err = b["resolved_halfwidth_K"]["above"]
+    assert abs(w - 0.25 * TC) < 4 * err + 0.02 * TC
+    assert "Beyond the lattice" in (folder / "plan.md").read_text()

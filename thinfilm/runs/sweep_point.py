@@ -23,7 +23,7 @@ from thinfilm.analysis.patterns import bubble_statistics, stripe_orientation, st
 from thinfilm.analysis.structure import structure_factor_length
 from thinfilm.analysis.thermo import thermodynamics
 from thinfilm.engines.montecarlo import PARALLEL_MIN_SITES, MonteCarlo
-from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, measure, stable_time_step
+from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, stable_time_step
 from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
 from thinfilm.input.units import MEV_J
 from thinfilm.model.parameters import build_model
@@ -171,11 +171,10 @@ def _sample_llg(task, model, spins):
     mv = np.empty((n_samples, 3))
     clock = np.empty(n_samples)
     snaps, k = [], 0
-    work = np.empty_like(sim.spins)
     for n in chunks:
         for _ in range(n):
             sim.advance(every)
-            m, en = measure(model, sim.spins, work)
+            m, en = sim.measure()  # includes the dipolar energy when the model has it
             e[k], mv[k], clock[k] = en * MEV_J, m, (sim.step - n_warm) * dt * 1e12
             k += 1
         snaps.append(sim.spins.copy())
