@@ -75,7 +75,8 @@ def _cmd_run(args):
 def _cmd_demo(args):
     from thinfilm.demo_pipeline import demo
 
-    out = demo(args.output, workers=args.workers, progress=not args.quiet)
+    out = demo(args.output, film=args.film, workers=args.workers, progress=not args.quiet,
+               n_threads=args.threads)
     print(f"demo run folder: {out}")
     return 0
 
@@ -144,6 +145,9 @@ def build_parser():
 
     s = sub.add_parser("demo", help="run the embedded demo scenario (an invented film) into outputs/")
     s.add_argument("-o", "--output", default=None, help="run folder (default outputs/demo-<time>)")
+    s.add_argument("--film", choices=["monolayer", "stripes"], default="monolayer",
+                   help="monolayer: sweep through Tc, heating movie, plan (default); stripes: "
+                        "stripe domains of a dipolar film formed and heated, with a movie")
     s.add_argument("--workers", type=int, default=None, help="local worker processes for the sweep")
     s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
     s.set_defaults(func=_cmd_demo)

@@ -284,7 +284,8 @@ def write_movie(
         A run folder (see :func:`iter_snapshots` for which files are used), or an iterable of
         frames: arrays of shape (ny, nx, 3) (square lattice, spacing ``spacing_nm``) or dicts
         with ``spins`` and optionally ``positions_nm``, ``box_nm`` (nm), ``shape``,
-        ``periodic``, ``time_ps``, ``temperature_K``. Iterables are consumed lazily.
+        ``periodic``, ``time_ps``, ``temperature_K``, ``note`` (a line of text burned in below
+        the time and temperature). Iterables are consumed lazily.
     out_path : path
         Output file, ``.mp4`` (H.264, yuv420p) or, with ``gif=True``, ``.gif``.
     fps : float

@@ -1,0 +1,65 @@
+"""PNG figure of a stripe table: stripe period, stripe order and |m_z| against temperature."""
+
+from pathlib import Path
+
+import numpy as np
+
+from thinfilm.input.errors import InputError
+
+from .captions import definition_list, write_captions
+from .layout import OKABE_ITO, new_figure, note, save_png
+from .rundir import read_table
+
+__all__ = ["plot_stripes", "STRIPE_COLUMNS"]
+
+#: Columns of a stripe table (one row per snapshot) and their units.
+STRIPE_COLUMNS = {
+    "time_ps": "ps", "temperature_K": "K", "stripe_period_nm": "nm",
+    "stripe_order": "1 (0 isotropic .. 1 parallel stripes)", "bubble_count": "1",
+    "mean_abs_m_axis": "per spin", "m_inplane": "per spin",
+}
+
+PANELS = (
+    ("stripe_period_nm", "λ (nm)", ("λ", "nm", "stripe period 2π/k* from the radial peak k* of "
+                                    "the structure factor of m_z (one snapshot per point)")),
+    ("stripe_order", "Q", ("Q", "1", "nematic stripe order |Σ S(k) e^{2iθ_k}| / Σ S(k): 1 for "
+                           "parallel stripes, near 0 for a labyrinth or a disordered film")),
+    ("mean_abs_m_axis", "⟨|m_z|⟩", ("⟨|m_z|⟩", "per spin", "mean of |S·n| over the sites: "
+                                    "1 in saturated perpendicular domains, 0.5 for random "
+                                    "directions, lower when the moments turn into the plane")),
+)
+
+
+def plot_stripes(csv_path, out_dir, *, name="stripes_vs_temperature.png"):
+    """Plot a stripe table (columns :data:`STRIPE_COLUMNS`) against temperature.
+
+    Returns
+    -------
+    list of Path
+        ``[out_dir / name]``; ``captions.md`` in ``out_dir`` gets the figure's section.
+    """
+    path = Path(csv_path)
+    if not path.is_file():
+        raise InputError(f"{path}: no stripe table; it is written by 'thinfilm demo --film stripes'")
+    tab = read_table(path)
+    if "temperature_K" not in tab or not len(tab["temperature_K"]):
+        raise InputError(f"{path} has no 'temperature_K' column or no rows")
+    t = tab["temperature_K"]
+    fig, axes = new_figure(len(PANELS), 1, 5.0, 1.7, sharex=True)
+    items = [("T", "K", "bath temperature of the heating ramp at the snapshot")]
+    for ax, (col, label, item) in zip(axes, PANELS, strict=True):
+        y = tab.get(col)
+        if y is None or not np.isfinite(y).any():
+            note(ax, f"no finite '{col}' values")
+        else:
+            ax.plot(t, y, color=OKABE_ITO[0], lw=1.0, marker="o", ms=2.5)
+        ax.set_ylabel(label)
+        items.append(item)
+    axes[1].set_ylim(0, 1)
+    axes[2].set_ylim(0, 1.05)
+    axes[-1].set_xlabel("T (K)")
+    png = save_png(fig, Path(out_dir) / name)
+    write_captions(out_dir, {png.name: "Stripe pattern of the heating ramp, one point per "
+                             "snapshot (a linear ramp: each point is one state, not an "
+                             "equilibrium average).\n\n" + definition_list(items)})
+    return [png]
