@@ -4,6 +4,7 @@ stripe domains in an invented dipolar film and heat them until they break up.
 On top of the API: nothing in the package imports this module.
 """
 
+import json
 import math
 import time
 from pathlib import Path
@@ -28,17 +29,17 @@ STRIPE_SCENARIO = DEFAULT_SCENARIO.with_name("stripe_demo.yaml")
 FILMS = ("monolayer", "stripes")
 
 
-def _heating_scenario(sc):
-    """A time-resolved stochastic LLG heating ramp across the sweep's range, on 64 x 64 sites."""
+def _step_scenario(sc, temperature_K):
+    """Stochastic LLG on 64 x 64 sites after a temperature step: from the ordered state to
+    ``temperature_K`` (just above Tc), 20 ps: the break-up on its own time scale."""
     raw = dict(sc.raw)
-    temps = sc.sweep.temperatures_K
     raw.update({
-        "name": f"{sc.name}-heating",
+        "name": f"{sc.name}-step",
         "lattice": dict(raw["lattice"], cells=[64, 64]),
-        "temperature": f"{temps[0]} K",
+        "temperature": f"{temperature_K:.4g} K",
+        "initial": "up",
         "dynamics": {"method": "llg", "damping": sc.dynamics.damping,
-                     "timestep": f"{sc.dynamics.time_step_s * 1e15:g} fs", "duration": "20 ps",
-                     "ramp": {"temperature": f"{temps[-1]} K"}},
+                     "timestep": f"{sc.dynamics.time_step_s * 1e15:g} fs", "duration": "20 ps"},
         "record": {"every": "0.25 ps", "snapshots": "0.5 ps"},
     })
     for k in ("sizes", "sweep", "instrument", "analysis", "movie"):
@@ -46,30 +47,50 @@ def _heating_scenario(sc):
     return load_scenario(raw)
 
 
-def run_demo(out_dir, scenario_path, *, workers=None, progress=True):
-    """Run the demo into ``out_dir``; return the folder path.
+def _sequence_temperatures(sc, tc_K, n=10):
+    """Movie temperatures: n between 0.8 Tc and 1.1 Tc (the sweep's Tc), inside its range."""
+    temps = sc.sweep.temperatures_K
+    lo, hi = max(temps[0], 0.8 * tc_K), min(temps[-1], 1.1 * tc_K)
+    return [float(x) for x in np.round(np.linspace(lo, hi, n), 2)]
 
-    1. Monte Carlo sweep of the scenario (observables.csv, tc.json, figures);
-    2. a 20 ps stochastic LLG heating ramp on 64 x 64 sites with a movie (heating/);
-    3. a heating plan for the scenario's instrument (plan.md).
+
+def run_demo(out_dir, scenario_path, *, workers=None, progress=True):
+    """Run the monolayer demo into ``out_dir``; return the folder path.
+
+    1. Monte Carlo sweep (Metropolis + cluster moves) through Tc: observables.csv, tc.json,
+       figures;
+    2. the main movie (``heating_sequence/movie.mp4``): a quasi-static heating sequence of
+       equilibrium states on 512 x 512 sites, each temperature continued from the previous one;
+    3. a stochastic LLG movie of the break-up after a temperature step (``step/movie.mp4``);
+    4. a heating plan for each of the scenario's instruments (``plan-<name>.md``), with the
+       correlation length extrapolated beyond the lattice to the instruments' resolution.
     """
+    from thinfilm.runs.heating_sequence import run_heating_sequence
+
     out_dir = Path(out_dir)
     sc = load_scenario(scenario_path)
-    print(f"[1/3] Monte Carlo sweep of {sc.name}: {len(sc.sweep.temperatures_K)} temperatures, "
+    print(f"[1/4] Monte Carlo sweep of {sc.name}: {len(sc.sweep.temperatures_K)} temperatures, "
           f"sizes {list(sc.sweep.sizes)}")
     run(sc, out_dir, workers=workers, progress=progress, overwrite=True)
-    print("[2/3] stochastic LLG heating ramp with a movie")
-    heat = _heating_scenario(sc)
-    run(heat, out_dir / "heating", progress=progress, overwrite=True)
-    write_movie(out_dir / "heating", out_dir / "heating" / "movie.mp4", fps=(sc.movie or {}).get("fps", 15))
-    plot_timeseries(out_dir / "heating")
-    print("[3/3] heating plan")
-    ins = sc.instrument
-    res = plan(sc, out_dir, resolution=f"{ins['resolution_nm']} nm" if "resolution_nm" in ins else None,
-                    exposure=f"{ins['exposure_s']} s" if "exposure_s" in ins else None,
-                    field_of_view=f"{ins['field_of_view_nm']} nm" if "field_of_view_nm" in ins else None,
-                    reuse=True, progress=progress)
-    print(res["summary_text"])
+    tc = json.loads((out_dir / "tc.json").read_text()).get("tc_K") or float(
+        np.median(sc.sweep.temperatures_K))
+    seq_temps = _sequence_temperatures(sc, tc)
+    print(f"[2/4] quasi-static heating sequence on 512 x 512 sites, {seq_temps[0]:g}-"
+          f"{seq_temps[-1]:g} K, with a movie")
+    seq = run_heating_sequence(sc, out_dir / "heating_sequence", size=512,
+                               temperatures_K=seq_temps, frames=3, between=4, warmup=12,
+                               overwrite=True, progress=progress)
+    write_movie(seq.path, seq.path / "movie.mp4", fps=4)
+    print(f"[3/4] stochastic LLG after a step to {1.03 * tc:.3g} K (1.03 Tc), with a movie")
+    step = _step_scenario(sc, 1.03 * tc)
+    run(step, out_dir / "step", progress=progress, overwrite=True)
+    write_movie(out_dir / "step", out_dir / "step" / "movie.mp4", fps=(sc.movie or {}).get("fps", 15))
+    plot_timeseries(out_dir / "step")
+    names = [i.get("name") for i in sc.instruments]
+    print(f"[4/4] heating plans for {', '.join(n or 'the instrument' for n in names)}")
+    for name in names:
+        res = plan(sc, out_dir, reuse=True, progress=progress, instrument=name)
+        print(res["summary_text"])
     return out_dir
 
 

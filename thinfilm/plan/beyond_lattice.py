@@ -43,6 +43,20 @@ def _halfwidths(fit, tc_K, resolution_nm):
     return out
 
 
+def _lengths(tab):
+    """The table with correlation_length_nm taken from the S(k) Ornstein-Zernike length where
+    that has a finite value and error (it is far less noisy than the second moment, on both
+    sides of Tc), else from the second-moment estimator."""
+    sk, sk_err = tab.get("correlation_length_sk_nm"), tab.get("correlation_length_sk_nm_err")
+    if sk is None or sk_err is None:
+        return tab
+    ok = np.isfinite(sk) & np.isfinite(sk_err) & (sk_err > 0)
+    out = dict(tab)
+    out["correlation_length_nm"] = np.where(ok, sk, tab["correlation_length_nm"])
+    out["correlation_length_nm_err"] = np.where(ok, sk_err, tab["correlation_length_nm_err"])
+    return out
+
+
 def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_view_nm=None):
     """Collapse, extrapolated xi and domain size, and the resolved window; writes the CSV.
 
@@ -50,7 +64,7 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
     ``resolved_window`` (absolute edges with errors, or the reason they are refused),
     ``resolved_halfwidth_K`` ({side: [K, error K]}), ``universality``, ``csv`` and ``note``.
     """
-    tab = read_csv_table(out / "observables.csv")
+    tab = _lengths(read_csv_table(out / "observables.csv"))
     sides = {}
 
     def film_side(size):

@@ -255,6 +255,33 @@ def _points(a, runs, ins, tc):
     return out
 
 
+def _use_extrapolated_window(plan):
+    """Where the lattice cannot reach the resolution, take the window from the extrapolation.
+
+    The resolved window becomes Tc -+ the extrapolated half-widths (flagged "extrapolated");
+    the upper break-up edge, when the lattice put it at or below the start of the sweep (its
+    domains are smaller than the resolution), becomes Tc + the half-width above Tc.
+    """
+    hw = (plan["extrapolation"] or {}).get("resolved_halfwidth_K") or {}
+    if "above" not in hw:
+        return
+    tc, tc_err = plan["tc_K"], plan["tc_err_K"] or 0.0
+    up, up_err = hw["above"]
+    down, down_err = hw.get("below", hw["above"])
+    plan["resolved_window_extrapolated"] = plan["resolved_window_K"] is None
+    if plan["resolved_window_K"] is None:
+        plan["resolved_window_K"] = [tc - down, tc + up]
+        plan["resolved_window_err_K"] = [float(np.hypot(tc_err, down_err or 0.0)),
+                                         float(np.hypot(tc_err, up_err or 0.0))]
+        plan["resolved_window_bounds"] = ["extrapolated", "extrapolated"]
+    if plan["breakup_window_bounds"][1] == "at_or_below_start":
+        plan["breakup_window_K"][1] = tc + up
+        plan["breakup_window_err_K"][1] = float(np.hypot(tc_err, up_err or 0.0))
+        plan["breakup_window_bounds"][1] = "extrapolated"
+        plan["breakup_upper_edge_from"] = ("correlation length extrapolated beyond the lattice "
+                                           "(the simulated film is smaller than the resolution)")
+
+
 def _edge(d):
     return d["value_K"], d["err_K"]
 
@@ -361,6 +388,7 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     plan["extrapolation"] = beyond_lattice(sc, out, tc_K=a["tc_K"], tc_err_K=a["tc_err_K"],
                                            resolution_nm=ins["resolution_nm"],
                                            field_of_view_nm=ins["field_of_view_nm"])
+    _use_extrapolated_window(plan)
     plan = _clean(plan)
     plan["instrument_name"] = ins["name"]
     plan["file_stem"] = f"plan-{ins['name']}" if instrument is not None else "plan"

@@ -50,6 +50,8 @@ def _edge_text(v, err, bound):
         return f">= {v:.4g} K (at or beyond the end of the sweep)"
     if bound == "never" or v is None:
         return "not reached in the sweep"
+    if bound == "extrapolated":
+        return _fmt(v, err, digits=6) + " (extrapolated beyond the lattice)"
     return _fmt(v, err)
 
 
@@ -64,6 +66,12 @@ def resolved_note(plan):
                 f"fluctuations of this film; the pattern will appear uniform grey above about "
                 f"{tc:.4g} K, and below it only domains larger than {res:g} nm are visible.")
     lo, hi = plan["resolved_window_K"]
+    if plan.get("resolved_window_extrapolated"):
+        return (f"the simulated lattice holds correlation lengths up to {xmax:.2g} nm only; "
+                f"extrapolated beyond it (fit of xi against T, see 'Beyond the lattice'), xi "
+                f"exceeds the resolution ({res:g} nm) between {lo:.6g} and {hi:.6g} K, a window "
+                f"{hi - lo:.3g} K wide about Tc: step by less than that near Tc to see the critical "
+                f"fluctuations (if the exposure is short enough to freeze them).")
     return (f"between {lo:.4g} and {hi:.4g} K the correlation length exceeds the resolution "
             f"({res:g} nm; max {xmax:.2g} nm at {tmax:.4g} K): the critical fluctuations are "
             f"resolvable there (if the exposure is short enough to freeze them).")
@@ -269,7 +277,7 @@ def markdown(plan):
              f"limit ({plan['view_limit_nm']:.3g} nm) to where the {plan['breakup_upper_edge_from']} "
              f"falls below the resolution.",
              "- **Resolved window**: " + ("none. " if plan["resolved_window_K"] is None else
-                                         f"{plan['resolved_window_K'][0]:.4g}-{plan['resolved_window_K'][1]:.4g} K. ")
+                                         f"{plan['resolved_window_K'][0]:.6g}-{plan['resolved_window_K'][1]:.6g} K. ")
              + plan["resolved_note"],
              f"- **Time scales**: {plan['timescale_note']}", "",
              "## Schedule", "",
@@ -346,11 +354,14 @@ def beyond_lines(plan):
         return out
     fit = (b.get("fits") or {}).get("correlation_length")
     if fit:
-        out.append(f"- xi fitted as A |t|^-nu (1 + c |t|), nu = {fit['nu']:g}, to "
+        out.append(f"- xi (the S(k) length where it is defined, else the second moment) fitted "
+                   f"as A |t|^-nu (1 + c |t|), nu = {fit['nu']:g}, to "
                    f"{fit['n_points']} points with film side >= 6 xi (largest used "
                    f"{max(v for v in fit['max_used_nm'].values() if v is not None):.3g} nm); "
                    f"values in extrapolation.csv are flagged measured / extrapolated / refused; "
-                   f"extrapolation stops where {fit['rule']}.")
+                   f"extrapolation stops where the relative error exceeds "
+                   f"{fit['rule']['max_rel_err']:g} or xi exceeds {fit['rule']['max_factor']:g} x "
+                   f"the largest fitted value (values there are refused).")
     w = b.get("resolved_window")
     if w:
         edges = w.get("window_K") or [None, None]
@@ -385,7 +396,8 @@ def summary_text(plan):
         f"  Tc           {_fmt(plan['tc_K'], plan['tc_err_K'])} ({plan['tc_method']})",
         f"  break-up     {_edge_text(lo, elo, blo)} .. {_edge_text(hi, ehi, bhi)}",
         "  resolved     " + ("none: " + plan["resolved_note"] if plan["resolved_window_K"] is None
-                            else f"{plan['resolved_window_K'][0]:.4g} .. {plan['resolved_window_K'][1]:.4g} K"),
+                            else f"{plan['resolved_window_K'][0]:.6g} .. {plan['resolved_window_K'][1]:.6g} K"
+                            + (" (extrapolated)" if plan.get("resolved_window_extrapolated") else "")),
         f"  fluctuation  {min(taus):.3g}-{max(taus):.3g} ps (LLG, {plan['llg']['size']}^2 sites); "
         f"verdicts: {', '.join(verdicts)}",
         f"  schedule     {len(sched)} points {sched[0]:.4g}..{sched[-1]:.4g} K: "
