@@ -134,14 +134,16 @@ def test_tc_fallback_from_the_susceptibility_peak(tmp_path):
     assert abs(p["tc_K"] - TC) < 3 * p["tc_err_K"] + 0.5
 
 
-def test_coarse_resolution_gives_an_empty_resolved_window(tmp_path):
+def test_coarse_resolution_takes_the_resolved_window_from_the_extrapolation(tmp_path):
     sc = make_synthetic_sweep(tmp_path)
     p = make_plan(sc, tmp_path, resolution="30 nm", exposure="10 ms", field_of_view="5 um",
                   reuse=True, progress=False, **FAST)["plan"]
-    assert p["resolved_window_K"] is None
-    assert "coarser than every simulated correlation length" in p["resolved_note"]
-    assert "30 nm" in p["resolved_note"]
-    assert not any(q["resolved"] for q in p["points"])
+    assert not any(q["resolved"] for q in p["points"])  # no lattice point reaches 30 nm
+    assert p["resolved_window_extrapolated"] and "extrapolated beyond it" in p["resolved_note"]
+    lo, hi = p["resolved_window_K"]
+    # synthetic xi = 0.5 nm / |t| above Tc (see _curves): xi > 30 nm for T - Tc < Tc / 60
+    assert lo < p["tc_K"] < hi
+    assert hi - p["tc_K"] == pytest.approx(TC / 60, rel=0.5)
 
 
 @pytest.mark.parametrize("kw, words", [
