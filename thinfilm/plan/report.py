@@ -9,6 +9,8 @@ import shlex
 
 import numpy as np
 
+from thinfilm.plan.beyond_figure import beyond_caption, beyond_figure
+
 __all__ = ["resolved_note", "timescale_note", "command", "figures", "markdown", "summary_text",
            "CAUTIONS"]
 
@@ -249,7 +251,12 @@ def figures(plan, out):
            title="recommended heating schedule")
     shared_legend(fig)
     paths.append(save_png(fig, out / f"{_stem(plan)}_schedule.png", dpi=120))
-    write_captions(out, _captions(plan))
+    caps = _captions(plan)
+    beyond = beyond_figure(plan, out / f"{_stem(plan)}_beyond.png")
+    if beyond is not None:
+        paths.append(beyond)
+        caps[beyond.name] = beyond_caption(plan)
+    write_captions(out, caps)
     return paths
 
 
