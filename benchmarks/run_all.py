@@ -229,6 +229,8 @@ def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="fewer sizes and repeats (~1-2 min)")
     ap.add_argument("--out", default=str(HERE / "results"))
+    ap.add_argument("--no-cli", action="store_true",
+                    help="skip the command-line rate (thinfilm run, 4000 - 1000 steps)")
     a = ap.parse_args(argv)
     out = Path(a.out)
     out.mkdir(parents=True, exist_ok=True)
@@ -292,6 +294,15 @@ def main(argv=None):
     t_none, t_snap, frac = recording_overhead(rec_n, rec_steps, 1000, max_threads)
     extra.update(recording_size=rec_n, recording_steps=rec_steps, recording_none_s=t_none,
                  recording_snapshot_s=t_snap, recording_overhead=frac)
+    if not a.no_cli:
+        from cli_rate import cli_rate, kernel_rates
+
+        cli, _ = cli_rate(256, max_threads, 3 if a.quick else 5)
+        ker = kernel_rates(256, max_threads, 3 if a.quick else 5)
+        extra.update(cli_rate_256_M_per_s=cli, cli_kernel_256_M_per_s=ker["kernel"],
+                     cli_over_kernel=cli / ker["kernel"],
+                     kernel_over_plain_fused=ker["kernel"] / ker["plain_fused"],
+                     kernel_over_plain_two_sweep=ker["kernel"] / ker["plain_two_sweep"])
     ct = compile_times()
     extra.update(compile_first_call_s=ct[0]["first_call_s"], cached_first_call_s=ct[1]["first_call_s"])
     for k, v in extra.items():
