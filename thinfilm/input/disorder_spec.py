@@ -152,8 +152,8 @@ def _map(r, path, lattice):
     if not isinstance(name, str) or not name:
         raise m.error(f"must be a file name, got {name!r}", "file")
     f = Path(name)
-    if not f.is_absolute() and path and Path(str(path)).is_file():
-        f = Path(str(path)).resolve().parent / f
+    if not f.is_absolute() and path and not str(path).startswith("<"):
+        f = Path(str(path)).resolve().parent / f  # relative to the scenario file's folder
     if f.suffix.lower() not in (".png", ".tif", ".tiff", ".npy", ".jpg", ".jpeg", ".bmp"):
         raise m.error(f"must be a PNG, TIFF, JPEG, BMP image or a .npy array; got {name!r}",
                       "file")
@@ -170,7 +170,8 @@ def _map(r, path, lattice):
     # periodic: the whole torus; open: up to the last site (positions below 0 use pixel 0)
     need_x = lx if lattice.periodic else float(pos[..., 0].max())
     need_y = ly if lattice.periodic else float(pos[..., 1].max())
-    if img.shape[1] * scale_nm <= need_x * (1 - 1e-12) or img.shape[0] * scale_nm <= need_y * (1 - 1e-12):
+    tol = 1 - 1e-12
+    if img.shape[1] * scale_nm <= need_x * tol or img.shape[0] * scale_nm <= need_y * tol:
         raise m.error(f"the map ({img.shape[1]} x {img.shape[0]} pixels of {scale_nm:g} nm = "
                       f"{img.shape[1] * scale_nm:.4g} x {img.shape[0] * scale_nm:.4g} nm) must "
                       f"cover the film ({need_x:.4g} x {need_y:.4g} nm)", "scale")

@@ -1,4 +1,4 @@
-"""Per-site parameters of an imperfect film: exchange per bond, K, axis and moment per site, vacancies.
+"""Per-site parameters of an imperfect film: J per bond; K, axis, moment per site; vacancies.
 
 Energy (each bond counted once; a vacancy carries no spin, S = 0):
 
@@ -173,7 +173,8 @@ class SiteParameters:
     @cached_property
     def exchange_T(self):
         """J_ij / mu_i per slot, (n, z) (T): the exchange field per neighbour spin."""
-        return np.ascontiguousarray(self._per_moment(self.exchange_J).reshape(-1, self.lattice.coordination))
+        z = self.lattice.coordination
+        return np.ascontiguousarray(self._per_moment(self.exchange_J).reshape(-1, z))
 
     @cached_property
     def anisotropy_T(self):
