@@ -51,3 +51,15 @@ def test_walls_gather_on_weak_grain_boundaries():
     assert 0.5 < plain["ratio"] < 2.0
     assert weak["n_wall_bonds"] > 50 and plain["n_wall_bonds"] > 50
     assert np.isfinite(weak["fraction"])
+
+
+def test_monte_carlo_resumes_bitwise_from_its_state():
+    p = realise_disorder(_model(), DisorderSpec(vacancies=0.2), 2)
+    a = SiteMonteCarlo(p, 8.0, seed=4, parallel=False)
+    a.warmup(20)
+    saved = a.state
+    ra = a.run(0, 10)
+    b = SiteMonteCarlo(p, 8.0, seed=4, parallel=False)
+    b.state = saved
+    rb = b.run(0, 10)
+    assert np.array_equal(ra["energy_J"], rb["energy_J"]) and np.array_equal(a.spins, b.spins)

@@ -107,6 +107,18 @@ class SiteMonteCarlo:
         self._spins = masked_spins(self.params, value)
 
     @property
+    def state(self):
+        """Resumable state: dict with spins (copy), sweep (int), sigma (float)."""
+        return {"spins": self._spins.copy(), "sweep": int(self.sweep_count),
+                "sigma": float(self.sigma)}
+
+    @state.setter
+    def state(self, value):
+        self.spins = value["spins"]
+        self.sweep_count = int(value["sweep"])
+        self.sigma = float(value["sigma"])
+
+    @property
     def n_occupied(self):
         return self.params.n_occupied
 
