@@ -16,7 +16,8 @@ Tc from the crossing of Binder cumulants of the disorder averages,
 U = 1 - [<m^4>]/(3 [<m^2>]^2) (m = m_z per occupied site), errors by a jackknife over
 realisations (each realisation's thermal noise is independent, so this error holds both).
 
-Run: ``python validation/diluted_ising.py [--quick]``: prints Tc(x) with errors and the guides.
+Run: ``python validation/diluted_ising.py [--quick] [--fractions 0.1 0.2] [--sizes 16 32]
+[--realisations 16] [--samples 4000]``: prints Tc(x) with errors and the guides.
 """
 
 import argparse
@@ -89,11 +90,19 @@ def guides(x):
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="L = 8, 16, few realisations")
+    ap.add_argument("--fractions", type=float, nargs="+", help="vacancy fractions")
+    ap.add_argument("--sizes", type=int, nargs="+", help="linear sizes (at least two)")
+    ap.add_argument("--realisations", type=int, help="realisations per size")
+    ap.add_argument("--samples", type=int, help="samples per temperature and realisation")
     args = ap.parse_args(argv)
     if args.quick:
         sizes, n_real, ns, fractions = (8, 16), 8, 3000, (0.05, 0.1)
     else:
         sizes, n_real, ns, fractions = (16, 32), 32, 10000, (0.05, 0.1, 0.2)
+    sizes = tuple(args.sizes or sizes)
+    n_real = args.realisations or n_real
+    ns = args.samples or ns
+    fractions = tuple(args.fractions or fractions)
     for x in fractions:
         mf, chord = guides(x)
         t0 = time.perf_counter()
