@@ -30,8 +30,8 @@ CASES = [
     ("honeycomb", 6, 4, True), ("honeycomb", 1, 6, False),
 ]
 IDS = [f"{s}-{nx}x{ny}-{'p' if p else 'o'}" for s, nx, ny, p in CASES]
-SPEC = DisorderSpec(vacancies=0.25, anisotropy=SpreadSpec(0.4), exchange=SpreadSpec(0.3, "uniform"),
-                    moment=SpreadSpec(0.3),
+SPEC = DisorderSpec(vacancies=0.25, axis_cone_deg=15.0, anisotropy=SpreadSpec(0.4),
+                    exchange=SpreadSpec(0.3, "uniform"), moment=SpreadSpec(0.3),
                     grains=GrainSpec(0.6, axis_cone_deg=40.0, boundary_exchange=0.4))
 
 

@@ -76,6 +76,22 @@ def test_cone_axes_stay_in_the_cone_and_fill_it():
     # uniform on the cap: cos(theta) uniform, mean (1 + cos 10deg)/2
     assert abs((ax @ n0).mean() - (1 + np.cos(np.deg2rad(10))) / 2) < 1e-4
     assert np.array_equal(cone_axes(n0, 0.0, 5, np.random.default_rng(1)), np.tile(n0, (5, 1)))
+    many = cone_axes(n0, np.deg2rad(30.0), 50, np.random.default_rng(2))  # one cap per vector
+    assert np.array_equal(cone_axes(many, 0.0, 50, np.random.default_rng(3)), many)
+    around = cone_axes(many, np.deg2rad(5.0), 50, np.random.default_rng(3))
+    ang = np.degrees(np.arccos(np.clip(np.einsum("ij,ij->i", around, many), -1, 1)))
+    assert ang.max() <= 5.0 + 1e-9 and ang.min() >= 0.0
+
+
+def test_per_site_axes_lie_in_the_cone_around_the_grain_axis():
+    m = _model(L=32)
+    g = GrainSpec(4.0, 30.0)
+    grains_only = realise_disorder(m, DisorderSpec(grains=g), 4)
+    both = realise_disorder(m, DisorderSpec(grains=g, axis_cone_deg=5.0), 4)
+    assert np.array_equal(grains_only.grain_id, both.grain_id)
+    cosang = np.einsum("ijc,ijc->ij", both.axis, grains_only.axis)
+    ang = np.degrees(np.arccos(np.clip(cosang, -1, 1)))
+    assert ang.max() <= 5.0 + 1e-9 and ang.mean() > 2.0
 
 
 def test_map_sets_vacancies_and_anisotropy(tmp_path):

@@ -9,6 +9,7 @@ Proposed YAML form (every key optional; an empty or absent mapping means a perfe
       anisotropy: {spread: 0.2, distribution: gaussian}   # relative std of K per site
       exchange: {spread: 0.1, distribution: uniform}      # relative std of J per bond
       moment: {spread: 0.05}                              # relative std of mu per site
+      axis_cone_deg: 5             # per-site axes uniform in a cone around the (grain) axis
       grains:
         size: "20 nm"              # mean grain size d: one grain per d^2 of film area
         axis_cone_deg: 10          # grain axes uniform in a cone around the material axis
@@ -73,6 +74,7 @@ class DisorderSpec:
     seed: int | None = None
     realisations: int = 1
     vacancies: float = 0.0
+    axis_cone_deg: float = 0.0
     anisotropy: SpreadSpec | None = None
     exchange: SpreadSpec | None = None
     moment: SpreadSpec | None = None
@@ -83,7 +85,8 @@ class DisorderSpec:
     def is_disordered(self):
         """True when any disorder is switched on (the per-site engines are needed)."""
         spreads = [s for s in (self.anisotropy, self.exchange, self.moment) if s is not None]
-        return bool(self.vacancies > 0 or any(s.spread > 0 for s in spreads)
+        return bool(self.vacancies > 0 or self.axis_cone_deg > 0
+                    or any(s.spread > 0 for s in spreads)
                     or self.grains is not None or self.map is not None)
 
 
@@ -214,15 +217,16 @@ def parse_disorder(raw, path, lattice):
     if raw is None:
         return DisorderSpec()
     r = Reader(raw, path, "disorder")
-    r.check_keys({"seed", "realisations", "vacancies", "anisotropy", "exchange", "moment",
-                  "grains", "map"})
+    r.check_keys({"seed", "realisations", "vacancies", "axis_cone_deg", "anisotropy",
+                  "exchange", "moment", "grains", "map"})
     seed = r.number("seed", integer=True, lo=0)
     n_real = r.number("realisations", default=1, integer=True, lo=1, hi=10000)
     vac = r.number("vacancies", default=0.0, lo=0.0)
     if vac >= 1.0:
         raise r.error(f"must be below 1 (a fraction of the sites); got {r.raw('vacancies')!r}",
                       "vacancies")
+    cone = r.number("axis_cone_deg", default=0.0, lo=0.0, hi=180.0)
     grains = _grains(r, lattice) if r.has("grains") else None
     mp = _map(r, path, lattice) if r.has("map") else None
-    return DisorderSpec(seed, n_real, vac, _spread(r, "anisotropy"), _spread(r, "exchange"),
-                        _spread(r, "moment"), grains, mp)
+    return DisorderSpec(seed, n_real, vac, cone, _spread(r, "anisotropy"),
+                        _spread(r, "exchange"), _spread(r, "moment"), grains, mp)

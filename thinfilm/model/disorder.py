@@ -12,8 +12,9 @@ material value is never flipped), moment factors at MIN_MOMENT_FACTOR = 0.1 (a m
 positive, and the LLG step shrinks with the smallest moment). With s = 0 the factor is exactly
 1.0, so the parameters equal the uniform model bit for bit.
 
-Order of the factors: grain (K, axis, boundary J) x site spread x map. Exchange spreads and
-maps act per bond (map: the mean of the two end sites' factors). Vacancies: each site is empty
+Order of the factors: grain (K, axis, boundary J) x site spread x map; per-site axes
+(``axis_cone_deg``) are drawn in a cone around the grain axis (or the material axis).
+Exchange spreads and maps act per bond (map: the mean of the two end sites' factors). Vacancies: each site is empty
 independently with the given probability (site dilution as in site percolation), and a map
 with ``sets: vacancies`` empties the sites whose pixel value is below the threshold.
 """
@@ -28,7 +29,7 @@ from thinfilm.model.site_parameters import SiteParameters, bond_slots
 __all__ = ["realise_disorder", "spread_factors", "sample_map", "MIN_MOMENT_FACTOR"]
 
 MIN_MOMENT_FACTOR = 0.1
-_STREAMS = ("vacancies", "anisotropy", "exchange", "moment", "grains")
+_STREAMS = ("vacancies", "anisotropy", "exchange", "moment", "grains", "axis")
 
 
 def spread_factors(spec, n, rng, floor=0.0):
@@ -99,6 +100,8 @@ def realise_disorder(model, spec, seed):
             weak = np.zeros(n_bonds, dtype=bool)
             weak[bond_id[on_b]] = True
             j_f = np.where(weak, j_f * g.boundary_exchange, j_f)
+    if spec.axis_cone_deg > 0:  # per-site axes in a cone around the (grain) axis
+        axes = cone_axes(axes, np.deg2rad(spec.axis_cone_deg), n, rngs["axis"])
     k_f = k_f * spread_factors(spec.anisotropy, n, rngs["anisotropy"])
     j_f = j_f * spread_factors(spec.exchange, n_bonds, rngs["exchange"])
     mu_f = mu_f * spread_factors(spec.moment, n, rngs["moment"], MIN_MOMENT_FACTOR)

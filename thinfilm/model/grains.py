@@ -50,21 +50,22 @@ def voronoi_grains(lattice, grain_size_nm, rng):
 
 
 def cone_axes(mean_axis, cone_rad, n, rng):
-    """n unit vectors uniform on the spherical cap of half-angle cone_rad around the unit mean_axis.
+    """n unit vectors uniform on the spherical cap of half-angle cone_rad around the unit axis
+    mean_axis ((3,), or (n, 3): one cap per vector).
 
     cos(theta) is uniform in [cos(cone_rad), 1] and the azimuth uniform; for cone_rad = 0 every
-    axis equals mean_axis bit for bit (n0 * 1.0 + 0.0 * (...)).
+    axis equals its mean axis bit for bit (n0 * 1.0 + 0.0 * (...)).
     """
-    n0 = np.asarray(mean_axis, dtype=np.float64)  # unit vector (not renormalised: bitwise)
-    helper = np.array([1.0, 0.0, 0.0]) if abs(n0[0]) < 0.9 else np.array([0.0, 1.0, 0.0])
+    n0 = np.broadcast_to(np.asarray(mean_axis, dtype=np.float64), (n, 3))  # not renormalised
+    helper = np.where((np.abs(n0[:, 0]) < 0.9)[:, None], [1.0, 0.0, 0.0], [0.0, 1.0, 0.0])
     e1 = np.cross(n0, helper)
-    e1 /= np.linalg.norm(e1)
+    e1 /= np.linalg.norm(e1, axis=1, keepdims=True)
     e2 = np.cross(n0, e1)
     u = rng.random(n)
     phi = 2.0 * np.pi * rng.random(n)
     cos_t = 1.0 - u * (1.0 - np.cos(cone_rad))
     sin_t = np.sqrt(np.maximum(0.0, 1.0 - cos_t * cos_t))
-    out = (cos_t[:, None] * n0[None, :]
+    out = (cos_t[:, None] * n0
            + sin_t[:, None] * (np.cos(phi)[:, None] * e1 + np.sin(phi)[:, None] * e2))
     if cone_rad > 0:
         out /= np.linalg.norm(out, axis=1, keepdims=True)
