@@ -15,8 +15,9 @@ positive, and the LLG step shrinks with the smallest moment). With s = 0 the fac
 Order of the factors: grain (K, axis, boundary J) x site spread x map; per-site axes
 (``axis_cone_deg``) are drawn in a cone around the grain axis (or the material axis).
 Exchange spreads and maps act per bond (map: the mean of the two end sites' factors).
-Vacancies: each site is empty independently with the given probability (site dilution as in site percolation), and a map
-with ``sets: vacancies`` empties the sites whose pixel value is below the threshold.
+Vacancies: each site is empty independently with the given probability (site dilution as in
+site percolation), and a map with ``sets: vacancies`` empties the sites whose pixel value is
+below the threshold.
 """
 
 import numpy as np
