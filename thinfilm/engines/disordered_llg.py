@@ -8,13 +8,16 @@ import math
 
 import numpy as np
 
+from thinfilm.config import threads
 from thinfilm.engines._kernels.site_field import site_totals
-from thinfilm.engines._kernels.site_llg import site_heun_run, site_heun_work
+from thinfilm.engines._kernels.site_llg import site_heun_run, site_heun_run_serial, site_heun_work
 from thinfilm.input.errors import StabilityError
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
 from thinfilm.model.site_parameters import SiteParameters
 
 __all__ = ["SiteLLG", "site_measure", "site_stable_time_step", "masked_spins"]
+
+PARALLEL_MIN_SITES = 4096  # smaller lattices run single-threaded (thread wake-ups dominate)
 
 
 def masked_spins(params, spins):
@@ -73,10 +76,13 @@ class SiteLLG:
         As :class:`thinfilm.engines.stochastic_llg.LLGSimulation` (K, -, s, -, rad/(s T), -).
     spins : ndarray (ny, nx, 3), optional
         Initial state (copied; vacancies set to zero); default every spin along its own axis.
+    parallel : bool or None
+        Rows in parallel; None (default): when there are >= 4096 sites and more than one
+        thread. Bitwise the same either way.
     """
 
     def __init__(self, params, *, temperature_K, damping, time_step_s, seed=1, spins=None,
-                 gamma=GAMMA_E_RAD_PER_S_T, step=0):
+                 gamma=GAMMA_E_RAD_PER_S_T, step=0, parallel=None):
         if not isinstance(params, SiteParameters):
             raise TypeError("SiteLLG needs SiteParameters (thinfilm.model.site_parameters)")
         self.params = params
@@ -92,6 +98,9 @@ class SiteLLG:
             spins[~params.occupied] = 1.0  # replaced by zeros in masked_spins
         self.spins = masked_spins(params, spins)
         self._work = site_heun_work(lat.ny, lat.nx)
+        if parallel is None:
+            parallel = lat.n_sites >= PARALLEL_MIN_SITES and threads() > 1
+        self.parallel = bool(parallel)
 
     @property
     def time_s(self):
@@ -116,7 +125,8 @@ class SiteLLG:
         db = (np.zeros(3) if field_rate_T_per_step is None
               else np.asarray(field_rate_T_per_step, dtype=np.float64))
         gdt = self.gamma * self.time_step_s / (1 + self.damping**2)
-        site_heun_run(self.spins.reshape(-1, 3), p.lattice.nx, int(n_steps), self.step,
+        run = site_heun_run if self.parallel else site_heun_run_serial
+        run(self.spins.reshape(-1, 3), p.lattice.nx, int(n_steps), self.step,
                       self.seed, nbr, jt, kt, axis, occ, p.noise_scale, b0, db, t0,
                       float(temperature_rate_K_per_step), self.noise_sigma_coef(), gdt,
                       self.damping, *self._work)

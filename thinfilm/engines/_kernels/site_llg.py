@@ -22,7 +22,7 @@ import numpy as np
 from thinfilm.engines._kernels.rng import key, normals_row
 from thinfilm.engines._kernels.site_field import site_field
 
-__all__ = ["site_heun_run", "site_heun_work"]
+__all__ = ["site_heun_run", "site_heun_run_serial", "site_heun_work"]
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 
@@ -44,10 +44,72 @@ def _rhs(sx, sy, sz, hx, hy, hz, gdt, alpha):
             -gdt * (cz + alpha * (sx * cy - sy * cx)))
 
 
+@nb.njit(inline="always", **_OPT)
+def _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, by, bz, gdt,
+                 alpha, sp, d1, nz):
+    """Noise and predictor of row i (pass 1)."""
+    row = nz[i]
+    if sigma > 0.0:
+        normals_row(k, i * npair, sigma, row)
+    else:
+        row[:] = 0.0
+    for j in range(nx):
+        q = i * nx + j
+        if not occ[q]:
+            for c in range(3):
+                sp[q, c] = 0.0
+                d1[q, c] = 0.0
+            continue
+        c = scale[q]
+        row[j] *= c
+        row[nx + j] *= c
+        row[2 * nx + j] *= c
+        hx, hy, hz = site_field(s, q, nbr, jt, kt, axis, bx, by, bz)
+        hx += row[j]
+        hy += row[nx + j]
+        hz += row[2 * nx + j]
+        sx = s[q, 0]
+        sy = s[q, 1]
+        sz = s[q, 2]
+        dx, dy, dz = _rhs(sx, sy, sz, hx, hy, hz, gdt, alpha)
+        d1[q, 0] = dx
+        d1[q, 1] = dy
+        d1[q, 2] = dz
+        px = sx + dx
+        py = sy + dy
+        pz = sz + dz
+        inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
+        sp[q, 0] = px * inv
+        sp[q, 1] = py * inv
+        sp[q, 2] = pz * inv
+
+
+@nb.njit(inline="always", **_OPT)
+def _correct_row(i, s, nx, nbr, jt, kt, axis, occ, bx, by, bz, gdt, alpha, sp, d1, nz):
+    """Corrector of row i (pass 2): s = normalised s + (d1 + d2)/2."""
+    row = nz[i]
+    for j in range(nx):
+        q = i * nx + j
+        if not occ[q]:
+            continue
+        hx, hy, hz = site_field(sp, q, nbr, jt, kt, axis, bx, by, bz)
+        hx += row[j]
+        hy += row[nx + j]
+        hz += row[2 * nx + j]
+        dx, dy, dz = _rhs(sp[q, 0], sp[q, 1], sp[q, 2], hx, hy, hz, gdt, alpha)
+        ox = s[q, 0] + 0.5 * (d1[q, 0] + dx)
+        oy = s[q, 1] + 0.5 * (d1[q, 1] + dy)
+        oz = s[q, 2] + 0.5 * (d1[q, 2] + dz)
+        inv = 1.0 / math.sqrt(ox * ox + oy * oy + oz * oz)
+        s[q, 0] = ox * inv
+        s[q, 1] = oy * inv
+        s[q, 2] = oz * inv
+
+
 @nb.njit(parallel=True, **_OPT)
 def site_heun_run(s, nx, n_steps, step0, seed, nbr, jt, kt, axis, occ, scale, b0, db, temp0,
                   dtemp, sigma_coef, gdt, alpha, sp, d1, nz):
-    """Advance the flat spins s (n, 3) in place by n_steps Heun steps.
+    """Advance the flat spins s (n, 3) in place by n_steps Heun steps (rows in parallel).
 
     Parameters
     ----------
@@ -61,68 +123,35 @@ def site_heun_run(s, nx, n_steps, step0, seed, nbr, jt, kt, axis, occ, scale, b0
     gdt : gamma dt/(1 + alpha^2) in 1/T.
     sp, d1, nz : work arrays from :func:`site_heun_work`.
     """
-    n = s.shape[0]
-    ny = n // nx
+    ny = s.shape[0] // nx
     npair = (3 * nx + 1) // 2
     for st in range(n_steps):
-        temp = temp0 + dtemp * st
-        if temp < 0.0:
-            temp = 0.0
-        sigma = sigma_coef * math.sqrt(temp)
+        sigma = sigma_coef * math.sqrt(max(temp0 + dtemp * st, 0.0))
         bx = b0[0] + db[0] * st
         by = b0[1] + db[1] * st
         bz = b0[2] + db[2] * st
         k = key(seed, 0, step0 + st)
         for i in nb.prange(ny):
-            row = nz[i]
-            if sigma > 0.0:
-                normals_row(k, i * npair, sigma, row)
-            else:
-                row[:] = 0.0
-            for j in range(nx):
-                q = i * nx + j
-                if not occ[q]:
-                    for c in range(3):
-                        sp[q, c] = 0.0
-                        d1[q, c] = 0.0
-                    continue
-                c = scale[q]
-                row[j] *= c
-                row[nx + j] *= c
-                row[2 * nx + j] *= c
-                hx, hy, hz = site_field(s, q, nbr, jt, kt, axis, bx, by, bz)
-                hx += row[j]
-                hy += row[nx + j]
-                hz += row[2 * nx + j]
-                sx = s[q, 0]
-                sy = s[q, 1]
-                sz = s[q, 2]
-                dx, dy, dz = _rhs(sx, sy, sz, hx, hy, hz, gdt, alpha)
-                d1[q, 0] = dx
-                d1[q, 1] = dy
-                d1[q, 2] = dz
-                px = sx + dx
-                py = sy + dy
-                pz = sz + dz
-                inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
-                sp[q, 0] = px * inv
-                sp[q, 1] = py * inv
-                sp[q, 2] = pz * inv
+            _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, by, bz,
+                         gdt, alpha, sp, d1, nz)
         for i in nb.prange(ny):
-            row = nz[i]
-            for j in range(nx):
-                q = i * nx + j
-                if not occ[q]:
-                    continue
-                hx, hy, hz = site_field(sp, q, nbr, jt, kt, axis, bx, by, bz)
-                hx += row[j]
-                hy += row[nx + j]
-                hz += row[2 * nx + j]
-                dx, dy, dz = _rhs(sp[q, 0], sp[q, 1], sp[q, 2], hx, hy, hz, gdt, alpha)
-                ox = s[q, 0] + 0.5 * (d1[q, 0] + dx)
-                oy = s[q, 1] + 0.5 * (d1[q, 1] + dy)
-                oz = s[q, 2] + 0.5 * (d1[q, 2] + dz)
-                inv = 1.0 / math.sqrt(ox * ox + oy * oy + oz * oz)
-                s[q, 0] = ox * inv
-                s[q, 1] = oy * inv
-                s[q, 2] = oz * inv
+            _correct_row(i, s, nx, nbr, jt, kt, axis, occ, bx, by, bz, gdt, alpha, sp, d1, nz)
+
+
+@nb.njit(**_OPT)
+def site_heun_run_serial(s, nx, n_steps, step0, seed, nbr, jt, kt, axis, occ, scale, b0, db,
+                         temp0, dtemp, sigma_coef, gdt, alpha, sp, d1, nz):
+    """:func:`site_heun_run` on one thread (bitwise the same result; small lattices)."""
+    ny = s.shape[0] // nx
+    npair = (3 * nx + 1) // 2
+    for st in range(n_steps):
+        sigma = sigma_coef * math.sqrt(max(temp0 + dtemp * st, 0.0))
+        bx = b0[0] + db[0] * st
+        by = b0[1] + db[1] * st
+        bz = b0[2] + db[2] * st
+        k = key(seed, 0, step0 + st)
+        for i in range(ny):
+            _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, by, bz,
+                         gdt, alpha, sp, d1, nz)
+        for i in range(ny):
+            _correct_row(i, s, nx, nbr, jt, kt, axis, occ, bx, by, bz, gdt, alpha, sp, d1, nz)
