@@ -16,6 +16,9 @@ Tc from the crossing of Binder cumulants of the disorder averages,
 U = 1 - [<m^4>]/(3 [<m^2>]^2) (m = m_z per occupied site), errors by a jackknife over
 realisations (each realisation's thermal noise is independent, so this error holds both).
 
+Measured (L = 16/32, 16 realisations, 4000 samples): Tc(0.05) = 2.116(17), Tc(0.10) = 1.929(21),
+Tc(0.20) = 1.504(36) J/kB.
+
 Run: ``python validation/diluted_ising.py [--quick] [--fractions 0.1 0.2] [--sizes 16 32]
 [--realisations 16] [--samples 4000]``: prints Tc(x) with errors and the guides.
 """
