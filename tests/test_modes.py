@@ -42,6 +42,7 @@ VALUES = {
     "dynamics.moves": ["metropolis"],
     "dynamics.cluster_direction": "axis",
     "record": {"every": "0.01 ps"},
+    "disorder.realisations": 2,
     "sweep": {"snapshots": 2},
     "analysis": {"level": 0.1},
     "instrument": {"resolution": "2 nm"},

@@ -22,8 +22,14 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     if sc.is_sweep:
         from thinfilm.runs.sweep import run_sweep
 
-        run_sweep(sc, out_dir, resume=resume, overwrite=overwrite, workers=workers,
-                  cluster=cluster or sc.sweep.cluster, progress=progress)
+        if sc.disorder is not None and sc.disorder.realisations > 1:
+            from thinfilm.runs.ensemble_sweep import run_ensemble_sweep
+
+            run_ensemble_sweep(sc, out_dir, resume=resume, overwrite=overwrite, workers=workers,
+                               cluster=cluster or sc.sweep.cluster, progress=progress)
+        else:
+            run_sweep(sc, out_dir, resume=resume, overwrite=overwrite, workers=workers,
+                      cluster=cluster or sc.sweep.cluster, progress=progress)
         from thinfilm.render.plots import plot_sweep
 
         plot_sweep(out_dir)

@@ -136,7 +136,7 @@ def _grains(r, lattice):
     g = r.sub("grains")
     g.check_keys({"size", "axis_cone_deg", "anisotropy", "boundary_exchange"})
     size_nm = g.quantity("size", "length", required=True, positive=True) * 1e9
-    lx, ly = lattice.box_nm
+    lx, ly = getattr(lattice, "smallest_box_nm", lattice.box_nm)
     if size_nm < lattice.spacing_nm:
         raise g.error(f"must be at least the lattice spacing ({lattice.spacing_nm:g} nm); got "
                       f"{g.raw('size')!r}", "size")
@@ -168,11 +168,8 @@ def _map(r, path, lattice):
         raise m.error(f"cannot read {str(f)!r} as a map: {exc}", "file") from None
     scale_nm = m.quantity("scale", "length", required=True, positive=True) * 1e9
     sets = m.choice("sets", MAP_TARGETS, required=True)
-    lx, ly = lattice.box_nm
-    pos = lattice.positions_nm
-    # periodic: the whole torus; open: up to the last site (positions below 0 use pixel 0)
-    need_x = lx if lattice.periodic else float(pos[..., 0].max())
-    need_y = ly if lattice.periodic else float(pos[..., 1].max())
+    # the map covers the whole box of the film (of the largest film of a set)
+    need_x, need_y = lattice.box_nm
     tol = 1 - 1e-12
     if img.shape[1] * scale_nm <= need_x * tol or img.shape[0] * scale_nm <= need_y * tol:
         raise m.error(f"the map ({img.shape[1]} x {img.shape[0]} pixels of {scale_nm:g} nm = "
@@ -201,9 +198,9 @@ def parse_disorder(raw, path, lattice):
         The mapping under the ``disorder`` key (None: a perfect film).
     path : str
         Scenario file (error messages; map files are relative to its folder).
-    lattice : thinfilm.model.lattice.Lattice or any object with box_nm, spacing_nm,
-        positions_nm, periodic
-        The film (grain sizes and maps are checked against it).
+    lattice : object with box_nm, spacing_nm and optionally smallest_box_nm
+        The film geometry (nm): maps must cover box_nm (the largest film of a set), grains
+        must fit in smallest_box_nm (default box_nm).
 
     Returns
     -------

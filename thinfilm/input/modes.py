@@ -53,6 +53,9 @@ KEY_MODES = {
                                    "set dynamics.method: monte-carlo"),
     "dynamics.sample_every": (SETS, "steps (llg-set) or sweeps (mc-set) between samples",
                               "a time-resolved run records at record.every"),
+    "disorder.realisations": (SETS, "several disorder realisations, averaged, with the spread of Tc",
+                              "a time-resolved run follows one realisation; remove it or make "
+                              "the scenario a set"),
     "record": (("run",), "time-series and snapshot intervals of the run",
                "an equilibrium set keeps sweep.snapshots snapshots per point"),
     "sweep": (SETS, "order, cluster and snapshots of the set's points",
@@ -83,6 +86,8 @@ def _present(data, dotted):
         if not isinstance(node, dict) or node.get(part) is None:
             return False
         node = node[part]
+    if dotted == "disorder.realisations" and node == 1:
+        return False  # one realisation is what every run has
     return node is not False and node != "none"
 
 

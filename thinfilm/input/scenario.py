@@ -6,12 +6,15 @@ Every error names the file, the key path, the value and what is allowed.
 import difflib
 import math
 import os
+from dataclasses import replace
 from pathlib import Path
+from types import SimpleNamespace
 
 import numpy as np
 import yaml
 
 from thinfilm.input.continuum import continuum_to_lattice
+from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
 from thinfilm.input.modes import check_keys_for_mode, scenario_mode
 from thinfilm.input.reader import Reader
@@ -22,6 +25,7 @@ from thinfilm.input.spec import (
     MaterialSpec,
     Scenario,
     SweepSpec,
+    box_nm,
 )
 from thinfilm.input.units import KB_J_PER_K, MEV_J, MU0, parse_quantity
 
@@ -276,6 +280,32 @@ def _instruments(r):
     return out[0], tuple(out)
 
 
+def _disorder(r, path, lat, sizes, mat, dyn):
+    """The validated ``disorder`` section (None for a perfect film), checked against the films
+    it will be laid on and against the engines that can run it."""
+    raw = r.raw("disorder")
+    if raw is None:
+        return None
+    sides = [(s, s) for s in sizes] if sizes else [(lat.nx, lat.ny)]
+    boxes = [box_nm(lat.shape, nx, ny, lat.spacing_nm) for nx, ny in sides]
+    geometry = SimpleNamespace(box_nm=max(boxes, key=lambda b: b[0] * b[1]),
+                               smallest_box_nm=min(boxes, key=lambda b: b[0] * b[1]),
+                               spacing_nm=lat.spacing_nm, periodic=lat.periodic)
+    spec = parse_disorder(raw, path, geometry)
+    if not spec.is_disordered:
+        return None
+    if mat.dipolar:
+        raise r.error("the per-site (disordered) engines have no dipolar field; remove "
+                      "material.dipolar or the disorder section", "disorder")
+    if dyn.method == "monte-carlo" and "cluster" in dyn.moves:
+        given = isinstance(r.raw("dynamics"), dict) and "moves" in r.raw("dynamics")
+        if given:
+            raise ScenarioError("cluster moves are not available for a disordered film (the "
+                                "per-site Monte Carlo engine has Metropolis moves only); set "
+                                "moves: [metropolis]", path=path, key="dynamics.moves")
+    return spec
+
+
 def load_scenario(source):
     """Read and validate a scenario from a YAML path or a dictionary.
 
@@ -310,7 +340,8 @@ def load_scenario(source):
             raise ScenarioError("is empty; see scenarios/ for examples", path=path)
     r = Reader(data, path)
     r.check_keys({"name", "description", "lattice", "material", "field", "temperature", "sizes",
-                  "dynamics", "initial", "record", "seed", "sweep", "instrument", "movie", "analysis"})
+                  "dynamics", "initial", "record", "seed", "sweep", "instrument", "movie", "analysis",
+                  "disorder"})
     lat = _lattice(r)
     mat = _material(r, lat)
     field_T = r.vector("field", unit_kind="field", default={"value": [0, 0, 0], "unit": "T"})
@@ -365,8 +396,12 @@ def load_scenario(source):
         analysis["smoothing_nm"] = sm * 1e9
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
     primary, instruments = _instruments(r)
+    disorder = _disorder(r, path, lat, sizes, mat, dyn)
+    if disorder is not None and "cluster" in dyn.moves:  # default moves: Metropolis only here
+        dyn = replace(dyn, moves=("metropolis",))
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, _initial(r, path), every,
-                    snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments)
+                    snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments,
+                    disorder)
 
 
 def thermal_energy_meV(temperature_K):

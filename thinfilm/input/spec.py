@@ -6,9 +6,21 @@ import numpy as np
 
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 
-__all__ = ["LatticeSpec", "MaterialSpec", "DynamicsSpec", "SweepSpec", "Scenario", "SHAPES"]
+__all__ = ["LatticeSpec", "MaterialSpec", "DynamicsSpec", "SweepSpec", "Scenario", "SHAPES", "box_nm"]
 
 SHAPES = ("square", "triangular", "honeycomb")
+_SQ3 = 3.0 ** 0.5
+
+
+def box_nm(shape, nx, ny, spacing_nm):
+    """(Lx, Ly) in nm of an nx x ny grid of the shape: the periods of the torus (also the
+    extent for open edges); nearest-neighbour distance spacing_nm."""
+    a = spacing_nm
+    if shape == "square":
+        return (nx * a, ny * a)
+    if shape == "triangular":
+        return (nx * a, ny * a * _SQ3 / 2)
+    return (nx * a * _SQ3 / 2, ny * a * 1.5)
 
 
 @dataclass(frozen=True)
@@ -79,6 +91,8 @@ class Scenario:
     raw: dict = field(default_factory=dict, repr=False)
     mode: str = "run"  # run | llg-set | mc-set (thinfilm.input.modes)
     instruments: tuple = ()  # every instrument (dicts); ``instrument`` is the first
+    disorder: object = None  # thinfilm.input.disorder_spec.DisorderSpec, or None (perfect film)
+    disorder_realisation: int = 0  # which realisation of the disorder (seed offset)
 
     @property
     def is_sweep(self):
@@ -133,6 +147,9 @@ class Scenario:
                             "snapshots": self.sweep.snapshots}
         if self.instrument:
             out["instrument"] = dict(self.instrument)
+        if self.disorder is not None:
+            out["disorder"] = self.raw.get("disorder")
+            out["disorder_realisation"] = self.disorder_realisation
         if len(self.instruments) > 1:
             out["instruments"] = [dict(i) for i in self.instruments]
         if self.analysis and self.sweep:

@@ -131,3 +131,16 @@ def realise_disorder(model, spec, seed):
                           aniso.reshape(ny, nx), axes.reshape(ny, nx, 3), mom.reshape(ny, nx),
                           occ.reshape(ny, nx), model.field_T, model.axis,
                           None if grain_id is None else grain_id)
+
+
+def scenario_site_parameters(scenario, model):
+    """SiteParameters of the scenario's disorder on ``model`` (None for a perfect film).
+
+    Realisation k (``scenario.disorder_realisation``) uses the seed disorder.seed + k, or the
+    scenario seed + k when the disorder section has no seed of its own.
+    """
+    spec = getattr(scenario, "disorder", None)
+    if spec is None or not spec.is_disordered:
+        return None
+    base = spec.seed if spec.seed is not None else int(scenario.seed)
+    return realise_disorder(model, spec, base + int(getattr(scenario, "disorder_realisation", 0)))

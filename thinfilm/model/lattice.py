@@ -19,7 +19,7 @@ from functools import cached_property
 
 import numpy as np
 
-from thinfilm.input.spec import SHAPES
+from thinfilm.input.spec import SHAPES, box_nm
 from thinfilm.model.neighbours import COUNT, SHAPE_CODE
 from thinfilm.model.neighbours import neighbour_offsets as _offsets
 
@@ -91,12 +91,7 @@ class Lattice:
     @property
     def box_nm(self):
         """(Lx, Ly) in nm: the periods of the torus (also the extent for open edges)."""
-        a = self.spacing_nm
-        if self.shape == "square":
-            return (self.nx * a, self.ny * a)
-        if self.shape == "triangular":
-            return (self.nx * a, self.ny * a * SQ3 / 2)
-        return (self.nx * a * SQ3 / 2, self.ny * a * 1.5)
+        return box_nm(self.shape, self.nx, self.ny, self.spacing_nm)
 
     @cached_property
     def positions_nm(self):

@@ -366,6 +366,8 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
         "box_nm": box, "instrument": {k: ins[k] for k in ("resolution_nm", "exposure_s", "field_of_view_nm")},
         "instrument_source": ins["source"], "view_limit_nm": a["view_limit_nm"],
         "tc_K": a["tc_K"], "tc_err_K": a["tc_err_K"], "tc_method": a["tc_method"],
+        "tc_spread_K": (a["tc_json"] or {}).get("tc_spread_K"),
+        "tc_realisations_K": (a["tc_json"] or {}).get("tc_realisations_K"),
         "breakup_window_K": [low[0], high[0]], "breakup_window_err_K": [low[1], high[1]],
         "breakup_window_bounds": [a["low"]["bound"], a["high"]["bound"]],
         "breakup_upper_edge_from": a["high_from"],

@@ -9,7 +9,12 @@ import shlex
 
 import numpy as np
 
-from thinfilm.plan.beyond_figure import beyond_caption, beyond_figure
+from thinfilm.plan.beyond_report import (
+    _beyond_summary,
+    beyond_caption,
+    beyond_figure,
+    beyond_lines,
+)
 
 __all__ = ["resolved_note", "timescale_note", "command", "figures", "markdown", "summary_text",
            "CAUTIONS"]
@@ -278,7 +283,12 @@ def markdown(plan):
              + (f"{fov:g} nm" if fov is not None else "not given")
              + f" (from: {', '.join(f'{k} {v}' for k, v in plan['instrument_source'].items())})", "",
              "## Answers", "",
-             f"- **Tc = {_fmt(plan['tc_K'], plan['tc_err_K'])}** ({plan['tc_method']}).",
+             f"- **Tc = {_fmt(plan['tc_K'], plan['tc_err_K'])}** ({plan['tc_method']})."
+             + (f" Sample-to-sample spread of Tc over {len(plan['tc_realisations_K'])} disorder "
+                f"realisations: {plan['tc_spread_K']:.3g} K (Tc of each: "
+                + ", ".join(f"{x:.4g}" for x in plan["tc_realisations_K"] if x is not None)
+                + " K); a real film's Tc can lie anywhere in that range, so the heating range "
+                "should cover Tc +- 2 spreads." if plan.get("tc_spread_K") else ""),
              f"- **Domain pattern breaks up** between {_edge_text(lo, elo, blo)} and "
              f"{_edge_text(hi, ehi, bhi)}: from where the typical domain diameter falls below the view "
              f"limit ({plan['view_limit_nm']:.3g} nm) to where the {plan['breakup_upper_edge_from']} "
@@ -335,58 +345,6 @@ def markdown(plan):
     return "\n".join(lines)
 
 
-def _beyond_summary(plan):
-    hw = (plan.get("extrapolation") or {}).get("resolved_halfwidth_K") or {}
-    if not hw:
-        return []
-    w = max(v[0] for v in hw.values())
-    return [f"  beyond       xi > {plan['instrument']['resolution_nm']:g} nm only within about "
-            f"{w:.3g} K of Tc (extrapolated from the lattice; extrapolation.csv)"]
-
-
-def beyond_lines(plan):
-    """plan.md section: what is measured on the lattice and what is extrapolated beyond it."""
-    b = plan.get("extrapolation") or {}
-    out = ["", "## Beyond the lattice", ""]
-    c = b.get("collapse")
-    if c:
-        u = c["universality"]
-        out.append(f"- Finite-size scaling collapse of U4 (sizes {c['sizes']}): Tc = "
-                   f"{_fmt(c['tc_K'], c['tc_err_K'])}, nu = {c['nu']:.3g} +- {c['nu_err']:.2g}, "
-                   f"chi2/dof = {c['chi2_dof']:.2g}. {u.get('verdict', '')}")
-    elif b.get("collapse_refused"):
-        out.append(f"- No scaling collapse: {b['collapse_refused']}")
-    if b.get("extrapolation_refused"):
-        out.append(f"- No extrapolation: {b['extrapolation_refused']}")
-        return out
-    fit = (b.get("fits") or {}).get("correlation_length")
-    if fit:
-        out.append(f"- xi (the S(k) length where it is defined, else the second moment) fitted "
-                   f"as A |t|^-nu (1 + c |t|), nu = {fit['nu']:g}, to "
-                   f"{fit['n_points']} points with film side >= 6 xi (largest used "
-                   f"{max(v for v in fit['max_used_nm'].values() if v is not None):.3g} nm); "
-                   f"values in extrapolation.csv are flagged measured / extrapolated / refused; "
-                   f"extrapolation stops where the relative error exceeds "
-                   f"{fit['rule']['max_rel_err']:g} or xi exceeds {fit['rule']['max_factor']:g} x "
-                   f"the largest fitted value (values there are refused).")
-    w = b.get("resolved_window")
-    if w:
-        edges = w.get("window_K") or [None, None]
-        txt = [f"{e:.5g} K" if e is not None else "refused" for e in edges]
-        out.append(f"- xi exceeds the resolution ({b['resolution_nm']:g} nm) between {txt[0]} and "
-                   f"{txt[1]} (extrapolated; reasons for refused edges: "
-                   f"{'; '.join(f'{k}: {v}' for k, v in (w.get('reasons') or {}).items() if v) or 'none'}).")
-    hw = b.get("resolved_halfwidth_K") or {}
-    if hw:
-        out.append("- Half-width of that window about Tc (from the fitted amplitude, independent of "
-                   "the error of Tc): " + ", ".join(
-                       f"{s} Tc {v[0]:.3g} K" + (f" +- {v[1]:.2g} K" if v[1] is not None else "")
-                       for s, v in hw.items()) + ".")
-    if b.get("tc_note"):
-        out.append(f"- Note: {b['tc_note']}.")
-    return out
-
-
 def summary_text(plan):
     """About ten lines of plain text for the terminal."""
     ins = plan["instrument"]
@@ -400,7 +358,9 @@ def summary_text(plan):
         f"heating plan for {plan['scenario']} (sweep L = {plan['size']}, {plan['sweep']})",
         f"  instrument   resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s"
         + (f", field of view {ins['field_of_view_nm']:g} nm" if ins["field_of_view_nm"] else ""),
-        f"  Tc           {_fmt(plan['tc_K'], plan['tc_err_K'])} ({plan['tc_method']})",
+        f"  Tc           {_fmt(plan['tc_K'], plan['tc_err_K'])} ({plan['tc_method']})"
+        + (f"; spread {plan['tc_spread_K']:.3g} K over {len(plan['tc_realisations_K'])} disorder "
+           "realisations: heat over Tc +- 2 spreads" if plan.get("tc_spread_K") else ""),
         f"  break-up     {_edge_text(lo, elo, blo)} .. {_edge_text(hi, ehi, bhi)}",
         "  resolved     " + ("none: " + plan["resolved_note"] if plan["resolved_window_K"] is None
                             else f"{plan['resolved_window_K'][0]:.6g} .. {plan['resolved_window_K'][1]:.6g} K"

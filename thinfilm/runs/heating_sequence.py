@@ -12,9 +12,10 @@ The folder is a run folder (``manifest.json`` of kind ``sequence``, ``snapshots/
 import numpy as np
 from tqdm import tqdm
 
-from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.engines.select import make_monte_carlo
 from thinfilm.engines.stochastic_llg import initial_spins
 from thinfilm.input.errors import InputError
+from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
 from thinfilm.runs.folder import RunFolder
 from thinfilm.runs.sweep_point import sized_scenario
@@ -65,6 +66,9 @@ def run_heating_sequence(scenario, out_dir, *, size, temperatures_K, frames=3, b
     mc_options = {"moves": sc.dynamics.moves, "cluster_direction": sc.dynamics.cluster_direction,
                   **mc_options}
     model = build_model(sc)
+    params = scenario_site_parameters(sc, model)
+    if params is not None:  # the per-site engine has Metropolis moves only
+        mc_options = {k: v for k, v in mc_options.items() if k not in ("moves", "cluster_direction")}
     lat = model.lattice
     folder = RunFolder(out_dir, resume=resume, overwrite=overwrite)
     n_frames = len(temps) * frames
@@ -82,8 +86,8 @@ def run_heating_sequence(scenario, out_dir, *, size, temperatures_K, frames=3, b
     try:
         for k in range(done + 1, n_frames):
             ti, fi = divmod(k, frames)
-            mc = MonteCarlo(model, temps[ti], seed=int(sc.seed) * 100003 + k, initial_spins=spins,
-                            sigma=sigma, stream=5, **mc_options)
+            mc = make_monte_carlo(model, temps[ti], params, seed=int(sc.seed) * 100003 + k,
+                                  initial_spins=spins, sigma=sigma, stream=5, **mc_options)
             if fi == 0:
                 mc.warmup(int(warmup))
             mc.sweep(int(between))

@@ -19,13 +19,16 @@ import numpy as np
 
 from thinfilm.analysis.correlation import correlation_function, correlation_length
 from thinfilm.analysis.domains import domain_statistics
+from thinfilm.analysis.grain_pinning import wall_on_boundary_fraction
 from thinfilm.analysis.patterns import bubble_statistics, stripe_orientation, stripe_period
 from thinfilm.analysis.structure import structure_factor_length
 from thinfilm.analysis.thermo import thermodynamics
-from thinfilm.engines.montecarlo import PARALLEL_MIN_SITES, MonteCarlo
-from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, stable_time_step
+from thinfilm.engines.montecarlo import PARALLEL_MIN_SITES
+from thinfilm.engines.select import make_llg, make_monte_carlo
+from thinfilm.engines.stochastic_llg import initial_spins, stable_time_step
 from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
 from thinfilm.input.units import MEV_J
+from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
@@ -43,7 +46,8 @@ ROW_COLUMNS = (
     "correlation_length_instrument_nm", "correlation_length_instrument_nm_err",
     "mean_domain_area_nm2", "mean_domain_area_nm2_err", "area_weighted_domain_area_nm2",
     "domain_count", "largest_domain_fraction",
-    "stripe_period_nm", "stripe_order", "bubble_count", "method", "seed",
+    "stripe_period_nm", "stripe_order", "bubble_count",
+    "wall_on_boundary_fraction", "wall_on_boundary_expected", "method", "seed",
 )
 
 
@@ -133,8 +137,11 @@ def _sample_mc(task, model, spins):
     d = task.scenario.dynamics
     every = int(d.sample_every)
     n_samples = max(4, int(d.sweeps_samples) // every)
-    mc = MonteCarlo(model, task.temperature_K, seed=task.seed, initial_spins=spins, moves=d.moves,
-                    cluster_direction=d.cluster_direction)
+    params = scenario_site_parameters(task.scenario, model)
+    extra = {} if params is not None else {"moves": d.moves,
+                                           "cluster_direction": d.cluster_direction}
+    mc = make_monte_carlo(model, task.temperature_K, params, seed=task.seed, initial_spins=spins,
+                          **extra)
     mc.warmup(int(d.sweeps_warmup))
     parts, snaps, acc = [], [], []
     for n in _split(n_samples, task.scenario.sweep.snapshots):
@@ -163,7 +170,8 @@ def _sample_llg(task, model, spins):
     every = int(d.sample_every)
     n_warm = int(round(d.warmup_s / dt))
     n_samples = max(4, int(round(d.duration_s / dt)) // every)
-    sim = LLGSimulation(model, temperature_K=task.temperature_K, damping=d.damping,
+    sim = make_llg(model, scenario_site_parameters(task.scenario, model),
+                   temperature_K=task.temperature_K, damping=d.damping,
                         time_step_s=dt, seed=task.seed, spins=spins, gamma=d.gamma)
     sim.advance(n_warm)
     chunks = _split(n_samples, task.scenario.sweep.snapshots)
@@ -260,7 +268,19 @@ def _patterns(fields, lat):
     return out
 
 
-def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None):
+def _pinning(fields, lat, params):
+    """Fraction of domain-wall bonds on grain boundaries (mean over snapshots) and the fraction
+    expected for walls placed without regard to the grains (NaN without grains)."""
+    if params is None or getattr(params, "grain_id", None) is None:
+        return {"wall_on_boundary_fraction": math.nan, "wall_on_boundary_expected": math.nan}
+    res = [wall_on_boundary_fraction(f, params.grain_id, lat.neighbours, occupied=params.occupied)
+           for f in fields]
+    frac = [r["fraction"] for r in res if np.isfinite(r["fraction"])]
+    return {"wall_on_boundary_fraction": float(np.mean(frac)) if frac else math.nan,
+            "wall_on_boundary_expected": float(res[0]["expected"])}
+
+
+def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None, params=None):
     """Correlation lengths, C(r) and domain statistics of the snapshots (field S.n).
 
     ``ordered`` selects the ordered-phase second-moment form (S(0) extrapolated from k1 and
@@ -298,7 +318,7 @@ def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None):
     sk, sk_err = _sk_length(fields, pos, box, lat.period,
                             lat.spacing_nm if lat.shape == "square" else None)
     ins, ins_err = _instrument_length(fields, lat, instrument or {}, seed, ordered)
-    row = {**_patterns(fields, lat),
+    row = {**_patterns(fields, lat), **_pinning(fields, lat, params),
         "correlation_length_sk_nm": sk, "correlation_length_sk_nm_err": sk_err,
         "correlation_length_instrument_nm": ins, "correlation_length_instrument_nm_err": ins_err,
         "correlation_length_nm": xi["second_moment_nm"],
@@ -351,10 +371,12 @@ def _compute(task, sc, model, lat, method, t0):
         series, snaps, final, details, time_ps = sampler(task, model, spins)
         mv = series["m_vector"]
         order = _order(model, mv)
-        th = thermodynamics(series["energy_J"], order, mv, lat.n_sites, task.temperature_K)
+        params = scenario_site_parameters(sc, model)
+        n_spins = lat.n_sites if params is None else int(params.occupied.sum())  # occupied sites
+        th = thermodynamics(series["energy_J"], order, mv, n_spins, task.temperature_K)
         ordered = th["binder"] > ORDERED_BINDER
         spatial, corr_rows, dom_rows = _spatial(model, snaps, ordered, sc.instrument, task.seed,
-                                                   sc.analysis)
+                                                sc.analysis, params)
     row = {"size": int(task.size), "temperature_K": float(task.temperature_K)}
     for name in ROW_COLUMNS[2:19]:
         row[name] = float(th[name]) if name != "n_samples" else int(th[name])

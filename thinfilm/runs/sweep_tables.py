@@ -54,6 +54,10 @@ COLUMN_UNITS = {
     "stripe_period_nm": "nm, period from the radial peak of S(k) of S.n, mean over snapshots",
     "stripe_order": "dimensionless, nematic orientation order of the pattern (0 isotropic, 1 stripes)",
     "bubble_count": "round (bubble) domains per snapshot, mean over snapshots",
+    "wall_on_boundary_fraction": ("fraction of domain-wall bonds that lie on grain boundaries, "
+                                  "mean over snapshots (films with grains)"),
+    "wall_on_boundary_expected": ("fraction of all bonds on grain boundaries: what walls placed "
+                                  "without regard to the grains would give"),
     "method": "sampler: monte-carlo or llg",
     "seed": "seed of this point, derived from (scenario seed, size, temperature)",
 }

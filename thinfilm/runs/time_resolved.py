@@ -6,8 +6,10 @@ import time
 import numpy as np
 from tqdm import tqdm
 
-from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins, stable_time_step
+from thinfilm.engines.select import make_llg
+from thinfilm.engines.stochastic_llg import initial_spins, stable_time_step
 from thinfilm.input.errors import ThinFilmWarning
+from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
 from thinfilm.runs.folder import RunFolder
 
@@ -69,7 +71,7 @@ def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=T
     else:
         spins = initial_spins(lat, sc.initial, seed=sc.seed, axis=model.axis)
         step, rows, n_snap = 0, [], 0
-    sim = LLGSimulation(model, temperature_K=t0, damping=d.damping, time_step_s=dt, seed=sc.seed,
+    sim = make_llg(model, scenario_site_parameters(sc, model), temperature_K=t0, damping=d.damping, time_step_s=dt, seed=sc.seed,
                         spins=spins, gamma=d.gamma, step=step)
     manifest = {"kind": "dynamics", "scenario": sc.describe(), "lattice": lat.describe(),
                 "steps": {"warmup": n_warm, "run": n_run, "record_every": every,

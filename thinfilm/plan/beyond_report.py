@@ -1,8 +1,8 @@
-"""Figure of the plan beyond the lattice: xi against |T - Tc| / Tc, measured and extrapolated."""
+"""The plan beyond the lattice in words and in a figure (xi against |T - Tc| / Tc)."""
 
 import numpy as np
 
-__all__ = ["beyond_figure", "beyond_caption"]
+__all__ = ["beyond_figure", "beyond_caption", "beyond_lines"]
 
 BLUE, VERMILION, SKY, GREY = "#0072B2", "#D55E00", "#56B4E9", "#7F7F7F"
 
@@ -67,3 +67,55 @@ def beyond_caption(plan):
             "term A/|t| of the fit, whose crossing with the resolution gives the half-width of "
             "the resolved window about Tc; the width depends on A alone, the window's position "
             "on Tc and its error. Values: extrapolation.csv.")
+
+
+def _beyond_summary(plan):
+    hw = (plan.get("extrapolation") or {}).get("resolved_halfwidth_K") or {}
+    if not hw:
+        return []
+    w = max(v[0] for v in hw.values())
+    return [f"  beyond       xi > {plan['instrument']['resolution_nm']:g} nm only within about "
+            f"{w:.3g} K of Tc (extrapolated from the lattice; extrapolation.csv)"]
+
+
+def beyond_lines(plan):
+    """plan.md section: what is measured on the lattice and what is extrapolated beyond it."""
+    b = plan.get("extrapolation") or {}
+    out = ["", "## Beyond the lattice", ""]
+    c = b.get("collapse")
+    if c:
+        u = c["universality"]
+        out.append(f"- Finite-size scaling collapse of U4 (sizes {c['sizes']}): Tc = "
+                   f"{c['tc_K']:.4g} +- {c['tc_err_K']:.2g} K, nu = {c['nu']:.3g} +- {c['nu_err']:.2g}, "
+                   f"chi2/dof = {c['chi2_dof']:.2g}. {u.get('verdict', '')}")
+    elif b.get("collapse_refused"):
+        out.append(f"- No scaling collapse: {b['collapse_refused']}")
+    if b.get("extrapolation_refused"):
+        out.append(f"- No extrapolation: {b['extrapolation_refused']}")
+        return out
+    fit = (b.get("fits") or {}).get("correlation_length")
+    if fit:
+        out.append(f"- xi (the S(k) length where it is defined, else the second moment) fitted "
+                   f"as A |t|^-nu (1 + c |t|), nu = {fit['nu']:g}, to "
+                   f"{fit['n_points']} points with film side >= 6 xi (largest used "
+                   f"{max(v for v in fit['max_used_nm'].values() if v is not None):.3g} nm); "
+                   f"values in extrapolation.csv are flagged measured / extrapolated / refused; "
+                   f"extrapolation stops where the relative error exceeds "
+                   f"{fit['rule']['max_rel_err']:g} or xi exceeds {fit['rule']['max_factor']:g} x "
+                   f"the largest fitted value (values there are refused).")
+    w = b.get("resolved_window")
+    if w:
+        edges = w.get("window_K") or [None, None]
+        txt = [f"{e:.5g} K" if e is not None else "refused" for e in edges]
+        out.append(f"- xi exceeds the resolution ({b['resolution_nm']:g} nm) between {txt[0]} and "
+                   f"{txt[1]} (extrapolated; reasons for refused edges: "
+                   f"{'; '.join(f'{k}: {v}' for k, v in (w.get('reasons') or {}).items() if v) or 'none'}).")
+    hw = b.get("resolved_halfwidth_K") or {}
+    if hw:
+        out.append("- Half-width of that window about Tc (from the fitted amplitude, independent of "
+                   "the error of Tc): " + ", ".join(
+                       f"{s} Tc {v[0]:.3g} K" + (f" +- {v[1]:.2g} K" if v[1] is not None else "")
+                       for s, v in hw.items()) + ".")
+    if b.get("tc_note"):
+        out.append(f"- Note: {b['tc_note']}.")
+    return out

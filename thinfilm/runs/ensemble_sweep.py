@@ -1,0 +1,112 @@
+"""An equilibrium set over several disorder realisations: one sweep each, and their average.
+
+Realisation k (disorder seed + k) is a complete sweep folder ``realisations/r<k>/``. The folder
+itself then holds the disorder average in the usual form, so figures and the heating plan read
+it unchanged:
+
+* ``observables.csv``: per size and temperature the mean over realisations of every numeric
+  column; an ``*_err`` column is the error of that mean, sqrt(spread^2 + mean thermal error^2)
+  / sqrt(n), with spread the sample-to-sample standard deviation;
+* ``ensemble.csv``: the spread (``<column>_spread``) of every numeric column;
+* ``tc.json``: Tc of the averaged curves, and ``tc_realisations_K``, ``tc_spread_K`` (standard
+  deviation over realisations) and ``tc_mean_K`` of the per-realisation Tc values;
+* ``manifest.json`` of kind ``sweep`` listing the realisations.
+
+A realisation folder that finished is reused on ``resume``.
+"""
+
+import json
+import math
+import time
+import warnings
+from pathlib import Path
+
+import numpy as np
+
+from thinfilm._io import write_csv, write_json
+from thinfilm.runs.folder import read_csv_table, versions
+from thinfilm.runs.sweep import run_sweep
+from thinfilm.runs.sweep_point import ROW_COLUMNS
+from thinfilm.runs.sweep_tables import COLUMN_UNITS, tc_estimate
+
+__all__ = ["run_ensemble_sweep"]
+
+
+def _finished(folder):
+    m = folder / "manifest.json"
+    try:
+        return m.is_file() and json.loads(m.read_text()).get("finished")
+    except (OSError, ValueError):
+        return False
+
+
+def _average(tables):
+    """{column: averaged array}, {column_spread: array} over tables with the same rows."""
+    n = len(tables)
+    avg, spread = {}, {}
+    for c in ROW_COLUMNS:
+        if c in ("method",) or not np.issubdtype(np.asarray(tables[0][c]).dtype, np.number):
+            avg[c] = tables[0][c]
+            continue
+        v = np.array([t[c] for t in tables], dtype=np.float64)
+        if c in ("size", "temperature_K"):
+            avg[c] = v[0]
+            continue
+        if c.endswith("_err"):
+            continue
+        with np.errstate(invalid="ignore"), warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)  # all-NaN columns give NaN
+            mean = np.nanmean(v, axis=0)
+            sd = np.nanstd(v, axis=0, ddof=1) if n > 1 else np.zeros(v.shape[1])
+        avg[c], spread[f"{c}_spread"] = mean, sd
+        if f"{c}_err" in ROW_COLUMNS:
+            e = np.array([t[f"{c}_err"] for t in tables], dtype=np.float64)
+            with np.errstate(invalid="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)
+                therm = np.sqrt(np.nanmean(e**2, axis=0))
+            avg[f"{c}_err"] = np.sqrt(sd**2 + therm**2) / math.sqrt(n)
+    return avg, spread
+
+
+def run_ensemble_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
+                       cluster=None, progress=True):
+    """Run one sweep per disorder realisation and write their average; returns the folder."""
+    sc = scenario
+    n = sc.disorder.realisations
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    started = time.time()
+    folders = []
+    for k in range(n):
+        f = out / "realisations" / f"r{k:02d}"
+        if not (resume and _finished(f)):
+            if progress:
+                print(f"disorder realisation {k + 1}/{n}")
+            run_sweep(sc.with_changes(disorder_realisation=k), f, resume=resume,
+                      overwrite=overwrite or not resume, workers=workers, cluster=cluster,
+                      progress=progress)
+        folders.append(f)
+    tables = [read_csv_table(f / "observables.csv") for f in folders]
+    avg, spread = _average(tables)
+    rows = list(zip(*[avg[c] for c in ROW_COLUMNS], strict=True))
+    write_csv(out / "observables.csv", ROW_COLUMNS, rows)
+    write_csv(out / "ensemble.csv", ["size", "temperature_K", *spread],
+              list(zip(avg["size"], avg["temperature_K"], *spread.values(), strict=True)))
+    write_json(out / "columns.json", COLUMN_UNITS | {f"{c}_spread": "sample-to-sample standard "
+                                                     "deviation over disorder realisations"
+                                                     for c in COLUMN_UNITS})
+    tcs = [json.loads((f / "tc.json").read_text()).get("tc_K") for f in folders]
+    good = [t for t in tcs if t is not None]
+    by_point = {(int(r[0]), float(r[1])): dict(zip(ROW_COLUMNS, r, strict=True)) for r in rows}
+    tc = dict(tc_estimate(by_point), tc_realisations_K=tcs,
+              tc_mean_K=float(np.mean(good)) if good else None,
+              tc_spread_K=float(np.std(good, ddof=1)) if len(good) > 1 else None)
+    write_json(out / "tc.json", tc)
+    manifest = {"kind": "sweep", "ensemble": True, "scenario": json.loads(json.dumps(
+        sc.describe(), default=lambda o: o.tolist() if hasattr(o, "tolist") else str(o))),
+        "realisations": [str(f.relative_to(out)) for f in folders], "finished": True,
+        "versions": versions(), "wall_time_s": round(time.time() - started, 3),
+        "tc_K": tc.get("tc_K"), "tc_spread_K": tc["tc_spread_K"],
+        "files": ["observables.csv", "ensemble.csv", "columns.json", "tc.json"]}
+    write_json(out / "manifest.json", manifest)
+    return out
