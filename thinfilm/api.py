@@ -15,14 +15,16 @@ def _scenario(source):
 def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None, progress=True):
     """Run a scenario (path, dict or Scenario) into ``out_dir``; return the folder path.
 
-    A scenario with several temperatures or sizes runs as a sweep (see :mod:`thinfilm.sweep`),
-    otherwise as one time-resolved stochastic LLG run (see :mod:`thinfilm.runner`).
+    An equilibrium set runs as a sweep (:mod:`thinfilm.runs.sweep`; several disorder
+    realisations: :mod:`thinfilm.runs.ensemble_sweep`), otherwise as one time-resolved
+    stochastic LLG run (:mod:`thinfilm.runs.time_resolved`). See :mod:`thinfilm.input.modes`.
     """
     sc = _scenario(source)
     if sc.is_sweep:
         from thinfilm.runs.sweep import run_sweep
 
-        if sc.disorder is not None and sc.disorder.realisations > 1:
+        ensemble = sc.disorder is not None and sc.disorder.realisations > 1
+        if ensemble:
             from thinfilm.runs.ensemble_sweep import run_ensemble_sweep
 
             run_ensemble_sweep(sc, out_dir, resume=resume, overwrite=overwrite, workers=workers,
@@ -36,7 +38,8 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
         if sc.movie:  # one frame per temperature (largest size): the pattern across the sweep
             from thinfilm.render.movie import write_movie
 
-            write_movie(out_dir, Path(out_dir) / ("sweep_movie.gif" if sc.movie["gif"] else "sweep_movie.mp4"),
+            frames = Path(out_dir) / "realisations" / "r00" if ensemble else out_dir
+            write_movie(frames, Path(out_dir) / ("sweep_movie.gif" if sc.movie["gif"] else "sweep_movie.mp4"),
                         fps=max(1, min(sc.movie["fps"], 4)), colour=sc.movie["colour"],
                         gif=sc.movie["gif"], source="sweep",
                         instrument=True if sc.movie["instrument"] and sc.instrument else None)

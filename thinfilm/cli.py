@@ -145,9 +145,10 @@ def build_parser():
 
     s = sub.add_parser("demo", help="run the embedded demo scenario (an invented film) into outputs/")
     s.add_argument("-o", "--output", default=None, help="run folder (default outputs/demo-<time>)")
-    s.add_argument("--film", choices=["monolayer", "stripes"], default="monolayer",
+    s.add_argument("--film", choices=["monolayer", "stripes", "grains"], default="monolayer",
                    help="monolayer: sweep through Tc, heating movie, plan (default); stripes: "
-                        "stripe domains of a dipolar film formed and heated, with a movie")
+                        "stripe domains of a dipolar film formed and heated, with a movie; "
+                        "grains: a polycrystalline film over two disorder realisations")
     s.add_argument("--workers", type=int, default=None, help="local worker processes for the sweep")
     s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
     s.set_defaults(func=_cmd_demo)
