@@ -183,7 +183,7 @@ class _Painter:
             draw_scale_bar(img, self.pixel_nm, length_nm=self.scale_bar_nm)
         if self.labels:
             th = max(10, img.shape[0] // 24)
-            y = max(2, th // 4)
+            y = max(4, th // 2)  # room above the first line for its box and accents
             for text in _frame_text(fr):
                 _, h = draw_label(img, text, (max(2, th // 4), y), height_px=th)
                 y += h + 1
