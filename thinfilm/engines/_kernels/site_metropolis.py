@@ -24,8 +24,9 @@ uniform of move slot u (0 Gaussian, 1 reflection, 2 + r over-relaxation r) from 
 import math
 
 import numba as nb
-import numpy as np
 
+from thinfilm.engines._kernels.metropolis_layout import row_colouring
+from thinfilm.engines._kernels.metropolis_moves import _de
 from thinfilm.engines._kernels.rng import key, normal_pair, uniform01
 from thinfilm.engines._kernels.site_field import site_exchange_field, site_totals
 
@@ -34,24 +35,7 @@ __all__ = ["row_classes", "site_mc_run"]
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 
 
-def row_classes(ny, periodic):
-    """(order, bounds): rows sorted by class; order[bounds[c]:bounds[c + 1]] is class c."""
-    classes = [list(range(0, ny, 2)), list(range(1, ny, 2))]
-    if periodic and ny % 2 == 1 and ny > 1:
-        classes[0].remove(ny - 1)
-        classes.append([ny - 1])
-    classes = [c for c in classes if c]
-    order = np.array([r for c in classes for r in c], dtype=np.int64)
-    bounds = np.cumsum([0] + [len(c) for c in classes]).astype(np.int64)
-    return order, bounds
-
-
-@nb.njit(inline="always", **_OPT)
-def _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, hk):
-    """Energy change (units of mu_i T) of S -> P at a site with exchange + Zeeman field f."""
-    sn = sx * ax + sy * ay + sz * az
-    pn = px * ax + py * ay + pz * az
-    return -(fx * (px - sx) + fy * (py - sy) + fz * (pz - sz)) - hk * (pn * pn - sn * sn)
+row_classes = row_colouring  # the same row classes as the uniform Metropolis sweeps
 
 
 @nb.njit(inline="always", **_OPT)
