@@ -10,20 +10,21 @@ Periodic edges: the converged sum over all torus images, by an Ewald split (see
 
 The grid is split into the ``p q`` Bravais sublattices of the rectangular cell
 ``Lattice.period``; each sublattice pair is one translation-invariant convolution. The
-transformed tensor is built once per (lattice, mu_s, precision) and cached (``cache_clear``).
+transformed tensor (times 1/(fy fx), the normalisation of the inverse transform) is built once
+per (lattice, mu_s, precision) and cached (``cache_clear``).
 
-Cost per field evaluation: 3 real forward and 3 inverse 2D FFTs (``scipy.fft``, ``workers``
-threads) of the sublattice grids, i.e. of about N points (periodic) or 4 N points (open), plus
-one pass over the tensor. Tensor memory, double precision: 24 n_pairs / n_sub bytes per site
-periodic (n_pairs = n_sub (n_sub + 1) / 2 stored pairs): 24, 36, 60 bytes per site for the
-square, triangular, honeycomb lattice; about 4 times that with open edges (96, 144, 240);
+Cost per field evaluation: 3 real forward and 3 inverse 2D FFTs (FFTW plans on reused
+buffers through pyFFTW, else ``scipy.fft``; ``workers`` threads) of the sublattice grids, i.e.
+of about N points (periodic) or 4 N points (open), plus one pass over the tensor. Tensor
+memory, double precision: 24 n_pairs / n_sub bytes per site periodic (n_pairs =
+n_sub (n_sub + 1) / 2 stored pairs): 24, 36, 60 bytes per site for the square, triangular,
+honeycomb lattice; about 4 times that with open edges (96, 144, 240);
 half in single precision. ``DipolarField.bytes_per_site`` gives the exact figure.
 """
 
 from collections import OrderedDict
 
 import numpy as np
-from scipy import fft as sfft
 
 from thinfilm.config import threads
 from thinfilm.engines._kernels.dipolar import (
@@ -32,6 +33,7 @@ from thinfilm.engines._kernels.dipolar import (
     gather_planes,
     scatter_planes,
 )
+from thinfilm.engines.fft_plan import RealFFTPair
 from thinfilm.input.units import MU0
 from thinfilm.model.dipolar_tensor import SublatticeGrid, tensor_spectrum
 from thinfilm.model.lattice import Lattice
@@ -58,8 +60,10 @@ def _cached_tensor(lattice, moment, precision):
     if key in _CACHE:
         _CACHE.move_to_end(key)
         return _CACHE[key]
-    # mu0 / 4 pi * mu_s * (1 nm^-3 in m^-3): tesla per unit spin and nm^-3 of tensor
-    scale = MU0 / (4 * np.pi) * moment * 1e27
+    # mu0 / 4 pi * mu_s * (1 nm^-3 in m^-3): tesla per unit spin and nm^-3 of tensor, and the
+    # 1 / (fy fx) of the unnormalised inverse transform (RealFFTPair)
+    grid = SublatticeGrid(lattice)
+    scale = MU0 / (4 * np.pi) * moment * 1e27 / (grid.fy * grid.fx)
     spec = (tensor_spectrum(lattice) * scale).astype(_PRECISION[precision][1])
     spec.setflags(write=False)
     _CACHE[key] = spec
@@ -81,9 +85,13 @@ class DipolarField:
         halves FFT time; its field has relative errors ~1e-7 of the dipolar scale.
     workers : int, optional
         FFT threads (default: the kernel thread count, :func:`thinfilm.config.threads`).
+    backend : {"auto", "fftw", "scipy"}
+        FFT library (:class:`thinfilm.engines.fft_plan.RealFFTPair`); "auto" takes FFTW
+        (pyFFTW) when installed. Both give the same field to round-off.
     """
 
-    def __init__(self, lattice, moment_J_per_T, *, precision="double", workers=None):
+    def __init__(self, lattice, moment_J_per_T, *, precision="double", workers=None,
+                 backend="auto"):
         if not isinstance(lattice, Lattice):
             raise TypeError("DipolarField needs a Lattice")
         if precision not in _PRECISION:
@@ -97,8 +105,8 @@ class DipolarField:
         self.grid = SublatticeGrid(lattice)
         self.tensor = _cached_tensor(lattice, self.moment_J_per_T, precision)
         self.pair_index, self.pair_conj = self.grid.pair_index()
-        g = self.grid
-        self._planes = np.zeros((3, g.n_sub, g.my, g.mx), dtype=_PRECISION[precision][0])
+        self.backend = backend
+        self._fft = None  # RealFFTPair, planned on first use for the current thread count
 
     @property
     def nbytes(self):
@@ -112,28 +120,37 @@ class DipolarField:
     def _workers(self):
         return self.workers if self.workers is not None else threads()
 
-    def planes(self, spins):
-        """Dipolar field (T) in sublattice-planes layout (3, n_sub, my, L), L >= mx.
+    def _pair(self):
+        """The planned FFT pair for the current thread count (re-planned when it changes)."""
+        w = self._workers()
+        if self._fft is None or self._fft.threads != w:
+            g = self.grid
+            self._fft = RealFFTPair((3, g.n_sub, g.fy, g.fx), _PRECISION[self.precision][0], w,
+                                    backend=self.backend)
+        return self._fft
+
+    def planes_buffer(self, spins):
+        """Dipolar field (T) in sublattice-planes layout (3, n_sub, my, L), L >= mx, as a view
+        of an internal buffer that the next call overwrites (the LLG hot path).
 
         Component c of site (i, j) is ``[c, (i % p) q + j % q, i // p, j // q]`` with
-        (p, q) = ``lattice.period``. The array is new on every call.
+        (p, q) = ``lattice.period``.
         """
         g = self.grid
-        w = self._workers()
         spins = np.asarray(spins)
         if spins.shape != (self.lattice.ny, self.lattice.nx, 3):
             raise ValueError(f"spins must have shape {(self.lattice.ny, self.lattice.nx, 3)}, "
                              f"got {spins.shape}")
-        gather_planes(spins, g.p, g.q, self._planes)
-        # 1D passes: the column transforms run in place (overwrite_x), which saves two fresh
-        # array allocations per call (page faults: ~30 % of the time at 1024^2)
-        x = sfft.rfft(self._planes, n=g.fx, axis=3, workers=w)
-        x = sfft.fft(x, n=g.fy, axis=2, workers=w, overwrite_x=True)
+        fft = self._pair()
+        # only the (my, mx) corner is written; the rest stays zero (open-edge padding)
+        gather_planes(spins, g.p, g.q, fft.real_in[:, :, : g.my, : g.mx])
+        x = fft.forward()
         apply_tensor(x, self.tensor, self.pair_index, self.pair_conj)
-        x = sfft.ifft(x, axis=2, workers=w, overwrite_x=True)
-        if not g.periodic:
-            x = x[:, :, : g.my]
-        return sfft.irfft(x, n=g.fx, axis=3, workers=w)
+        return fft.backward()[:, :, : g.my]
+
+    def planes(self, spins):
+        """Dipolar field (T) in sublattice-planes layout (3, n_sub, my, L), a new array."""
+        return self.planes_buffer(spins).copy()
 
     def field(self, spins, out=None):
         """Dipolar field (T) at every site, shape (ny, nx, 3) float64 (into ``out`` if given)."""
