@@ -18,10 +18,15 @@ import numpy as np
 
 from thinfilm.config import set_threads
 from thinfilm.engines.dipolar import DipolarField, cache_clear
+from thinfilm.engines.fft_plan import fftw_available
 from thinfilm.engines.stochastic_llg import LLGSimulation, initial_spins
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 from thinfilm.model.lattice import Lattice
 from thinfilm.model.parameters import Model
+
+# (row name, precision, FFT library): FFTW plans (pyFFTW) against scipy.fft, double and single
+PATHS = [("fftw-f64", "double", "fftw"), ("fftw-f32", "single", "fftw"),
+         ("scipy-f64", "double", "scipy"), ("scipy-f32", "single", "scipy")]
 
 
 def _median_step(fn, steps, repeats):
@@ -46,21 +51,23 @@ def run(shape, n, periodic, repeats):
     rows = {}
     local = LLGSimulation(model, **kw)
     rows["local"] = _median_step(local.advance, steps * 20, repeats)
-    for prec in ("double", "single"):
+    for name, prec, backend in PATHS:
+        if backend == "fftw" and not fftw_available():
+            continue
         cache_clear()
         t0 = time.perf_counter()
-        dip = DipolarField(lat, mu, precision=prec)
+        dip = DipolarField(lat, mu, precision=prec, backend=backend)
         build = time.perf_counter() - t0
         sim = LLGSimulation(model, dipolar=dip, **kw)
-        rows[prec] = _median_step(sim.advance, steps, repeats)
+        rows[name] = _median_step(sim.advance, steps, repeats)
         out = np.empty_like(spins)
         fld = _median_step(lambda k, d=dip, o=out: [d.field(spins, o) for _ in range(k)],
                            steps, repeats)
-        rows[prec] += (fld[0], build, dip.bytes_per_site)
+        rows[name] += (fld[0], build, dip.bytes_per_site)
     edges = "periodic" if periodic else "open"
     for name, r in rows.items():
         rate = lat.n_sites / r[0] / 1e6
-        line = (f"{shape:10s} {n:5d} {edges:8s} {name:7s} {r[0] * 1e3:9.2f} {r[1] * 1e3:9.2f} "
+        line = (f"{shape:10s} {n:5d} {edges:8s} {name:9s} {r[0] * 1e3:9.2f} {r[1] * 1e3:9.2f} "
                 f"{rate:8.1f} {r[0] / rows['local'][0]:7.1f}")
         if name != "local":
             line += f" {r[2] * 1e3:9.2f} {r[3]:7.2f} {r[4]:6.0f}"
@@ -77,7 +84,7 @@ def main():
     args = ap.parse_args()
     nthreads = set_threads(args.threads)
     print(f"threads {nthreads}; medians of {args.repeats} repeats; times per step in ms")
-    print("shape       size edges    path     wall_ms   cpu_ms  Mspin/s  x_local "
+    print("shape       size edges    path       wall_ms   cpu_ms  Mspin/s  x_local "
           "field_ms build_s B/site")
     for n in args.sizes:
         run(args.shape, n, not args.open, args.repeats)
