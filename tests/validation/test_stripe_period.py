@@ -75,6 +75,12 @@ Model (square lattice, spacing a, unit spins, g = mu0 mu_s^2 / (4 pi a^3)):
    x-derivative of that term, 2 c_pol / x^3 = 0.13 at x = 2), and the leading-order
    prediction, slope 1, holds within 0.3 (c_pol / (x1 x2) <= 0.11 plus the 0.15).
 
+5. Outside the thin-film limit. For K_eff -> 0 the stripes become a sinusoidal modulation
+   (a spiral in the y-z plane) whose width tends to 2 J / g, from J q^2 / 2 - pi g q / 2 per
+   site, whatever K_eff (seen: 9.8 sites at J/g = 4.95, K_eff = 0.05 g). Which wall the
+   stripes take is decided by energy: sharp walls for K_eff = J, Bloch walls for the delta = 2
+   and 3 families at x >= 2 (checked below).
+
 Measurement (validation/stripe_period.py): straight stripes of each integer width near the
 minimum on periodic 2L x ny lattices (Ewald sums: an infinite film), relaxed at T = 0 with
 exchange, anisotropy and the dipolar field (thinfilm.engines.relax), e(L) per site; the
@@ -158,6 +164,9 @@ def test_bloch_wall_width_and_log_slope_fast():
         th.append(sp.width_bloch(j, keff))
         s = res["spins"]
         assert np.abs(s[..., 0]).max() < 1e-6  # Bloch walls: no moment across the stripes
+        # and lower than sharp walls at the same width (a sharp start is a stationary point)
+        w = int(res["widths"][np.argmin(res["energies"])])
+        assert sp.stripe_energy(j, keff + sp.SHAPE, w, wall_width=0)[0] > res["energies"].min()
     # thin-film theory (Kaplan and Gehring 1993 form, constants derived above), step 4 accuracy
     assert np.all(np.abs(np.log(np.array(ls) / th)) < 0.15), (ls, th)
     slope = sp.log_slopes(np.array(xs), np.array(ls))[0]
