@@ -22,9 +22,9 @@ def energy_per_site(model, spins, dipolar=None):
     """Energy per site (J): exchange + anisotropy + Zeeman, plus the dipolar energy if on.
 
     ``dipolar`` as for :class:`~thinfilm.engines.stochastic_llg.LLGSimulation` (None: the
-    model's switch; True, False or a DipolarField).
+    model's switch; True, False or a DipolarField); True builds a double-precision field.
     """
-    dip = _dipolar_field(model, dipolar)
+    dip = _dipolar_field(model, dipolar, "double")
     e = measure(model, np.ascontiguousarray(spins, dtype=np.float64))[1] * MEV_J
     if dip is not None:
         e += dip.energy(spins) / model.lattice.n_sites
@@ -75,7 +75,7 @@ def relax(model, spins, *, dipolar=None, tol=1e-9, max_iter=20000):
     :func:`energy_per_site`), ``iterations``, ``torque`` (final relative torque) and
     ``converged``.
     """
-    dip = _dipolar_field(model, dipolar)
+    dip = _dipolar_field(model, dipolar, "double")
     code, periodic, jt, kt, axis = model.kernel_args()
     bz = model.field_T
 

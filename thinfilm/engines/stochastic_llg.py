@@ -189,8 +189,9 @@ class LLGSimulation:
         return m, e
 
 
-def _dipolar_field(model, dipolar):
-    """None, or the DipolarField of the model (``dipolar`` True or a DipolarField of it)."""
+def _dipolar_field(model, dipolar, precision=DIPOLAR_PRECISION):
+    """None, or the DipolarField of the model (``dipolar`` True or a DipolarField of it);
+    True builds one with FFTs in ``precision``."""
     if dipolar is None:
         dipolar = model.dipolar
     if dipolar is False:
@@ -198,7 +199,7 @@ def _dipolar_field(model, dipolar):
     from thinfilm.engines.dipolar import DipolarField
 
     if dipolar is True:  # single-precision FFTs: field errors ~1e-7 of the dipolar scale
-        return DipolarField(model.lattice, model.moment_J_per_T, precision=DIPOLAR_PRECISION)
+        return DipolarField(model.lattice, model.moment_J_per_T, precision=precision)
     if not isinstance(dipolar, DipolarField):
         raise TypeError("dipolar must be True, False/None or a DipolarField")
     if dipolar.lattice != model.lattice or dipolar.moment_J_per_T != model.moment_J_per_T:
