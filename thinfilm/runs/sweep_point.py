@@ -148,7 +148,7 @@ def _sample_mc(task, model, spins):
         r = mc.run(0, n, every, tune=False)
         parts.append(r)
         acc.append(r["acceptance"]["gaussian"])
-        snaps.append(mc.spins.copy())
+        snaps.append(mc.spins @ model.axis)  # S.n only: 8 bytes per site and snapshot
     series = {
         "energy_J": np.concatenate([p["energy_J"] for p in parts]),
         "m_vector": np.concatenate([p["m_vector"] for p in parts]),
@@ -185,7 +185,7 @@ def _sample_llg(task, model, spins):
             m, en = sim.measure()  # includes the dipolar energy when the model has it
             e[k], mv[k], clock[k] = en * MEV_J, m, (sim.step - n_warm) * dt * 1e12
             k += 1
-        snaps.append(sim.spins.copy())
+        snaps.append(sim.spins @ model.axis)
     details = {"warmup_steps": n_warm, "sample_every_steps": every, "n_samples": n_samples,
                "time_step_fs": dt * 1e15, "damping": d.damping,
                "recommended_time_step_fs": dt_ok * 1e15}
@@ -280,8 +280,8 @@ def _pinning(fields, lat, params):
             "wall_on_boundary_expected": float(res[0]["expected"])}
 
 
-def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None, params=None):
-    """Correlation lengths, C(r) and domain statistics of the snapshots (field S.n).
+def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, params=None):
+    """Correlation lengths, C(r) and domain statistics of the snapshots' fields S.n (ny, nx).
 
     ``ordered`` selects the ordered-phase second-moment form (S(0) extrapolated from k1 and
     2 k1, since there S(0) holds the spontaneous moment); otherwise S(0)/S(k1) is used.
@@ -289,7 +289,6 @@ def _spatial(model, snaps, ordered, instrument=None, seed=0, analysis=None, para
     """
     analysis = analysis or {}
     lat = model.lattice
-    fields = [s @ model.axis for s in snaps]
     pos, box = lat.positions_nm, lat.box_nm
     xi = correlation_length(fields, pos, box, lat.period, periodic=lat.periodic,
                             subtract_mean=bool(ordered))
