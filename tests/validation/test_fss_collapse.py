@@ -33,7 +33,7 @@ def test_collapse_of_monte_carlo_u4_and_xi_over_l_gives_ising_nu_and_tc():
 @pytest.mark.slow
 def test_triangular_collapse_gives_ising_nu_and_the_exact_triangular_tc():
     # K/J = 1000, Metropolis + Wolff clusters along the axis, L = 8, 16, 32 at x = tL in
-    # [-1.2, 1.2] about Tc = 4/ln 3, fit x in [-1, 1]; about 5 min on one core.
+    # [-1.2, 1.2] about Tc = 4/ln 3, fit x in [-1, 1]; about 2 min of CPU on one core.
     rows = fss.scan(40000, seed=3, shape="triangular", moves=fss.CLUSTER)
     f = fss.fit(rows, "triangular")["joint"]
     # nu = 1: 2D Ising class (Onsager, Phys. Rev. 65, 117, 1944; universality, common

@@ -52,8 +52,9 @@ def test_cluster_monte_carlo_second_moment_length_matches_the_exact_one(shape):
 @pytest.mark.slow
 def test_square_lengths_match_onsager_at_four_temperatures():
     # t = 0.05, 0.1, 0.2, 0.4 above Tc' with L ~ 8 xi (94 .. 16), sweeps ~ 2.5e8 / L^2 (at most
-    # 150000); about 4 min on one core. Per point: 3 jackknife errors plus 0.1 % (three-particle
-    # states and torus, validation/xi_exact.py) about the exact one-particle second-moment length
+    # 150000); about 3 min of CPU on one core (7 min wall on a loaded 2-core machine). Per
+    # point: 3 jackknife errors plus 0.1 % (three-particle states and torus,
+    # validation/xi_exact.py) about the exact one-particle second-moment length
     rows = xe.run("square", (0.05, 0.1, 0.2, 0.4), site_sweeps=2.5e8, max_sweeps=150000,
                   seed=11)
     for r in rows:
@@ -69,11 +70,12 @@ def test_square_lengths_match_onsager_at_four_temperatures():
 
 @pytest.mark.slow
 def test_triangular_inverse_length_extrapolates_to_the_exact_tc():
-    # t = 0.03, 0.05, 0.08, 0.12 above Tc' with L ~ 8 xi (144 .. 38), sweeps ~ 3e8 / L^2;
-    # about 8 min on one core. 1/xi_2nd fitted linearly in K_eff and extrapolated to zero.
+    # t = 0.03, 0.05, 0.08, 0.12 above Tc' with L ~ 8 xi (142 .. 38), sweeps ~ 3e8 / L^2;
+    # about 3 min of CPU (7 min wall, loaded machine). 1/xi_2nd fitted linearly in K_eff and
+    # extrapolated to zero.
     # Reference: Tc = 4/ln 3 (Houtappel 1950; Wannier 1950) shifted by the finite anisotropy,
     # Tc' = Tc (1 - Tc/1000) (validation/ising_tc.py), plus the curvature bias of a straight
-    # line, computed by the same fit through the exact lengths (+0.12 %). Tolerance 3 errors.
+    # line, computed by the same fit through the exact lengths (+0.10 %). Tolerance 3 errors.
     rows = xe.run("triangular", (0.03, 0.05, 0.08, 0.12), site_sweeps=3e8, max_sweeps=60000,
                   seed=5)
     e = xe.extrapolate_tc(rows, "triangular")
