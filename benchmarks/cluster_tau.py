@@ -1,7 +1,9 @@
 """Integrated autocorrelation time of |m| at Tc versus L, local moves against cluster moves.
 
 Run: ``python benchmarks/cluster_tau.py`` (quick: local L = 16..64, cluster L = 16..256, a few
-minutes on one thread) or ``--full`` (local up to 128, cluster up to 512; much longer).
+minutes on one thread) or ``--full`` (local up to 128, cluster up to 512; much longer). The
+512 x 512 point alone on two threads:
+``python benchmarks/cluster_tau.py --threads 2 --local-sizes --cluster-sizes 512 --steps 3000``.
 
 Square lattice, J = 1 meV, moment 1 muB, periodic, two systems:
 
@@ -77,16 +79,26 @@ def main():
     ap.add_argument("--full", action="store_true", help="larger sizes and longer runs")
     ap.add_argument("--threads", type=int, default=1)
     ap.add_argument("--systems", nargs="+", default=list(SYSTEMS), choices=list(SYSTEMS))
+    ap.add_argument("--local-sizes", type=int, nargs="*", default=None,
+                    help="L of the local-move runs (default 16 32 64, --full adds 128)")
+    ap.add_argument("--cluster-sizes", type=int, nargs="*", default=None,
+                    help="L of the cluster runs (default 16 .. 256, --full adds 512)")
+    ap.add_argument("--steps", type=int, default=None, help="cluster steps per run")
     a = ap.parse_args()
     numba.set_num_threads(a.threads)
     sizes = {"local": [16, 32, 64] + ([128] if a.full else []),
              "cluster": [16, 32, 64, 128, 256] + ([512] if a.full else [])}
+    if a.local_sizes is not None:
+        sizes["local"] = a.local_sizes
+    if a.cluster_sizes is not None:
+        sizes["cluster"] = a.cluster_sizes
     # steps per run: ~ 150 tau for local moves (tau ~ 0.3 L^2.2 sweeps guessed), fixed for
     # clusters (tau of a few steps)
     t_start = time.perf_counter()
-    print(f"threads={a.threads}; tau in steps (see module doc); time/indep = 2 tau x time/step")
+    print(f"threads={a.threads}; tau in steps (see module doc); time/indep = 2 tau x time/step; "
+          f"min/1e4 = minutes for 10^4 independent samples")
     print(f"{'system':<15} {'moves':<8} {'L':>4} {'tau_int':>9} {'err':>7} {'clusters':>8} "
-          f"{'ms/step':>8} {'ms/indep':>9}")
+          f"{'ms/step':>8} {'ms/indep':>9} {'min/1e4':>8}")
     for name in a.systems:
         kj, tj = SYSTEMS[name]
         for kind, moves in (("local", ("metropolis",)), ("cluster", ("metropolis", "cluster"))):
@@ -96,13 +108,14 @@ def main():
                     n_steps = int(min(4e5, max(2e4, 50 * L**2.2))) // (1 if a.full else 2)
                     n_warm = n_steps // 10
                 else:
-                    n_steps = 4000 if a.full else 2000
+                    n_steps = a.steps or (4000 if a.full else 2000)
                     n_warm = 200
                 tau, err, sec, ncl = measure(kj, tj, L, moves, n_steps, n_warm)
                 Ls.append(L)
                 taus.append(tau)
                 print(f"{name:<15} {kind:<8} {L:>4} {tau:>9.2f} {err:>7.2f} {ncl:>8} "
-                      f"{1e3 * sec:>8.3f} {2e3 * tau * sec:>9.2f}", flush=True)
+                      f"{1e3 * sec:>8.3f} {2e3 * tau * sec:>9.2f} "
+                      f"{2e4 * tau * sec / 60:>8.1f}", flush=True)
             print(f"{name:<15} {kind:<8} z = {fit_z(Ls, taus):.2f} (fit of ln tau vs ln L, "
                   f"L = {Ls[0]}..{Ls[-1]})", flush=True)
     print(f"total wall time {time.perf_counter() - t_start:.0f} s")
