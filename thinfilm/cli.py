@@ -29,6 +29,11 @@ def _print_check(sc):
     print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
     print(f"  anisotropy  K = {mat['anisotropy_meV']:.4g} meV per site along {mat['axis']} "
           f"({'easy axis' if model.anisotropy_J > 0 else 'easy plane' if model.anisotropy_J < 0 else 'none'})")
+    if mat.get("dipolar"):
+        site = mat.get("dipolar_site")
+        print("  dipolar     " + ("point dipoles at the sites" if site is None else
+                                  "prism sites {:g} x {:g} x {:g} nm (demagnetising tensor)"
+                                  .format(*site["size_nm"])))
     if "continuum" in mat:
         c = mat["continuum"]
         print(f"  (from A = {c['stiffness_J_per_m']:.4g} J/m, Ku = {c['anisotropy_density_J_per_m3']:.4g} J/m^3, "

@@ -8,6 +8,14 @@ E = -(mu_s / 2) sum_i S_i.B_i. Open edges: zero-padded (exact free-space) convol
 Periodic edges: the converged sum over all torus images, by an Ewald split (see
 :mod:`thinfilm.model.dipolar_tensor`; relative error below 1e-13 of the nearest-neighbour term).
 
+With ``thickness_nm`` (square lattice) a site is not a point but the uniformly magnetised prism
+a x a x t carrying mu_s (M = mu_s / (a^2 t)), and B_i is the field averaged over prism i: the
+pair term above becomes the prism-prism demagnetising tensor, and each prism also feels its own
+demagnetising field -mu0 M N_self (:mod:`thinfilm.model.prism_tensor`). For a uniform state the
+sum over the film is then exactly that of a continuous slab, E_perp - E_inplane = mu0 Ms^2 / 2
+per volume, where point dipoles give about 0.54 mu0 Ms^2 (t / a). The tensor is accurate to
+about 1e-12 of mu0 Ms. Only the tensor values change: same FFTs, same memory.
+
 The grid is split into the ``p q`` Bravais sublattices of the rectangular cell
 ``Lattice.period``; each sublattice pair is one translation-invariant convolution. The
 transformed tensor (times 1/(fy fx), the normalisation of the inverse transform) is built once
@@ -35,7 +43,12 @@ from thinfilm.engines._kernels.dipolar import (
 )
 from thinfilm.engines.fft_plan import RealFFTPair
 from thinfilm.input.units import MU0
-from thinfilm.model.dipolar_tensor import SublatticeGrid, tensor_spectrum
+from thinfilm.model.dipolar_tensor import (
+    SublatticeGrid,
+    check_prism_lattice,
+    isotropic_self_term,
+    tensor_spectrum,
+)
 from thinfilm.model.lattice import Lattice
 
 __all__ = ["DipolarField", "dipolar_constant_T", "cache_clear"]
@@ -55,16 +68,22 @@ def cache_clear():
     _CACHE.clear()
 
 
-def _cached_tensor(lattice, moment, precision):
-    key = (lattice, float(moment), precision)
+def _scale_T(moment):
+    """mu0 / 4 pi * mu_s * (1 nm^-3 in m^-3): tesla per unit spin and nm^-3 of tensor."""
+    return MU0 / (4 * np.pi) * moment * 1e27
+
+
+def _cached_tensor(lattice, moment, precision, thickness_nm=None):
+    key = (lattice, float(moment), precision, thickness_nm)
     if key in _CACHE:
         _CACHE.move_to_end(key)
         return _CACHE[key]
-    # mu0 / 4 pi * mu_s * (1 nm^-3 in m^-3): tesla per unit spin and nm^-3 of tensor, and the
-    # 1 / (fy fx) of the unnormalised inverse transform (RealFFTPair)
+    # tesla per unit spin and nm^-3 of tensor, times the 1 / (fy fx) of the unnormalised
+    # inverse transform (RealFFTPair)
     grid = SublatticeGrid(lattice)
-    scale = MU0 / (4 * np.pi) * moment * 1e27 / (grid.fy * grid.fx)
-    spec = (tensor_spectrum(lattice) * scale).astype(_PRECISION[precision][1])
+    scale = _scale_T(moment) / (grid.fy * grid.fx)
+    spec = (tensor_spectrum(lattice, thickness_nm=thickness_nm) * scale).astype(
+        _PRECISION[precision][1])
     spec.setflags(write=False)
     _CACHE[key] = spec
     while len(_CACHE) > _CACHE_SIZE:
@@ -88,22 +107,32 @@ class DipolarField:
     backend : {"auto", "fftw", "scipy"}
         FFT library (:class:`thinfilm.engines.fft_plan.RealFFTPair`); "auto" takes FFTW
         (pyFFTW) when installed. Both give the same field to round-off.
+    thickness_nm : float, optional
+        Film thickness t: each site is the uniformly magnetised prism a x a x t (square lattice
+        only, 1e-3 <= t/a <= 100). None (default): point dipoles, as before.
     """
 
     def __init__(self, lattice, moment_J_per_T, *, precision="double", workers=None,
-                 backend="auto"):
+                 backend="auto", thickness_nm=None):
         if not isinstance(lattice, Lattice):
             raise TypeError("DipolarField needs a Lattice")
         if precision not in _PRECISION:
             raise ValueError(f"precision must be 'double' or 'single'; got {precision!r}")
         if not moment_J_per_T > 0:
             raise ValueError("the moment per site must be positive")
+        if thickness_nm is not None:
+            thickness_nm = float(thickness_nm)
+            check_prism_lattice(lattice, thickness_nm)
         self.lattice = lattice
         self.moment_J_per_T = float(moment_J_per_T)
         self.precision = precision
         self.workers = workers
+        self.thickness_nm = thickness_nm
         self.grid = SublatticeGrid(lattice)
-        self.tensor = _cached_tensor(lattice, self.moment_J_per_T, precision)
+        self.tensor = _cached_tensor(lattice, self.moment_J_per_T, precision, thickness_nm)
+        # field along each site's own moment left out of the trace-free tensor (prisms only)
+        self.self_field_T = _scale_T(self.moment_J_per_T) * isotropic_self_term(thickness_nm,
+                                                                                 lattice)
         self.pair_index, self.pair_conj = self.grid.pair_index()
         self.backend = backend
         self._fft = None  # RealFFTPair, planned on first use for the current thread count
@@ -134,7 +163,8 @@ class DipolarField:
         of an internal buffer that the next call overwrites (the LLG hot path).
 
         Component c of site (i, j) is ``[c, (i % p) q + j % q, i // p, j // q]`` with
-        (p, q) = ``lattice.period``.
+        (p, q) = ``lattice.period``. With prism sites it lacks the term ``self_field_T * S_i``
+        along each site's own moment (no torque; ``field`` adds it).
         """
         g = self.grid
         spins = np.asarray(spins)
@@ -153,15 +183,24 @@ class DipolarField:
         return self.planes_buffer(spins).copy()
 
     def field(self, spins, out=None):
-        """Dipolar field (T) at every site, shape (ny, nx, 3) float64 (into ``out`` if given)."""
-        y = self.planes(spins)
+        """Dipolar field (T) at every site, shape (ny, nx, 3) float64 (into ``out`` if given).
+
+        Prism sites: the field averaged over each prism, its own demagnetising field included.
+        """
+        y = self.planes_buffer(spins)
         if out is None:
             out = np.empty((self.lattice.ny, self.lattice.nx, 3))
         scatter_planes(y, self.grid.p, self.grid.q, 1.0, out)
+        if self.self_field_T:
+            out += self.self_field_T * np.asarray(spins)
         return out
 
     def energy(self, spins):
-        """Dipolar energy (J), each pair once: -(mu_s/2) sum_i S_i.B_i."""
-        y = self.planes(spins)
+        """Dipolar energy (J): -(mu_s/2) sum_i S_i.B_i, each pair once (prism sites: plus each
+        prism's own demagnetising energy)."""
+        y = self.planes_buffer(spins)
         s = np.ascontiguousarray(spins, dtype=np.float64)
-        return -0.5 * self.moment_J_per_T * dot_planes(s, y, self.grid.p, self.grid.q)
+        e = dot_planes(s, y, self.grid.p, self.grid.q)
+        if self.self_field_T:
+            e += self.self_field_T * float(np.sum(s * s))
+        return -0.5 * self.moment_J_per_T * e

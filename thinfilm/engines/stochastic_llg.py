@@ -27,7 +27,8 @@ def stable_time_step(model, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S_T):
     """Largest time step (s) we recommend for Heun: precession and noise angles <= 0.1 rad per step.
 
     The deterministic limit is gamma/(1 + alpha^2) * B_max * dt <= 0.1 with
-    B_max = z|J|/mu_s + 2|K|/mu_s + |B| (+ a bound of the dipolar field); the noise limit keeps the rms thermal rotation per step,
+    B_max = z|J|/mu_s + 2|K|/mu_s + |B| (+ a bound of the dipolar field: sum_j of the norms of the
+    pair tensors, point dipoles or prisms); the noise limit keeps the rms thermal rotation per step,
     sqrt(2 alpha kB T gamma dt / mu_s), at or below 0.1 rad. Common practice, not a sharp bound.
     """
     lat = model.lattice
@@ -35,8 +36,15 @@ def stable_time_step(model, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S_T):
     if model.dipolar:  # bound of the dipolar field: 2 mu0 mu_s/(4 pi a^3) x sum' r^-3
         from thinfilm.engines.dipolar import dipolar_constant_T
 
-        bmax += 2.0 * DIPOLAR_SUM[lat.shape] * dipolar_constant_T(model.moment_J_per_T,
-                                                                   lat.spacing_nm)
+        if model.dipolar_thickness_nm is None:
+            bmax += 2.0 * DIPOLAR_SUM[lat.shape] * dipolar_constant_T(model.moment_J_per_T,
+                                                                       lat.spacing_nm)
+        else:  # prism sites: sum_j ||P_ij|| (self term included) in units of 1/a^3
+            from thinfilm.model.prism_tensor import field_norm_sum
+
+            a = lat.spacing_nm
+            bmax += field_norm_sum(a, model.dipolar_thickness_nm) * a**3 * dipolar_constant_T(
+                model.moment_J_per_T, a)
     g = gamma / (1 + damping**2)
     dt_det = 0.1 / (g * bmax) if bmax > 0 else math.inf
     kt = KB_J_PER_K * temperature_K
@@ -104,8 +112,9 @@ class LLGSimulation:
     dipolar : bool or DipolarField, optional
         Add the dipole-dipole field (:mod:`thinfilm.engines.dipolar`) to the effective field of both
         Heun stages. True builds ``DipolarField(model.lattice, model.moment_J_per_T,
-        precision=DIPOLAR_PRECISION)`` (single-precision FFTs); pass an instance for other
-        options (e.g. ``precision="double"``). Off by default: the
+        precision=DIPOLAR_PRECISION, thickness_nm=model.dipolar_thickness_nm)`` (single-
+        precision FFTs); pass an instance for other options (e.g. ``precision="double"``). Off
+        by default: the
         local-field kernels run unchanged. ``measure`` then includes the dipolar energy.
     """
 
@@ -199,9 +208,13 @@ def _dipolar_field(model, dipolar, precision=DIPOLAR_PRECISION):
     from thinfilm.engines.dipolar import DipolarField
 
     if dipolar is True:  # single-precision FFTs: field errors ~1e-7 of the dipolar scale
-        return DipolarField(model.lattice, model.moment_J_per_T, precision=precision)
+        return DipolarField(model.lattice, model.moment_J_per_T, precision=precision,
+                            thickness_nm=model.dipolar_thickness_nm)
     if not isinstance(dipolar, DipolarField):
         raise TypeError("dipolar must be True, False/None or a DipolarField")
     if dipolar.lattice != model.lattice or dipolar.moment_J_per_T != model.moment_J_per_T:
         raise ValueError("the DipolarField was built for another lattice or moment than the model")
+    if dipolar.thickness_nm != model.dipolar_thickness_nm:
+        raise ValueError(f"the DipolarField has site thickness {dipolar.thickness_nm} nm, the "
+                         f"model {model.dipolar_thickness_nm} nm (None: point dipoles)")
     return dipolar

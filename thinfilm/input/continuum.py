@@ -11,6 +11,10 @@ a site, to the continuum A t Omega q^2 gives J = 2 A t Omega / sum_bonds (d . q_
 with a the nearest-neighbour distance; mu_s = Ms Omega t and K = Ku Omega t. With
 ``shape_anisotropy`` the thin-film demagnetising energy is folded into the uniaxial term,
 K = (Ku - mu0 Ms^2 / 2) Omega t, which needs the axis along the film normal.
+
+With ``dipolar: true`` the same cell is the dipolar site: on the square lattice the prism
+a x a x t (its demagnetising tensor gives the slab's mu0 Ms^2 / 2 for any t / a), on the
+hexagonal-cell lattices a point dipole where that is accurate (:mod:`thinfilm.input.dipolar_spec`).
 """
 
 import numpy as np

@@ -36,7 +36,8 @@ KEY_MODES = {
               "use lattice.cells for one lattice, or set dynamics.method: monte-carlo"),
     "temperature.refine": (SETS, "extra temperatures near Tc",
                            "give several temperatures, or remove refine"),
-    "material.dipolar": (LLG, "dipole-dipole field of the moments in both Heun stages",
+    "material.dipolar": (LLG, "dipole-dipole field of the moments (point or prism sites) in both "
+                              "Heun stages",
                          "the Monte Carlo engine has no long-range field; set dynamics.method: "
                          "llg"),
     "dynamics.duration": (LLG, "length of the run (run) or sampled time per point (llg-set)",

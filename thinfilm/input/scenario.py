@@ -14,6 +14,7 @@ import numpy as np
 import yaml
 
 from thinfilm.input.continuum import continuum_to_lattice
+from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
 from thinfilm.input.modes import check_keys_for_mode, scenario_mode
@@ -80,7 +81,6 @@ def _material(r, lat):
     continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
     m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar"})
-    dipolar = m.flag("dipolar", default=False)
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
     if given_c and given_l:
@@ -92,6 +92,7 @@ def _material(r, lat):
         ku = m.quantity("anisotropy_density", "energy_density", default="0 J/m^3")
         ms = m.quantity("magnetisation", "magnetisation", required=True, positive=True)
         t = m.quantity("thickness", "length", required=True, positive=True)
+        dipolar, dip_t = parse_dipolar(m, lat, t)
         shape_aniso = m.flag("shape_anisotropy", default=False)
         if dipolar and shape_aniso:
             raise m.error("shape_anisotropy: true folds the thin-film demagnetising energy into K, "
@@ -104,7 +105,8 @@ def _material(r, lat):
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
                 "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
                 "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
-        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar)
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t)
+    dipolar, dip_t = parse_dipolar(m, lat)
     mu = m.quantity("moment", "moment", required=True, positive=True)
     jj = m.quantity("exchange", "energy", required=True)
     aniso = m.raw("anisotropy")
@@ -117,7 +119,7 @@ def _material(r, lat):
         axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar)
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t)
 
 
 def _lattice(r):

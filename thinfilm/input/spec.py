@@ -40,6 +40,7 @@ class MaterialSpec:
     axis: np.ndarray
     continuum: dict | None = None  # the continuum inputs when the film was given that way
     dipolar: bool = False  # dipole-dipole interaction between the site moments
+    dipolar_thickness_nm: float | None = None  # prism sites a x a x t; None: point dipoles
 
 
 @dataclass(frozen=True)
@@ -131,6 +132,10 @@ class Scenario:
             out["material"]["continuum"] = m.continuum
         if m.dipolar:
             out["material"]["dipolar"] = True
+            if m.dipolar_thickness_nm is not None:
+                out["material"]["dipolar_site"] = {
+                    "shape": "prism", "size_nm": [lat.spacing_nm, lat.spacing_nm,
+                                                  m.dipolar_thickness_nm]}
         if d.method == "monte-carlo":
             out["dynamics"]["moves"] = list(d.moves)
             out["dynamics"]["cluster_direction"] = d.cluster_direction

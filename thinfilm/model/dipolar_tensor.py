@@ -24,6 +24,17 @@ value at r = 0 (-4 eta^3/(3 sqrt pi) per diagonal component) for the excluded se
 the dipolar sum converges absolutely, so there is no shape-dependent term. Both cut-offs leave
 errors below 1e-13 relative to the nearest-neighbour term (checked against a direct image sum
 in tests/test_dipolar.py).
+
+Sites with a thickness (``thickness_nm``, square lattice only): each site is the uniformly
+magnetised prism a x a x t and H is replaced by the prism-prism tensor P = -(4 pi / V) N
+(Newell, Williams and Dunlop 1993; :mod:`thinfilm.model.prism_tensor`, which states how it is
+evaluated and its accuracy). Open edges: P on the zero-padded grid. Periodic edges: the Ewald
+sum of H above plus :func:`thinfilm.model.prism_periodic.periodic_correction`, the image sum of
+P - H. P has the self term -(4 pi / V) N_self with trace -4 pi / V; the stored tensor keeps the
+convolution trace free (zz = -(xx + yy), as the kernels assume) by leaving out its isotropic
+part -(4 pi / 3V) I, a field along each site's own moment: no torque, a constant energy. The
+engine adds it back in ``DipolarField.field`` and ``energy`` (see ``isotropic_self_term``).
+Without a thickness the tensor is the point-dipole one above, unchanged bit for bit.
 """
 
 import math
@@ -32,9 +43,12 @@ import numpy as np
 from scipy import fft as sfft
 from scipy import special
 
+from thinfilm.model import prism_tensor as prism
+from thinfilm.model.prism_periodic import periodic_correction
 from thinfilm.model.lattice import Lattice
 
-__all__ = ["SublatticeGrid", "sublattice_grid", "hessian", "tensor_spectrum", "EWALD_X"]
+__all__ = ["SublatticeGrid", "sublattice_grid", "hessian", "tensor_spectrum", "EWALD_X",
+           "isotropic_self_term", "check_prism_lattice"]
 
 EWALD_X = 6.0  # eta r_cut in real space and k_cut / (2 eta) in k-space
 
@@ -116,6 +130,37 @@ def _free_pair(grid, d):
     return np.stack([np.where(keep, h, 0.0) for h in hessian(dx, dy)])
 
 
+def _free_prism(grid, t):
+    """Real-space prism tensor (4, fy, fx) on the zero-padded grid (square lattice, one pair)."""
+    a = grid.cell[0]
+    quad = prism.prism_tensor_quadrant(grid.my, grid.mx, a, t)
+    iy = np.arange(grid.fy)
+    ix = np.arange(grid.fx)
+    iy = np.where(iy < grid.my, iy, iy - grid.fy)
+    ix = np.where(ix < grid.mx, ix, ix - grid.fx)
+    keep = (np.abs(iy)[:, None] < grid.my) & (np.abs(ix)[None, :] < grid.mx)
+    iy2, ix2 = np.broadcast_arrays(iy[:, None], ix[None, :])
+    out = np.zeros((4, grid.fy, grid.fx))
+    out[:, keep] = prism.unfold_quadrant(quad, iy2[keep], ix2[keep])
+    return out
+
+
+def isotropic_self_term(thickness_nm, lattice):
+    """The part of the prism self term left out of the stored tensor: -(4 pi / 3V) (nm^-3) per
+    diagonal component, V = a^2 t; 0 without a thickness (point dipoles)."""
+    if thickness_nm is None:
+        return 0.0
+    return prism.self_trace(lattice.spacing_nm, thickness_nm) / 3.0
+
+
+def check_prism_lattice(lattice, thickness_nm):
+    """Raise ValueError unless prism sites of this thickness can be built on the lattice."""
+    if lattice.shape != "square":
+        raise ValueError(f"sites with a thickness (prisms) are implemented for the square "
+                         f"lattice only, not {lattice.shape}: its cells are hexagons")
+    prism.check_aspect(lattice.spacing_nm, thickness_nm)
+
+
 def _ewald_pair(grid, d, eta):
     """Transformed periodic tensor (4, my, mx // 2 + 1) of one pair with offset d = d_s - d_t."""
     cx, cy = grid.cell
@@ -162,14 +207,18 @@ def _ewald_pair(grid, d, eta):
     return spec
 
 
-def tensor_spectrum(lattice, *, zz=False, eta=None):
+def tensor_spectrum(lattice, *, zz=False, eta=None, thickness_nm=None):
     """Transformed tensor of every stored pair (nm^-3), complex128 (n_pairs, 3 or 4, fy, fx//2+1).
 
     Components (xx, yy, xy), plus zz when ``zz`` is set (H_zz = -(H_xx + H_yy) otherwise).
     A convolution of the sublattice planes with it gives sum_j H(r_i - r_j) S_j.
     ``eta`` (1/nm) overrides the Ewald splitting parameter (periodic; the result must not
-    depend on it).
+    depend on it). ``thickness_nm``: prism sites a x a x t (square lattice) instead of point
+    dipoles, without the isotropic self part :func:`isotropic_self_term` (see the module
+    docstring); None: point dipoles.
     """
+    if thickness_nm is not None:
+        return _prism_spectrum(lattice, float(thickness_nm), zz, eta)
     grid = SublatticeGrid(lattice)
     ncomp = 4 if zz else 3
     out = np.empty((len(grid.pairs), ncomp, grid.fy, grid.fx // 2 + 1), dtype=np.complex128)
@@ -184,3 +233,20 @@ def tensor_spectrum(lattice, *, zz=False, eta=None):
             spec = sfft.rfftn(_free_pair(grid, d), axes=(1, 2))
         out[k] = spec[:ncomp]
     return out
+
+
+def _prism_spectrum(lattice, t, zz, eta):
+    """tensor_spectrum for prism sites of thickness t (nm) on the square lattice."""
+    check_prism_lattice(lattice, t)
+    grid = SublatticeGrid(lattice)
+    if grid.periodic:
+        if eta is None:
+            eta = math.pi / (2 * EWALD_X * max(grid.cell))
+        spec = _ewald_pair(grid, np.zeros(2), eta) + periodic_correction(grid, t)
+    else:
+        spec = sfft.rfftn(_free_prism(grid, t), axes=(1, 2))
+    iso = isotropic_self_term(t, lattice)
+    for comp in (0, 1, 3):
+        spec[comp] -= iso
+    ncomp = 4 if zz else 3
+    return np.ascontiguousarray(spec[None, :ncomp])

@@ -37,6 +37,9 @@ class Model:
     dipolar : bool
         Dipole-dipole interaction between the site moments (stochastic LLG only; the field is
         :class:`thinfilm.engines.dipolar.DipolarField`).
+    dipolar_thickness_nm : float or None
+        With ``dipolar``: each site is the uniformly magnetised prism a x a x t of this
+        thickness (square lattice only) instead of a point dipole; None: point dipoles.
     """
 
     lattice: Lattice
@@ -46,6 +49,7 @@ class Model:
     axis: np.ndarray = field(default_factory=lambda: np.array([0.0, 0.0, 1.0]))
     field_T: np.ndarray = field(default_factory=lambda: np.zeros(3))
     dipolar: bool = False
+    dipolar_thickness_nm: float | None = None
 
     def __post_init__(self):
         axis = np.asarray(self.axis, dtype=np.float64)
@@ -60,6 +64,13 @@ class Model:
         object.__setattr__(self, "field_T", fld)
         if not self.moment_J_per_T > 0:
             raise ValueError("the moment per site must be positive")
+        if self.dipolar_thickness_nm is not None:
+            from thinfilm.model.dipolar_tensor import check_prism_lattice
+
+            if not self.dipolar:
+                raise ValueError("dipolar_thickness_nm needs dipolar=True")
+            object.__setattr__(self, "dipolar_thickness_nm", float(self.dipolar_thickness_nm))
+            check_prism_lattice(self.lattice, self.dipolar_thickness_nm)
 
     # reduced quantities: fields in tesla, as the kernels read them
     @property
@@ -83,7 +94,8 @@ class Model:
     def with_field(self, field_T):
         """Copy of the model with another Zeeman field (T)."""
         return Model(self.lattice, self.moment_J_per_T, self.exchange_J, self.anisotropy_J,
-                     self.axis, np.asarray(field_T, dtype=np.float64), self.dipolar)
+                     self.axis, np.asarray(field_T, dtype=np.float64), self.dipolar,
+                     self.dipolar_thickness_nm)
 
     def kernel_args(self):
         """Tuple (code, periodic, exchange_T, anisotropy_T, axis) for the field kernels."""
@@ -101,4 +113,5 @@ def build_model(scenario):
                   scenario.lattice.spacing_nm, scenario.lattice.periodic)
     m = scenario.material
     return Model(lat, m.moment_J_per_T, m.exchange_J, m.anisotropy_J, m.axis,
-                 np.asarray(scenario.field_T, dtype=np.float64), m.dipolar)
+                 np.asarray(scenario.field_T, dtype=np.float64), m.dipolar,
+                 m.dipolar_thickness_nm)
