@@ -1,11 +1,13 @@
 """Tests of thinfilm.render.movie: movies of tiny fake run folders read back with imageio."""
 
 import json
+import subprocess
 
 import imageio.v3 as iio3
 import imageio_ffmpeg
 import numpy as np
 import pytest
+from imageio_ffmpeg._parsing import parse_ffmpeg_header
 
 from thinfilm.input.errors import InputError
 from thinfilm.model.lattice import Lattice
@@ -41,16 +43,18 @@ def fake_dynamics_run(root, lat, n=5):
 
 
 def read_mp4(path):
-    """(metadata, list of RGB frames) decoded by imageio-ffmpeg, the reference reader."""
-    n, _ = imageio_ffmpeg.count_frames_and_secs(str(path))  # decodes the whole stream
-    gen = imageio_ffmpeg.read_frames(str(path))
-    try:
-        meta = next(gen)
-        w, h = meta["size"]
-        # read exactly n frames and close: running the generator to exhaustion leaks its pipes
-        frames = [np.frombuffer(next(gen), np.uint8).reshape(h, w, 3) for _ in range(n)]
-    finally:
-        gen.close()
+    """(metadata, list of RGB frames) decoded by the ffmpeg that imageio-ffmpeg ships, the
+    reference reader. Both ffmpeg calls are plain subprocess.run calls, which close their
+    pipes: the streaming reader's generator leaves pipes to the garbage collector when it is
+    closed early, a ResourceWarning (an error here) that appears only now and then."""
+    exe = imageio_ffmpeg.get_ffmpeg_exe()
+    probe = subprocess.run([exe, "-hide_banner", "-i", str(path)], capture_output=True,
+                           text=True)  # exits 1 (no output file named); the header is on stderr
+    meta = parse_ffmpeg_header(probe.stderr)
+    w, h = meta["size"]
+    raw = subprocess.run([exe, "-v", "error", "-i", str(path), "-f", "rawvideo", "-pix_fmt",
+                          "rgb24", "-"], capture_output=True, check=True).stdout
+    frames = list(np.frombuffer(raw, np.uint8).reshape(-1, h, w, 3))
     return meta, frames
 
 
