@@ -17,7 +17,7 @@ S(k) at small k, a second-moment-type length; near Tc its ratio to the exponenti
 tends to 1 (to about 0.1 %, from memory), far below the statistical error here.
 
     python validation/large_lattice_sweep.py [--sizes 256 512 1024 2048] [--samples 300]
-        [--out outputs/validation-large-lattice]
+        [--out outputs/validation-large-lattice] [--workers 1]
 
 Prints, per size and temperature, the measured lengths with their errors, the exact length,
 the wall time and the peak resident memory of the process.
@@ -78,12 +78,16 @@ def main():
     ap.add_argument("--samples", type=int, default=300)
     ap.add_argument("--snapshots", type=int, default=30)
     ap.add_argument("--out", default="outputs/validation-large-lattice")
+    ap.add_argument("--workers", type=int, default=None,
+                    help="sweep worker processes (1: in this process, so that the printed peak "
+                         "memory covers the points; default one per core)")
     args = ap.parse_args()
     temps = [TC_ISING * (1 + t) for t in args.t]
     sc = scenario(args.sizes, temps, args.warmup, args.samples, args.snapshots)
     t0 = time.perf_counter()
-    out = run(sc, args.out, resume=True, progress=True)
+    out = run(sc, args.out, resume=True, progress=True, workers=args.workers)
     wall = time.perf_counter() - t0
+    # peak resident memory of this process (it holds the points only with --workers 1)
     rss_gb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024**2
     with open(Path(out) / "observables.csv") as fh:
         rows = [r for r in csv.DictReader(fh)]
