@@ -63,9 +63,28 @@ def structure_factor_length(snapshots, positions_nm, box_nm, period=(1, 1), *, s
             return math.nan, math.nan
         return math.sqrt(slope / icpt), 1.0 / icpt
 
+    def first_guess(s_mean):
+        """xi^2 to start the iteration: 1/k_min^2, unless S(k) keeps its small-k plateau well
+        beyond the first shells (L >> xi); then 1/k_half^2, k_half where the mean S of the
+        modes sorted by k first falls below half the plateau (OZ: S = chi/2 at k xi = 1)."""
+        low = nonzero & (k2 <= 3.5 * kmin2)
+        plateau = float(s_mean[low].mean())
+        order = np.argsort(k2[nonzero], kind="stable")
+        kk, ss = k2[nonzero][order], s_mean[nonzero][order]
+        group = max(8, int(low.sum()))
+        n = kk.size // group
+        if n < 2:
+            return 1.0 / kmin2
+        means = ss[: n * group].reshape(n, group).mean(axis=1)
+        below = np.nonzero(means < 0.5 * plateau)[0]
+        if below.size == 0:
+            return 1.0 / kmin2
+        k2_half = float(kk[below[0] * group: (below[0] + 1) * group].mean())
+        return 1.0 / k2_half if k2_half > 3.5 * kmin2 else 1.0 / kmin2
+
     def select(s_mean):
         """Modes with k xi <= k_max_xi (at least the first three shells), iterated."""
-        xi2 = 1.0 / kmin2
+        xi2 = first_guess(s_mean)
         sel = nonzero & (k2 <= 3.5 * kmin2)
         for _ in range(20):
             sel = nonzero & (k2 <= max(k_max_xi**2 / xi2, 3.5 * kmin2))
