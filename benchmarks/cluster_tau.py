@@ -103,6 +103,8 @@ def main():
         kj, tj = SYSTEMS[name]
         for kind, moves in (("local", ("metropolis",)), ("cluster", ("metropolis", "cluster"))):
             Ls, taus = [], []
+            if not sizes[kind]:
+                continue
             for L in sizes[kind]:
                 if kind == "local":
                     n_steps = int(min(4e5, max(2e4, 50 * L**2.2))) // (1 if a.full else 2)
