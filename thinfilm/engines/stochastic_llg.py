@@ -8,15 +8,13 @@ from thinfilm.config import threads
 from thinfilm.engines._kernels.field import observables
 from thinfilm.engines._kernels.llg import heun_run, heun_run_twopass, heun_work, twopass_work
 from thinfilm.engines._kernels.llg_dipolar import heun_run_added
+from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM  # sum' (a / r)^3 per lattice
 from thinfilm.input.errors import StabilityError
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
 from thinfilm.model.parameters import Model
 
 __all__ = ["LLGSimulation", "stable_time_step", "initial_spins", "measure"]
 
-# sum' (a / r)^3 over one lattice (Glasser and Zucker's square value 9.0336, from memory; the
-# triangular and honeycomb values from the Ewald sums of tests/test_dipolar.py)
-DIPOLAR_SUM = {"square": 9.0336, "triangular": 11.0342, "honeycomb": 6.5789}
 # FFT precision of the dipolar field built for ``dipolar=True`` (scenario runs): single
 # precision halves the FFT time; its field errors (~1e-7 of mu0 mu_s / 4 pi a^3) are far below
 # the thermal field and the Heun truncation error. The spins and the local field stay float64.
@@ -37,7 +35,7 @@ def stable_time_step(model, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S_T):
         from thinfilm.engines.dipolar import dipolar_constant_T
 
         if model.dipolar_thickness_nm is None:
-            bmax += 2.0 * DIPOLAR_SUM[lat.shape] * dipolar_constant_T(model.moment_J_per_T,
+            bmax += 2.0 * POINT_DIPOLE_SUM[lat.shape] * dipolar_constant_T(model.moment_J_per_T,
                                                                        lat.spacing_nm)
         else:  # prism sites: sum_j ||P_ij|| (self term included) in units of 1/a^3
             from thinfilm.model.prism_tensor import field_norm_sum
@@ -114,8 +112,8 @@ class LLGSimulation:
         Heun stages. True builds ``DipolarField(model.lattice, model.moment_J_per_T,
         precision=DIPOLAR_PRECISION, thickness_nm=model.dipolar_thickness_nm)`` (single-
         precision FFTs); pass an instance for other options (e.g. ``precision="double"``). Off
-        by default: the
-        local-field kernels run unchanged. ``measure`` then includes the dipolar energy.
+        by default: the local-field kernels run unchanged. ``measure`` then includes the
+        dipolar energy.
     """
 
     def __init__(self, model, *, temperature_K, damping, time_step_s, seed=1, spins=None,
