@@ -6,6 +6,7 @@ import numpy as np
 import pytest
 import reference
 
+from thinfilm.engines._kernels.dipolar import gather_planes
 from thinfilm.engines._kernels.llg import heun_run_twopass, noise_field, twopass_work
 from thinfilm.engines._kernels.llg_dipolar import heun_run_added
 from thinfilm.engines.dipolar import DipolarField
@@ -36,8 +37,14 @@ def test_zero_added_field_is_the_twopass_step(rng, shape, nx, ny, periodic):
     heun_run_twopass(*_args(lat, a, 3, 11, 5, 2.0), *twopass_work(ny, nx))
     p, q = lat.period
     zero = np.zeros((3, p * q, -(-ny // p), -(-nx // q)))
-    heun_run_added(*_args(lat, b, 3, 11, 5, 2.0), lambda x: zero, p, q, *twopass_work(ny, nx)[:3])
+    gin = np.zeros_like(zero)
+    heun_run_added(*_args(lat, b, 3, 11, 5, 2.0), lambda: zero, gin, p, q,
+                   *twopass_work(ny, nx)[:3])
     assert np.array_equal(a, b)
+    # the stages leave the new spins in the planes array for the next field evaluation
+    expect = np.zeros_like(zero)
+    gather_planes(b, p, q, expect)
+    assert np.array_equal(gin, expect)
 
 
 @pytest.mark.parametrize("shape,nx,ny,periodic", CASES)
@@ -64,7 +71,8 @@ def test_dipolar_field_enters_both_stages(rng, shape, nx, ny, periodic):
         s = s + 0.5 * (d1 + reference.llg_rhs(sp, h2, GAMMA, ALPHA) * DT)
         s /= np.linalg.norm(s, axis=-1, keepdims=True)
     got = args[0]
-    heun_run_added(*args, dip.planes, *lat.period, *twopass_work(ny, nx)[:3])
+    heun_run_added(*args, dip.transform_gathered, dip.gather_buffer(), *lat.period,
+                   *twopass_work(ny, nx)[:3])
     np.testing.assert_allclose(got, s, rtol=0, atol=1e-12)
     assert np.abs(got - s0).max() > 1e-3
 

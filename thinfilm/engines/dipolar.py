@@ -171,12 +171,22 @@ class DipolarField:
         if spins.shape != (self.lattice.ny, self.lattice.nx, 3):
             raise ValueError(f"spins must have shape {(self.lattice.ny, self.lattice.nx, 3)}, "
                              f"got {spins.shape}")
-        fft = self._pair()
         # only the (my, mx) corner is written; the rest stays zero (open-edge padding)
-        gather_planes(spins, g.p, g.q, fft.real_in[:, :, : g.my, : g.mx])
+        gather_planes(spins, g.p, g.q, self.gather_buffer()[:, :, : g.my, : g.mx])
+        return self.transform_gathered()
+
+    def gather_buffer(self):
+        """The planes array (3, n_sub, fy, fx) that :meth:`transform_gathered` transforms: spins
+        written into its (my, mx) corner in planes layout; the rest must stay zero."""
+        return self._pair().real_in
+
+    def transform_gathered(self):
+        """Dipolar field (T), planes layout (3, n_sub, my, L) as a view of an internal buffer,
+        of the spins in :meth:`gather_buffer` (the LLG kernels write them there)."""
+        fft = self._pair()
         x = fft.forward()
         apply_tensor(x, self.tensor, self.pair_index, self.pair_conj)
-        return fft.backward()[:, :, : g.my]
+        return fft.backward()[:, :, : self.grid.my]
 
     def planes(self, spins):
         """Dipolar field (T) in sublattice-planes layout (3, n_sub, my, L), a new array."""

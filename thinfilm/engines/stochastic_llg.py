@@ -174,8 +174,9 @@ class LLGSimulation:
         args = (self.spins, int(n_steps), self.step, self.seed, code, periodic, jt, kt, axis, b0, db,
                 t0, float(temperature_rate_K_per_step), self.noise_sigma_coef(), gdt, self.damping)
         if self.dipolar is not None:
-            heun_run_added(*args, self.dipolar.planes_buffer, *self.dipolar.lattice.period,
-                           *self._work)
+            dip = self.dipolar
+            heun_run_added(*args, dip.transform_gathered, dip.gather_buffer(),
+                           *dip.lattice.period, *self._work)
         elif self._fused:
             heun_run(*args, self._nbands, *self._work)
         else:

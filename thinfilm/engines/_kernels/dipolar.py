@@ -84,12 +84,14 @@ def dot_planes(s, y, p, q):
     return total
 
 
-@nb.njit(**_OPT)
+@nb.njit(parallel=True, **_OPT)
 def apply_tensor(x, k, pidx, pconj):
-    """In place: x[:, s] <- sum_t K_st x[:, t] at every wavevector (x (3, n_sub, fy, fk))."""
+    """In place: x[:, s] <- sum_t K_st x[:, t] at every wavevector (x (3, n_sub, fy, fk)).
+
+    Rows of wavevectors are shared between the kernel threads."""
     nsub, fy, fk = x.shape[1], x.shape[2], x.shape[3]
     if nsub == 1:
-        for y in range(fy):
+        for y in nb.prange(fy):
             kxx = k[0, 0, y]
             kyy = k[0, 1, y]
             kxy = k[0, 2, y]
@@ -106,7 +108,7 @@ def apply_tensor(x, k, pidx, pconj):
                 ay[j] = c * mx_ + b * my_
                 az[j] = -(a + b) * az[j]
         return
-    for y in range(fy):
+    for y in nb.prange(fy):
         mvec = np.empty((3, nsub), dtype=x.dtype)
         for j in range(fk):
             for t in range(nsub):

@@ -6,6 +6,10 @@ field of that stage (read from a sublattice-planes array, see :mod:`.dipolar`). 
 keys, counters and arithmetic are those of ``heun_run_twopass``, so with an all-zero added
 field the step is bitwise the same. ``heun_run_added`` drives them: it evaluates the added
 field at the start-of-step spins for the predictor and at the predictor for the corrector.
+
+Each stage also writes the spins it produces (the predictor, then the new spins) into the
+planes array ``gin`` that the next field evaluation transforms, so no separate gather pass
+over the grid runs between the stages and the FFTs.
 """
 
 import math
@@ -13,6 +17,7 @@ import math
 import numba as nb
 import numpy as np
 
+from thinfilm.engines._kernels.dipolar import gather_planes
 from thinfilm.engines._kernels.field import field_soa, load_row, neighbour_rows, row_pad
 from thinfilm.engines._kernels.llg import _correct, _noise, _predict
 from thinfilm.engines._kernels.rng import key
@@ -37,14 +42,28 @@ def _with_added(nzi, hd, i, p, q, nx, tot):
                 tot[j] = nzi[j] + src[jj]
 
 
+@nb.njit(inline="always", **_OPT)
+def _put_row(row, gin, i, p, q, nx):
+    """Row i of the planes array gin (3, n_sub, my, L') <- padded row buffer row (3, L)
+    (site j at column j + 1)."""
+    big = i // p
+    base = (i % p) * q
+    for c in range(3):
+        for b in range(q):
+            dst = gin[c, base + b, big]
+            for jj in range((nx - b + q - 1) // q):
+                dst[jj] = row[c, jj * q + b + 1]
+
+
 @nb.njit(parallel=True, **_OPT)
 def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, sigma, gdt,
-                       alpha, hd, p, q, sp, d1, nz):
+                       alpha, hd, p, q, sp, d1, nz, gin):
     """Predictor of one step: sp = normalised s + d1, field = local + noise + hd (T).
 
     step keys the noise (as ``heun_run_twopass`` step ``step``); hd planes (3, n_sub, my, L)
     of the added field at s; sp (ny, nx, 3); d1 and nz (ny, nx, 3) hold each row as flat
-    component blocks (increments and thermal field, kept for the corrector).
+    component blocks (increments and thermal field, kept for the corrector). sp is also
+    written into the planes array gin (any float type; sites outside the grid untouched).
     """
     ny, nx = s.shape[0], s.shape[1]
     L = row_pad(nx)
@@ -65,6 +84,7 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
             field_soa(code, i, buf[0] if has_dn else zero, buf[1], buf[2] if has_up else zero,
                       jt, kt, axis[0], axis[1], axis[2], bx, by, bz, tot, nx, buf[3])
             _predict(buf[1], buf[3], gdt, alpha, nx, periodic, buf[4], buf[5])
+            _put_row(buf[5], gin, i, p, q, nx)
             d1i = d1[i].reshape(3 * nx)
             for j in range(nx):
                 d1i[j] = buf[4, 0, j]
@@ -77,8 +97,9 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
 
 @nb.njit(parallel=True, **_OPT)
 def heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, hd, p, q, sp,
-                       d1, nz):
-    """Corrector of one step into s, field at the predictor sp = local + noise + hd (T)."""
+                       d1, nz, gin):
+    """Corrector of one step into s, field at the predictor sp = local + noise + hd (T); the
+    new s also into the planes array gin."""
     ny, nx = s.shape[0], s.shape[1]
     L = row_pad(nx)
     nch = min(_CHUNKS, ny)
@@ -101,16 +122,23 @@ def heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, 
                 buf[5, 1, j] = d1i[nx + j]
                 buf[5, 2, j] = d1i[2 * nx + j]
             _correct(buf[1], buf[3], buf[4], buf[5], gdt, alpha, nx, s[i])
+            load_row(s[i], buf[5], periodic)
+            _put_row(buf[5], gin, i, p, q, nx)
 
 
 def heun_run_added(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db, temp0, dtemp,
-                   sigma_coef, gdt, alpha, added, p, q, sp, d1, nz):
+                   sigma_coef, gdt, alpha, added, gin, p, q, sp, d1, nz):
     """Advance s in place by n_steps Heun steps with an added field in both stages.
 
-    Arguments as ``llg.heun_run_twopass``; ``added(spins)`` returns the added field (T) of a
-    spin array in planes layout with cell period (p, q) (e.g. ``DipolarField.planes``);
+    Arguments as ``llg.heun_run_twopass``; ``gin`` is a planes array (3, p q, my, L'), L' >=
+    ceil(nx / q), with cell period (p, q), and ``added()`` returns the added field (T), in
+    planes layout (3, p q, my, L), of the spins that gin holds (e.g. ``DipolarField.gather_buffer``
+    and ``DipolarField.transform_gathered``). gin is filled from s here and then by the stages;
+    its entries outside the grid are left as they are (zero for an open-edge convolution).
     sp, d1, nz from ``llg.twopass_work``. T and B change linearly per step as in ``heun_run``.
     """
+    if n_steps > 0:
+        gather_planes(s, p, q, gin[:, :, : -(-s.shape[0] // p), : -(-s.shape[1] // q)])
     for n in range(int(n_steps)):
         temp = max(temp0 + dtemp * n, 0.0)
         sigma = sigma_coef * math.sqrt(temp)
@@ -118,6 +146,6 @@ def heun_run_added(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db
         by = b0[1] + db[1] * n
         bz = b0[2] + db[2] * n
         heun_predict_stage(s, step0 + n, seed, code, periodic, jt, kt, axis, bx, by, bz, sigma,
-                           gdt, alpha, added(s), p, q, sp, d1, nz)
-        heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, added(sp),
-                           p, q, sp, d1, nz)
+                           gdt, alpha, added(), p, q, sp, d1, nz, gin)
+        heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, added(),
+                           p, q, sp, d1, nz, gin)
