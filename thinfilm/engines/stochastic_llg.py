@@ -7,7 +7,7 @@ import numpy as np
 from thinfilm.config import threads
 from thinfilm.engines._kernels.field import observables
 from thinfilm.engines._kernels.llg import heun_run, heun_run_twopass, heun_work, twopass_work
-from thinfilm.engines._kernels.llg_dipolar import heun_run_added
+from thinfilm.engines._kernels.llg_dipolar import added_work, heun_run_added
 from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM  # sum' (a / r)^3 per lattice
 from thinfilm.input.errors import StabilityError
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
@@ -141,7 +141,7 @@ class LLGSimulation:
         self._meas = np.empty_like(self.spins)
         if self.dipolar is not None:
             self._fused = False
-            self._work = twopass_work(ny, nx)[:3]
+            self._work = added_work(ny, nx)
             return
         nbands = min(max(1, threads()), ny // 2)
         self._fused = nbands >= 1

@@ -1,11 +1,15 @@
 """Heun steps with a field array added in each stage (the dipolar field), stage by stage.
 
 ``heun_predict_stage`` and ``heun_correct_stage`` are the two passes of ``llg.heun_run_twopass``
-with one change: the thermal-field row handed to the local field is the noise plus the added
-field of that stage (read from a sublattice-planes array, see :mod:`.dipolar`). The noise
-keys, counters and arithmetic are those of ``heun_run_twopass``, so with an all-zero added
-field the step is bitwise the same. ``heun_run_added`` drives them: it evaluates the added
-field at the start-of-step spins for the predictor and at the predictor for the corrector.
+with three changes: the thermal-field row handed to the local field is the noise plus the added
+field of that stage (read from a sublattice-planes array, see :mod:`.dipolar`); the noise (same
+keys and counters) is rounded to float32, and both stages use that value; the predictor keeps
+w = S + d1/2 instead of S and d1, so the corrector computes S' = normalised (w + d2/2). The
+two passes then move 216 bytes per site through memory instead of 264, which bounds them at
+1024^2; the step differs from ``heun_run_twopass`` by the float32 rounding of the noise
+(~3e-8 relative) and round-off, not in kind.
+``heun_run_added`` drives them: it evaluates the added field at the start-of-step spins for the
+predictor and at the predictor for the corrector.
 
 Each stage also writes the spins it produces (the predictor, then the new spins) into the
 planes array ``gin`` that the next field evaluation transforms, so no separate gather pass
@@ -19,10 +23,10 @@ import numpy as np
 
 from thinfilm.engines._kernels.dipolar import gather_planes
 from thinfilm.engines._kernels.field import field_soa, load_row, neighbour_rows, row_pad
-from thinfilm.engines._kernels.llg import _correct, _noise, _predict
+from thinfilm.engines._kernels.llg import _noise, _predict
 from thinfilm.engines._kernels.rng import key
 
-__all__ = ["heun_predict_stage", "heun_correct_stage", "heun_run_added"]
+__all__ = ["heun_predict_stage", "heun_correct_stage", "heun_run_added", "added_work"]
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 _CHUNKS = 32
@@ -55,15 +59,22 @@ def _put_row(row, gin, i, p, q, nx):
                 dst[jj] = row[c, jj * q + b + 1]
 
 
+def added_work(ny, nx):
+    """Work arrays (sp, w, nz) of ``heun_run_added``: predictor spins and w = S + d1/2
+    (float64), thermal field (float32), each (ny, nx, 3)."""
+    return (np.zeros((ny, nx, 3)), np.zeros((ny, nx, 3)), np.zeros((ny, nx, 3), np.float32))
+
+
 @nb.njit(parallel=True, **_OPT)
 def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, sigma, gdt,
-                       alpha, hd, p, q, sp, d1, nz, gin):
+                       alpha, hd, p, q, sp, w, nz, gin):
     """Predictor of one step: sp = normalised s + d1, field = local + noise + hd (T).
 
-    step keys the noise (as ``heun_run_twopass`` step ``step``); hd planes (3, n_sub, my, L)
-    of the added field at s; sp (ny, nx, 3); d1 and nz (ny, nx, 3) hold each row as flat
-    component blocks (increments and thermal field, kept for the corrector). sp is also
-    written into the planes array gin (any float type; sites outside the grid untouched).
+    step keys the noise (as ``heun_run_twopass`` step ``step``; each normal rounded to float32,
+    the value both stages use); hd planes (3, n_sub, my, L) of the added field at s; sp
+    (ny, nx, 3); w = s + d1/2 and nz (float32) hold each row as flat component blocks, kept for
+    the corrector. sp is also written into the planes array gin (any float type; sites outside
+    the grid untouched).
     """
     ny, nx = s.shape[0], s.shape[1]
     L = row_pad(nx)
@@ -73,33 +84,63 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
         buf = np.zeros((6, 3, L))
         zero = np.zeros((3, L))
         tot = np.empty(3 * nx)
+        nzi = np.empty(3 * nx)
         for i in range(ch * ny // nch, (ch + 1) * ny // nch):
             dn, up, has_dn, has_up = neighbour_rows(i, ny, periodic)
             load_row(s[dn], buf[0], periodic)
             load_row(s[i], buf[1], periodic)
             load_row(s[up], buf[2], periodic)
-            nzi = nz[i].reshape(3 * nx)
             _noise(k, i, nx, sigma, nzi)
+            nz32 = nz[i].reshape(3 * nx)
+            for j in range(3 * nx):
+                v = np.float32(nzi[j])
+                nz32[j] = v
+                nzi[j] = v
             _with_added(nzi, hd, i, p, q, nx, tot)
             field_soa(code, i, buf[0] if has_dn else zero, buf[1], buf[2] if has_up else zero,
                       jt, kt, axis[0], axis[1], axis[2], bx, by, bz, tot, nx, buf[3])
             _predict(buf[1], buf[3], gdt, alpha, nx, periodic, buf[4], buf[5])
             _put_row(buf[5], gin, i, p, q, nx)
-            d1i = d1[i].reshape(3 * nx)
+            wi = w[i].reshape(3 * nx)
             for j in range(nx):
-                d1i[j] = buf[4, 0, j]
-                d1i[nx + j] = buf[4, 1, j]
-                d1i[2 * nx + j] = buf[4, 2, j]
+                wi[j] = buf[1, 0, j + 1] + 0.5 * buf[4, 0, j]
+                wi[nx + j] = buf[1, 1, j + 1] + 0.5 * buf[4, 1, j]
+                wi[2 * nx + j] = buf[1, 2, j + 1] + 0.5 * buf[4, 2, j]
                 sp[i, j, 0] = buf[5, 0, j + 1]
                 sp[i, j, 1] = buf[5, 1, j + 1]
                 sp[i, j, 2] = buf[5, 2, j + 1]
 
 
+@nb.njit(inline="always", **_OPT)
+def _finish(pcur, h, wi, gdt, alpha, nx, out):
+    """out (nx, 3) = normalised w + d2/2, d2 the increment at the predictor pcur (3, L)."""
+    f = out.reshape(3 * nx)
+    for j in range(nx):
+        t = j + 1
+        sx = pcur[0, t]
+        sy = pcur[1, t]
+        sz = pcur[2, t]
+        hx = h[0, j]
+        hy = h[1, j]
+        hz = h[2, j]
+        cx = sy * hz - sz * hy
+        cy = sz * hx - sx * hz
+        cz = sx * hy - sy * hx
+        hg = -0.5 * gdt
+        nx_ = wi[j] + hg * (cx + alpha * (sy * cz - sz * cy))
+        ny_ = wi[nx + j] + hg * (cy + alpha * (sz * cx - sx * cz))
+        nz_ = wi[2 * nx + j] + hg * (cz + alpha * (sx * cy - sy * cx))
+        inv = 1.0 / math.sqrt(nx_ * nx_ + ny_ * ny_ + nz_ * nz_)
+        f[3 * j] = nx_ * inv
+        f[3 * j + 1] = ny_ * inv
+        f[3 * j + 2] = nz_ * inv
+
+
 @nb.njit(parallel=True, **_OPT)
 def heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, hd, p, q, sp,
-                       d1, nz, gin):
-    """Corrector of one step into s, field at the predictor sp = local + noise + hd (T); the
-    new s also into the planes array gin."""
+                       w, nz, gin):
+    """Corrector of one step into s = normalised w + d2/2, field at the predictor sp = local +
+    noise + hd (T); the new s also into the planes array gin."""
     ny, nx = s.shape[0], s.shape[1]
     L = row_pad(nx)
     nch = min(_CHUNKS, ny)
@@ -107,27 +148,25 @@ def heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, 
         buf = np.zeros((6, 3, L))
         zero = np.zeros((3, L))
         tot = np.empty(3 * nx)
+        nzi = np.empty(3 * nx)
         for i in range(ch * ny // nch, (ch + 1) * ny // nch):
             dn, up, has_dn, has_up = neighbour_rows(i, ny, periodic)
             load_row(sp[dn], buf[0], periodic)
             load_row(sp[i], buf[1], periodic)
             load_row(sp[up], buf[2], periodic)
-            load_row(s[i], buf[4], periodic)
-            _with_added(nz[i].reshape(3 * nx), hd, i, p, q, nx, tot)
+            nz32 = nz[i].reshape(3 * nx)
+            for j in range(3 * nx):
+                nzi[j] = nz32[j]
+            _with_added(nzi, hd, i, p, q, nx, tot)
             field_soa(code, i, buf[0] if has_dn else zero, buf[1], buf[2] if has_up else zero,
                       jt, kt, axis[0], axis[1], axis[2], bx, by, bz, tot, nx, buf[3])
-            d1i = d1[i].reshape(3 * nx)
-            for j in range(nx):
-                buf[5, 0, j] = d1i[j]
-                buf[5, 1, j] = d1i[nx + j]
-                buf[5, 2, j] = d1i[2 * nx + j]
-            _correct(buf[1], buf[3], buf[4], buf[5], gdt, alpha, nx, s[i])
+            _finish(buf[1], buf[3], w[i].reshape(3 * nx), gdt, alpha, nx, s[i])
             load_row(s[i], buf[5], periodic)
             _put_row(buf[5], gin, i, p, q, nx)
 
 
 def heun_run_added(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db, temp0, dtemp,
-                   sigma_coef, gdt, alpha, added, gin, p, q, sp, d1, nz):
+                   sigma_coef, gdt, alpha, added, gin, p, q, sp, w, nz):
     """Advance s in place by n_steps Heun steps with an added field in both stages.
 
     Arguments as ``llg.heun_run_twopass``; ``gin`` is a planes array (3, p q, my, L'), L' >=
@@ -135,7 +174,7 @@ def heun_run_added(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db
     planes layout (3, p q, my, L), of the spins that gin holds (e.g. ``DipolarField.gather_buffer``
     and ``DipolarField.transform_gathered``). gin is filled from s here and then by the stages;
     its entries outside the grid are left as they are (zero for an open-edge convolution).
-    sp, d1, nz from ``llg.twopass_work``. T and B change linearly per step as in ``heun_run``.
+    sp, w, nz from :func:`added_work`. T and B change linearly per step as in ``heun_run``.
     """
     if n_steps > 0:
         gather_planes(s, p, q, gin[:, :, : -(-s.shape[0] // p), : -(-s.shape[1] // q)])
@@ -146,6 +185,6 @@ def heun_run_added(s, n_steps, step0, seed, code, periodic, jt, kt, axis, b0, db
         by = b0[1] + db[1] * n
         bz = b0[2] + db[2] * n
         heun_predict_stage(s, step0 + n, seed, code, periodic, jt, kt, axis, bx, by, bz, sigma,
-                           gdt, alpha, added(), p, q, sp, d1, nz, gin)
+                           gdt, alpha, added(), p, q, sp, w, nz, gin)
         heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, added(),
-                           p, q, sp, d1, nz, gin)
+                           p, q, sp, w, nz, gin)
