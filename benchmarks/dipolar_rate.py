@@ -46,7 +46,7 @@ def run(shape, n, periodic, repeats):
     mu = 2.0 * MU_B_J_PER_T
     model = Model(lat, mu, 1.0 * MEV_J, 0.1 * MEV_J)
     spins = initial_spins(lat, "random", seed=1)
-    steps = max(2, int(2e6 // lat.n_sites))
+    steps = max(10, int(1e7 // lat.n_sites))
     kw = dict(temperature_K=10.0, damping=0.1, time_step_s=1e-15, spins=spins)
     rows = {}
     local = LLGSimulation(model, **kw)
