@@ -76,6 +76,15 @@ def added_work(ny, nx):
     return (np.zeros((ny, nx, 3)), np.zeros((ny, nx, 3)), np.zeros((ny, nx, 3), np.float32))
 
 
+@nb.njit(inline="always", **_OPT)
+def _preload(a, ring, i0, ny, periodic):
+    """Rows i0 - 1 and i0 of a (ny, nx, 3) into the ring of three padded rows (row r at r % 3);
+    the loop then loads row i + 1 only."""
+    dn, _, _, _ = neighbour_rows(i0, ny, periodic)
+    load_row(a[dn], ring[(i0 + 2) % 3], periodic)
+    load_row(a[i0], ring[i0 % 3], periodic)
+
+
 @nb.njit(parallel=True, **_OPT)
 def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, sigma, gdt,
                        alpha, hd, p, q, sp, w, nz, gin):
@@ -93,14 +102,18 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
     k = key(seed, 0, step)
     for ch in nb.prange(nch):
         buf = np.zeros((6, 3, L))
+        ring = np.zeros((3, 3, L))
         zero = np.zeros((3, L))
         tot = np.empty(3 * nx)
         nzi = np.empty(3 * nx)
-        for i in range(ch * ny // nch, (ch + 1) * ny // nch):
+        i0 = ch * ny // nch
+        _preload(s, ring, i0, ny, periodic)
+        for i in range(i0, (ch + 1) * ny // nch):
             dn, up, has_dn, has_up = neighbour_rows(i, ny, periodic)
-            load_row(s[dn], buf[0], periodic)
-            load_row(s[i], buf[1], periodic)
-            load_row(s[up], buf[2], periodic)
+            load_row(s[up], ring[(i + 1) % 3], periodic)
+            cur = ring[i % 3]
+            below = ring[(i + 2) % 3] if has_dn else zero
+            above = ring[(i + 1) % 3] if has_up else zero
             nz32 = nz[i].reshape(3 * nx)
             if sigma > 0.0:
                 normals_row32(k, i * ((3 * nx + 1) // 2), sigma, nz32)
@@ -109,15 +122,15 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
             for j in range(3 * nx):
                 nzi[j] = nz32[j]
             _with_added(nzi, hd, i, p, q, nx, tot)
-            field_soa(code, i, buf[0] if has_dn else zero, buf[1], buf[2] if has_up else zero,
-                      jt, kt, axis[0], axis[1], axis[2], bx, by, bz, tot, nx, buf[3])
-            _predict(buf[1], buf[3], gdt, alpha, nx, periodic, buf[4], buf[5])
+            field_soa(code, i, below, cur, above, jt, kt, axis[0], axis[1], axis[2], bx, by, bz,
+                      tot, nx, buf[3])
+            _predict(cur, buf[3], gdt, alpha, nx, periodic, buf[4], buf[5])
             _put_row(buf[5], gin, i, p, q, nx)
             wi = w[i].reshape(3 * nx)
             for j in range(nx):
-                wi[j] = buf[1, 0, j + 1] + 0.5 * buf[4, 0, j]
-                wi[nx + j] = buf[1, 1, j + 1] + 0.5 * buf[4, 1, j]
-                wi[2 * nx + j] = buf[1, 2, j + 1] + 0.5 * buf[4, 2, j]
+                wi[j] = cur[0, j + 1] + 0.5 * buf[4, 0, j]
+                wi[nx + j] = cur[1, j + 1] + 0.5 * buf[4, 1, j]
+                wi[2 * nx + j] = cur[2, j + 1] + 0.5 * buf[4, 2, j]
                 sp[i, j, 0] = buf[5, 0, j + 1]
                 sp[i, j, 1] = buf[5, 1, j + 1]
                 sp[i, j, 2] = buf[5, 2, j + 1]
@@ -158,21 +171,24 @@ def heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, 
     nch = min(_CHUNKS, ny)
     for ch in nb.prange(nch):
         buf = np.zeros((6, 3, L))
+        ring = np.zeros((3, 3, L))
         zero = np.zeros((3, L))
         tot = np.empty(3 * nx)
         nzi = np.empty(3 * nx)
-        for i in range(ch * ny // nch, (ch + 1) * ny // nch):
+        i0 = ch * ny // nch
+        _preload(sp, ring, i0, ny, periodic)
+        for i in range(i0, (ch + 1) * ny // nch):
             dn, up, has_dn, has_up = neighbour_rows(i, ny, periodic)
-            load_row(sp[dn], buf[0], periodic)
-            load_row(sp[i], buf[1], periodic)
-            load_row(sp[up], buf[2], periodic)
+            load_row(sp[up], ring[(i + 1) % 3], periodic)
+            cur = ring[i % 3]
             nz32 = nz[i].reshape(3 * nx)
             for j in range(3 * nx):
                 nzi[j] = nz32[j]
             _with_added(nzi, hd, i, p, q, nx, tot)
-            field_soa(code, i, buf[0] if has_dn else zero, buf[1], buf[2] if has_up else zero,
-                      jt, kt, axis[0], axis[1], axis[2], bx, by, bz, tot, nx, buf[3])
-            _finish(buf[1], buf[3], w[i].reshape(3 * nx), gdt, alpha, nx, s[i])
+            field_soa(code, i, ring[(i + 2) % 3] if has_dn else zero, cur,
+                      ring[(i + 1) % 3] if has_up else zero, jt, kt, axis[0], axis[1], axis[2],
+                      bx, by, bz, tot, nx, buf[3])
+            _finish(cur, buf[3], w[i].reshape(3 * nx), gdt, alpha, nx, s[i])
             load_row(s[i], buf[5], periodic)
             _put_row(buf[5], gin, i, p, q, nx)
 
