@@ -5,9 +5,10 @@ Planes layout: (3, n_sub, my, L) real arrays, component c of site (i, j) at
 Spectra: (3, n_sub, fy, fk) complex; tensor: (n_pairs, 3, fy, fk) complex with components
 (xx, yy, xy) and zz = -(xx + yy), pair table ``pidx`` and conjugation flags ``pconj``.
 
-These passes are memory-bound and run on one thread: they sit between FFT calls, where a
-parallel launch must first wake the idle kernel threads (measured 5 ms per launch at 512^2
-with two threads on a busy 2-core machine, against 0.5 ms for the whole serial pass).
+These passes are memory-bound and run on one thread: one core saturates the memory bus
+(``apply_tensor`` at 1024^2 in single precision: 2.1 ms on one thread and on two), and between
+FFT calls a parallel launch must first wake the idle kernel threads. The LLG step does not
+gather: its Heun stages write the planes themselves.
 """
 
 import numba as nb
@@ -84,14 +85,12 @@ def dot_planes(s, y, p, q):
     return total
 
 
-@nb.njit(parallel=True, **_OPT)
+@nb.njit(**_OPT)
 def apply_tensor(x, k, pidx, pconj):
-    """In place: x[:, s] <- sum_t K_st x[:, t] at every wavevector (x (3, n_sub, fy, fk)).
-
-    Rows of wavevectors are shared between the kernel threads."""
+    """In place: x[:, s] <- sum_t K_st x[:, t] at every wavevector (x (3, n_sub, fy, fk))."""
     nsub, fy, fk = x.shape[1], x.shape[2], x.shape[3]
     if nsub == 1:
-        for y in nb.prange(fy):
+        for y in range(fy):
             kxx = k[0, 0, y]
             kyy = k[0, 1, y]
             kxy = k[0, 2, y]
@@ -108,7 +107,7 @@ def apply_tensor(x, k, pidx, pconj):
                 ay[j] = c * mx_ + b * my_
                 az[j] = -(a + b) * az[j]
         return
-    for y in nb.prange(fy):
+    for y in range(fy):
         mvec = np.empty((3, nsub), dtype=x.dtype)
         for j in range(fk):
             for t in range(nsub):
