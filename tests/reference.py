@@ -56,3 +56,22 @@ def kernel_params():
     axis = np.array([0.3, -0.2, 0.9])
     axis /= np.linalg.norm(axis)
     return 1.3, 0.8, axis, np.array([0.1, -0.25, 0.4])
+
+
+def assert_standard_normal_pairs(g):
+    """Pairs g (n, 2) are independent standard normals: moments within 5 standard errors,
+    Kolmogorov-Smirnov against scipy.stats.norm (a general-purpose reference library), angle
+    uniform on the circle and r^2 exponential with mean 2 (chi^2 with 2 degrees of freedom)."""
+    import math
+
+    from scipy import stats
+
+    n = g.shape[0]
+    for c in range(2):
+        assert abs(g[:, c].mean()) < 5 / math.sqrt(n)
+        assert abs(g[:, c].var() - 1) < 5 * math.sqrt(2 / n)
+        assert stats.kstest(g[:, c], "norm").pvalue > 1e-3
+    assert abs(np.mean(g[:, 0] * g[:, 1])) < 5 / math.sqrt(n)
+    phi = np.arctan2(g[:, 1], g[:, 0])
+    assert stats.kstest(phi, "uniform", args=(-math.pi, 2 * math.pi)).pvalue > 1e-3
+    assert stats.kstest((g**2).sum(1), "expon", args=(0, 2)).pvalue > 1e-3

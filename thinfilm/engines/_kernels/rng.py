@@ -81,28 +81,24 @@ def normals3(k, site):
 
 # ---------------------------------------------------------------- vectorisable Box-Muller
 
-@intrinsic
-def _f64_bits(typingctx, x):
-    """Bit pattern of a float64 as uint64 (no conversion)."""
-    if x != types.float64:
-        return None
+def bitcast_intrinsic(src, dst, llvm_type):
+    """A numba intrinsic that reinterprets the bits of a ``src`` scalar as a ``dst`` scalar."""
 
-    def codegen(context, builder, signature, args):
-        return builder.bitcast(args[0], ir.IntType(64))
+    @intrinsic
+    def cast(typingctx, x):
+        if x != src:
+            return None
 
-    return types.uint64(types.float64), codegen
+        def codegen(context, builder, signature, args):
+            return builder.bitcast(args[0], llvm_type)
+
+        return dst(src), codegen
+
+    return cast
 
 
-@intrinsic
-def _bits_f64(typingctx, x):
-    """float64 with the given uint64 bit pattern."""
-    if x != types.uint64:
-        return None
-
-    def codegen(context, builder, signature, args):
-        return builder.bitcast(args[0], ir.DoubleType())
-
-    return types.float64(types.uint64), codegen
+_f64_bits = bitcast_intrinsic(types.float64, types.uint64, ir.IntType(64))  # float64 -> bits
+_bits_f64 = bitcast_intrinsic(types.uint64, types.float64, ir.DoubleType())  # bits -> float64
 
 
 _EXP_MASK = np.uint64(0x7FF)

@@ -15,9 +15,8 @@ import numba as nb
 import numpy as np
 from llvmlite import ir
 from numba import types
-from numba.extending import intrinsic
 
-from thinfilm.engines._kernels.rng import hash64
+from thinfilm.engines._kernels.rng import bitcast_intrinsic, hash64
 
 __all__ = ["bm_pair32", "normals_row32"]
 
@@ -46,28 +45,8 @@ _I23 = np.int32(23)
 _I127 = np.int32(127)
 
 
-@intrinsic
-def _f32_bits(typingctx, x):
-    """Bit pattern of a float32 as int32."""
-    if x != types.float32:
-        return None
-
-    def codegen(context, builder, signature, args):
-        return builder.bitcast(args[0], ir.IntType(32))
-
-    return types.int32(types.float32), codegen
-
-
-@intrinsic
-def _bits_f32(typingctx, x):
-    """float32 with the given int32 bit pattern."""
-    if x != types.int32:
-        return None
-
-    def codegen(context, builder, signature, args):
-        return builder.bitcast(args[0], ir.FloatType())
-
-    return types.float32(types.int32), codegen
+_f32_bits = bitcast_intrinsic(types.float32, types.int32, ir.IntType(32))  # float32 -> bits
+_bits_f32 = bitcast_intrinsic(types.int32, types.float32, ir.FloatType())  # bits -> float32
 
 
 @nb.njit(inline="always", cache=True, error_model="numpy")
