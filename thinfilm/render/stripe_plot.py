@@ -61,5 +61,7 @@ def plot_stripes(csv_path, out_dir, *, name="stripes_vs_temperature.png"):
     png = save_png(fig, Path(out_dir) / name)
     write_captions(out_dir, {png.name: "Stripe pattern of the heating ramp, one point per "
                              "snapshot (a linear ramp: each point is one state, not an "
-                             "equilibrium average).\n\n" + definition_list(items)})
+                             "equilibrium average). Once the stripe order has fallen, λ is the "
+                             "modulation length of the broken-up pattern (the ring of S(k)), "
+                             "not the width of intact stripes.\n\n" + definition_list(items)})
     return [png]
