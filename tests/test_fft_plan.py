@@ -59,3 +59,48 @@ def test_planes_buffer_is_reused_and_planes_is_a_copy(rng):
     assert np.array_equal(first, buf)
     d.planes_buffer(-s)  # overwrites the buffer, not the copy
     assert np.array_equal(buf, -first) and not np.array_equal(first, buf)
+
+
+@pytest.mark.skipif(not fftw_available(), reason="pyFFTW not installed")
+def test_plan_choice_and_wisdom_are_kept_for_the_next_process(tmp_path, monkeypatch, rng):
+    # a new process (here: FFTW's wisdom forgotten) rebuilds the stored choice of plan and
+    # gets the same transform bit for bit
+    import json
+
+    import pyfftw
+
+    from thinfilm.engines import fft_wisdom
+
+    monkeypatch.setenv("THINFILM_FFT_CACHE", str(tmp_path))
+    shape = (3, 1, 8, 12)
+    a = RealFFTPair(shape, np.float32, 1, backend="fftw")
+    data = json.loads(fft_wisdom.cache_path().read_text())
+    assert len(data["choices"]) == 2 and data["wisdom"]
+    x = rng.standard_normal(shape)
+    a.real_in[...] = x
+    first = a.forward().copy()
+    stored = dict(data["choices"])
+    for forced, kind in [(1, "per-grid"), (0, "batched")]:
+        data["choices"] = {k: forced for k in stored}
+        fft_wisdom.cache_path().write_text(json.dumps(data))
+        pyfftw.forget_wisdom()
+        assert RealFFTPair(shape, np.float32, 1, backend="fftw").plan_kinds == (kind, kind)
+    data["choices"] = stored
+    fft_wisdom.cache_path().write_text(json.dumps(data))
+    pyfftw.forget_wisdom()
+    c = RealFFTPair(shape, np.float32, 1, backend="fftw")
+    assert c.plan_kinds == a.plan_kinds
+    c.real_in[...] = x
+    assert np.array_equal(c.forward(), first)
+
+
+@pytest.mark.skipif(not fftw_available(), reason="pyFFTW not installed")
+def test_an_unreadable_plan_cache_is_measured_afresh(tmp_path, monkeypatch):
+    from thinfilm.engines import fft_wisdom
+
+    monkeypatch.setenv("THINFILM_FFT_CACHE", str(tmp_path))
+    fft_wisdom.cache_path().parent.mkdir(parents=True, exist_ok=True)
+    fft_wisdom.cache_path().write_text("{not json")
+    pair = RealFFTPair((2, 1, 4, 6), np.float64, 1, backend="fftw")
+    assert set(pair.plan_kinds) <= {"batched", "per-grid"}
+    assert fft_wisdom.load()[1]  # rewritten as a valid cache

@@ -8,7 +8,9 @@ and no array is allocated per call. Without pyFFTW the same buffers are served b
 For each direction two plans are made, one batched over all grids and one per grid; the one
 that runs faster here (least of 3 timed runs each) is kept. FFTW_MEASURE on a shared machine
 sometimes settles on a plan that runs twice as slowly as the best; two candidates make that
-rare. Planning costs about 1.5 s for three 1024 x 1024 grids, once per field.
+rare. Planning costs about 1.5 s for three 1024 x 1024 grids, once per field. The choice and
+FFTW's wisdom are kept on disk (:mod:`.fft_wisdom`), so later processes rebuild the same plans
+(same rounding: a resumed run continues bit for bit) in a fraction of that time.
 
 Both transforms are unnormalised: backward(forward(x)) = n_points x. Callers fold the 1/n_points
 into what they multiply in between (the dipolar tensor), which saves one pass over the grid.
@@ -18,6 +20,8 @@ import time
 
 import numpy as np
 from scipy import fft as sfft
+
+from thinfilm.engines import fft_wisdom
 
 try:  # pyFFTW is a declared dependency; the fallback keeps a broken install usable
     import pyfftw
@@ -57,6 +61,8 @@ class RealFFTPair:
         Output of :meth:`forward`, input of :meth:`backward` (destroyed by it).
     real_out : ndarray, shape ``shape``
         Output of :meth:`backward`.
+    plan_kinds : tuple of str
+        FFTW: ("batched" or "per-grid") for the forward and the backward plan; scipy: ().
     """
 
     def __init__(self, shape, dtype, threads=1, *, backend="auto"):
@@ -77,12 +83,26 @@ class RealFFTPair:
             self.spectrum = pyfftw.zeros_aligned(spec_shape, dtype=ctype)
             self.real_out = pyfftw.zeros_aligned(self.shape, dtype=dtype)
             # planning with FFTW_MEASURE overwrites the buffers: plan first, then clear
-            self._fwd = _fastest(_plans(self.real_in, self.spectrum, self.threads, "FFTW_FORWARD"),
-                                 self.real_in)
-            self._bwd = _fastest(_plans(self.spectrum, self.real_out, self.threads,
-                                        "FFTW_BACKWARD"), self.spectrum)
+            wisdom, choices = fft_wisdom.load()
+            if wisdom is not None:
+                pyfftw.import_wisdom(wisdom)
+            n_known = len(choices)
+            chosen, kinds = [], []
+            for src, dst, direction in ((self.real_in, self.spectrum, "FFTW_FORWARD"),
+                                        (self.spectrum, self.real_out, "FFTW_BACKWARD")):
+                key = f"{self.shape}|{dtype.name}|{self.threads}|{direction}|{pyfftw.__version__}"
+                builders = _plans(src, dst, self.threads, direction)
+                if key not in choices or choices[key] >= len(builders):
+                    choices[key] = _fastest(builders, src)
+                chosen.append(builders[choices[key]]())
+                kinds.append(_KINDS[choices[key]])
+            self._fwd, self._bwd = chosen
+            self.plan_kinds = tuple(kinds)
+            if len(choices) > n_known:
+                fft_wisdom.store(pyfftw.export_wisdom(), choices)
             self.real_in[...] = 0.0
         else:
+            self.plan_kinds = ()
             self.real_in = np.zeros(self.shape, dtype=dtype)
             self.spectrum = np.zeros(spec_shape, dtype=ctype)
             self.real_out = np.zeros(self.shape, dtype=dtype)
@@ -112,26 +132,31 @@ class RealFFTPair:
         return self.real_out
 
 
+_KINDS = ("batched", "per-grid")
+
+
 def _plans(src, dst, threads, direction):
-    """Candidate plan lists for src -> dst over the last two axes: batched, and one per grid."""
+    """Builders of the candidate plan lists for src -> dst over the last two axes: batched, and
+    (for more than one grid) one plan per grid."""
     flags = ("FFTW_MEASURE",) if direction == "FFTW_FORWARD" else ("FFTW_MEASURE",
                                                                    "FFTW_DESTROY_INPUT")
     kw = dict(axes=(-2, -1), threads=threads, direction=direction, flags=flags)
-    cands = [[pyfftw.FFTW(src, dst, **kw)]]
+    builders = [lambda: [pyfftw.FFTW(src, dst, **kw)]]
     if src.ndim > 2 and src.size > src.shape[-1] * src.shape[-2]:
         a = src.reshape((-1,) + src.shape[-2:])
         b = dst.reshape((-1,) + dst.shape[-2:])
-        cands.append([pyfftw.FFTW(a[k], b[k], **kw) for k in range(a.shape[0])])
-    return cands
+        builders.append(lambda: [pyfftw.FFTW(a[k], b[k], **kw) for k in range(a.shape[0])])
+    return builders
 
 
-def _fastest(cands, src, repeats=3):
-    """The candidate plan list with the least run time (min of ``repeats`` runs on a zeroed
+def _fastest(builders, src, repeats=3):
+    """Index of the candidate with the least run time (min of ``repeats`` runs on a zeroed
     input array src)."""
-    if len(cands) == 1:
-        return cands[0]
-    best, best_t = None, np.inf
-    for plans in cands:
+    if len(builders) == 1:
+        return 0
+    best, best_t = 0, np.inf
+    for i, build in enumerate(builders):
+        plans = build()
         for _ in range(repeats):
             src[...] = 0
             t0 = time.perf_counter()
@@ -139,5 +164,5 @@ def _fastest(cands, src, repeats=3):
                 p.execute()
             dt = time.perf_counter() - t0
             if dt < best_t:
-                best, best_t = plans, dt
+                best, best_t = i, dt
     return best
