@@ -9,7 +9,8 @@ prints the half-period L (sites) from the radial peak of S(k) of m_z
     python validation/stripe_heating.py --j 6.5 --k 8.3 --n 160 --warm 150 --ramp 600 --t1 30
     python validation/stripe_heating.py --j 6.5 --k 8.3 --n 192 --init stripes --t1 34
 
---init: random | up | stripes (straight, period nx / 4) | stripes:W (straight, width W).
+--init: random | up | stripes (straight, period nx / 4) | stripes:W (straight, width W) |
+blocks:B (random up and down squares of B sites: domains wider than a quench gives).
 One kernel thread (THINFILM_THREADS is not read here: set_threads(1)).
 """
 
@@ -64,7 +65,14 @@ def main(argv=None):
     lat = model.lattice
     print(f"g = {g_mev:.4f} meV, J = {a.j * g_mev:.4g} meV, K_eff/g = {a.k - SHAPE:.3f}, "
           f"recommended step at {a.t1:g} K: {stable_time_step(model, a.t1, a.alpha) * 1e15:.3g} fs")
-    if a.init.startswith("stripes:"):
+    if a.init.startswith("blocks:"):  # random +z / -z squares of B sites, a little noise
+        b = int(a.init.split(":")[1])
+        rng = np.random.default_rng(a.seed)
+        signs = rng.choice([-1.0, 1.0], size=(-(-a.n // b),) * 2)
+        s0 = rng.normal(scale=0.2, size=(a.n, a.n, 3))
+        s0[..., 2] += np.kron(signs, np.ones((b, b)))[: a.n, : a.n]
+        s0 /= np.linalg.norm(s0, axis=-1, keepdims=True)
+    elif a.init.startswith("stripes:"):
         s0 = stripe_spins(lat, int(a.init.split(":")[1]), wall_width=1.5)
     else:
         s0 = initial_spins(lat, a.init, seed=a.seed)
