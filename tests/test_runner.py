@@ -44,25 +44,30 @@ def test_run_folder_is_self_describing(tmp_path):
     assert not list(out.rglob("*.tmp"))
 
 
+def _run_interrupted(sc, out, monkeypatch, at_call=8):
+    """Run sc into out and interrupt it (KeyboardInterrupt) at the at_call-th advance."""
+    calls = {"n": 0}
+    original = LLGSimulation.advance
+
+    def interrupted(self, *a, **k):
+        calls["n"] += 1
+        if calls["n"] == at_call:
+            raise KeyboardInterrupt
+        return original(self, *a, **k)
+
+    monkeypatch.setattr(LLGSimulation, "advance", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        run_dynamics(sc, out, progress=False)
+    monkeypatch.setattr(LLGSimulation, "advance", original)
+
+
 def test_resume_after_interruption_equals_uninterrupted_run(tmp_path, monkeypatch):
     sc = load_scenario(SC)
     full = tmp_path / "full"
     run_dynamics(sc, full, progress=False)
 
     part = tmp_path / "part"
-    calls = {"n": 0}
-    original = LLGSimulation.advance
-
-    def interrupted(self, *a, **k):
-        calls["n"] += 1
-        if calls["n"] == 8:
-            raise KeyboardInterrupt
-        return original(self, *a, **k)
-
-    monkeypatch.setattr(LLGSimulation, "advance", interrupted)
-    with pytest.raises(KeyboardInterrupt):
-        run_dynamics(sc, part, progress=False)
-    monkeypatch.setattr(LLGSimulation, "advance", original)
+    _run_interrupted(sc, part, monkeypatch)
     assert not json.loads((part / "manifest.json").read_text())["finished"]
     run_dynamics(sc, part, resume=True, progress=False)
     assert (part / "timeseries.csv").read_bytes() == (full / "timeseries.csv").read_bytes()
@@ -115,19 +120,7 @@ def test_dipolar_run_resumed_in_a_new_process_equals_uninterrupted(tmp_path, mon
     sc = load_scenario(str(path))
     run_dynamics(sc, tmp_path / "full", progress=False)
     part = tmp_path / "part"
-    calls = {"n": 0}
-    original = LLGSimulation.advance
-
-    def interrupted(self, *a, **k):
-        calls["n"] += 1
-        if calls["n"] == 8:
-            raise KeyboardInterrupt
-        return original(self, *a, **k)
-
-    monkeypatch.setattr(LLGSimulation, "advance", interrupted)
-    with pytest.raises(KeyboardInterrupt):
-        run_dynamics(sc, part, progress=False)
-    monkeypatch.setattr(LLGSimulation, "advance", original)
+    _run_interrupted(sc, part, monkeypatch)
     code = ("import sys; from thinfilm.input.scenario import load_scenario; "
             "from thinfilm.runs.time_resolved import run_dynamics; "
             "run_dynamics(load_scenario(sys.argv[1]), sys.argv[2], resume=True, progress=False)")
