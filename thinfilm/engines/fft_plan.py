@@ -92,9 +92,11 @@ class RealFFTPair:
                                         (self.spectrum, self.real_out, "FFTW_BACKWARD")):
                 key = f"{self.shape}|{dtype.name}|{self.threads}|{direction}|{pyfftw.__version__}"
                 builders = _plans(src, dst, self.threads, direction)
-                if key not in choices or choices[key] >= len(builders):
-                    choices[key] = _fastest(builders, src)
-                chosen.append(builders[choices[key]]())
+                if key in choices and choices[key] < len(builders):
+                    plans = builders[choices[key]]()
+                else:
+                    choices[key], plans = _fastest(builders, src)
+                chosen.append(plans)
                 kinds.append(_KINDS[choices[key]])
             self._fwd, self._bwd = chosen
             self.plan_kinds = tuple(kinds)
@@ -150,11 +152,11 @@ def _plans(src, dst, threads, direction):
 
 
 def _fastest(builders, src, repeats=3):
-    """Index of the candidate with the least run time (min of ``repeats`` runs on a zeroed
-    input array src)."""
+    """(index, plan list) of the candidate with the least run time (min of ``repeats`` runs on
+    a zeroed input array src)."""
     if len(builders) == 1:
-        return 0
-    best, best_t = 0, np.inf
+        return 0, builders[0]()
+    best, best_t = None, np.inf
     for i, build in enumerate(builders):
         plans = build()
         for _ in range(repeats):
@@ -164,5 +166,5 @@ def _fastest(builders, src, repeats=3):
                 p.execute()
             dt = time.perf_counter() - t0
             if dt < best_t:
-                best, best_t = i, dt
+                best, best_t = (i, plans), dt
     return best

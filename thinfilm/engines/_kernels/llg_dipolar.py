@@ -36,7 +36,8 @@ _CHUNKS = 32
 
 @nb.njit(inline="always", **_OPT)
 def _with_added(nzi, hd, i, p, q, nx, tot):
-    """tot (3 nx, component blocks) = noise row nzi + row i of the planes array hd."""
+    """tot (3 nx, component blocks, float64) = noise row nzi (float32) + row i of the planes
+    array hd."""
     big = i // p
     base = (i % p) * q
     for c in range(3):
@@ -45,7 +46,7 @@ def _with_added(nzi, hd, i, p, q, nx, tot):
             src = hd[c, base + b, big]
             for jj in range((nx - b + q - 1) // q):
                 j = o + jj * q + b
-                tot[j] = nzi[j] + src[jj]
+                tot[j] = np.float64(nzi[j]) + src[jj]
 
 
 @nb.njit(inline="always", **_OPT)
@@ -91,10 +92,10 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
     """Predictor of one step: sp = normalised s + d1, field = local + noise + hd (T).
 
     step keys the noise (keys and counters as ``heun_run_twopass`` step ``step``, normals from
-    ``rng32.normals_row32``, float32; both stages use the same values); hd planes (3, n_sub, my, L) of the added field at s; sp
-    (ny, nx, 3); w = s + d1/2 and nz (float32) hold each row as flat component blocks, kept for
-    the corrector. sp is also written into the planes array gin (any float type; sites outside
-    the grid untouched).
+    ``rng32.normals_row32``, float32; both stages use the same values); hd planes
+    (3, n_sub, my, L) of the added field at s; sp (ny, nx, 3); w = s + d1/2 and nz (float32)
+    hold each row as flat component blocks, kept for the corrector. sp is also written into the
+    planes array gin (any float type; sites outside the grid untouched).
     """
     ny, nx = s.shape[0], s.shape[1]
     L = row_pad(nx)
@@ -105,7 +106,6 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
         ring = np.zeros((3, 3, L))
         zero = np.zeros((3, L))
         tot = np.empty(3 * nx)
-        nzi = np.empty(3 * nx)
         i0 = ch * ny // nch
         _preload(s, ring, i0, ny, periodic)
         for i in range(i0, (ch + 1) * ny // nch):
@@ -119,9 +119,7 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
                 normals_row32(k, i * ((3 * nx + 1) // 2), sigma, nz32)
             else:
                 nz32[:] = 0.0
-            for j in range(3 * nx):
-                nzi[j] = nz32[j]
-            _with_added(nzi, hd, i, p, q, nx, tot)
+            _with_added(nz32, hd, i, p, q, nx, tot)
             field_soa(code, i, below, cur, above, jt, kt, axis[0], axis[1], axis[2], bx, by, bz,
                       tot, nx, buf[3])
             _predict(cur, buf[3], gdt, alpha, nx, periodic, buf[4], buf[5])
@@ -140,6 +138,7 @@ def heun_predict_stage(s, step, seed, code, periodic, jt, kt, axis, bx, by, bz, 
 def _finish(pcur, h, wi, gdt, alpha, nx, out):
     """out (nx, 3) = normalised w + d2/2, d2 the increment at the predictor pcur (3, L)."""
     f = out.reshape(3 * nx)
+    hg = -0.5 * gdt
     for j in range(nx):
         t = j + 1
         sx = pcur[0, t]
@@ -151,7 +150,6 @@ def _finish(pcur, h, wi, gdt, alpha, nx, out):
         cx = sy * hz - sz * hy
         cy = sz * hx - sx * hz
         cz = sx * hy - sy * hx
-        hg = -0.5 * gdt
         nx_ = wi[j] + hg * (cx + alpha * (sy * cz - sz * cy))
         ny_ = wi[nx + j] + hg * (cy + alpha * (sz * cx - sx * cz))
         nz_ = wi[2 * nx + j] + hg * (cz + alpha * (sx * cy - sy * cx))
@@ -174,17 +172,13 @@ def heun_correct_stage(s, code, periodic, jt, kt, axis, bx, by, bz, gdt, alpha, 
         ring = np.zeros((3, 3, L))
         zero = np.zeros((3, L))
         tot = np.empty(3 * nx)
-        nzi = np.empty(3 * nx)
         i0 = ch * ny // nch
         _preload(sp, ring, i0, ny, periodic)
         for i in range(i0, (ch + 1) * ny // nch):
             dn, up, has_dn, has_up = neighbour_rows(i, ny, periodic)
             load_row(sp[up], ring[(i + 1) % 3], periodic)
             cur = ring[i % 3]
-            nz32 = nz[i].reshape(3 * nx)
-            for j in range(3 * nx):
-                nzi[j] = nz32[j]
-            _with_added(nzi, hd, i, p, q, nx, tot)
+            _with_added(nz[i].reshape(3 * nx), hd, i, p, q, nx, tot)
             field_soa(code, i, ring[(i + 2) % 3] if has_dn else zero, cur,
                       ring[(i + 1) % 3] if has_up else zero, jt, kt, axis[0], axis[1], axis[2],
                       bx, by, bz, tot, nx, buf[3])
