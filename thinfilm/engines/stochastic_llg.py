@@ -11,6 +11,7 @@ from thinfilm.engines._kernels.llg_dipolar import added_work, heun_run_added
 from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM  # sum' (a / r)^3 per lattice
 from thinfilm.input.errors import StabilityError
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
+from thinfilm.model.labyrinth import labyrinth_spins
 from thinfilm.model.parameters import Model
 
 __all__ = ["LLGSimulation", "stable_time_step", "initial_spins", "measure"]
@@ -50,9 +51,12 @@ def stable_time_step(model, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S_T):
     return min(dt_det, dt_noise)
 
 
-def initial_spins(lattice, kind, *, seed=0, axis=(0.0, 0.0, 1.0)):
-    """Initial spin array (ny, nx, 3): 'random', 'up' (+axis), 'down', 'stripes' or an .npz path."""
+def initial_spins(lattice, kind, *, seed=0, axis=(0.0, 0.0, 1.0), width_nm=None):
+    """Initial spin array (ny, nx, 3): 'random', 'up' (+axis), 'down', 'stripes', 'labyrinth'
+    (domains ``width_nm`` wide, :func:`thinfilm.model.labyrinth.labyrinth_spins`) or an .npz path."""
     ny, nx = lattice.ny, lattice.nx
+    if kind == "labyrinth":
+        return labyrinth_spins(lattice, width_nm, seed=seed, axis=axis)
     n = np.asarray(axis, dtype=np.float64)
     n = n / np.linalg.norm(n)
     if kind == "random":

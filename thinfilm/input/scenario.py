@@ -17,6 +17,7 @@ from thinfilm.input.continuum import continuum_to_lattice
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
+from thinfilm.input.initial_spec import labyrinth_width_nm
 from thinfilm.input.modes import check_keys_for_mode, scenario_mode
 from thinfilm.input.reader import Reader
 from thinfilm.input.spec import (
@@ -218,21 +219,25 @@ def _gamma(text):
     raise ValueError(f"{text!r} is not a gyromagnetic ratio (example: \"1.76e11 rad/(s T)\")")
 
 
-def _initial(r, path):
+def _initial(r, path, lat):
+    """(initial state, domain width in nm or None)."""
     val = r.raw("initial", "random")
+    if isinstance(val, dict):
+        return "labyrinth", labyrinth_width_nm(r.sub("initial"), lat)
     if not isinstance(val, str):
-        raise r.error(f"must be one of {', '.join(INITIAL_STATES)} or a path to a saved .npz snapshot; got {val!r}", "initial")
+        raise r.error(f"must be one of {', '.join(INITIAL_STATES)}, {{labyrinth: <domain width>}} "
+                      f"or a path to a saved .npz snapshot; got {val!r}", "initial")
     if val in INITIAL_STATES:
-        return val
+        return val, None
     p = Path(val)
     if not p.is_absolute() and path and path != "<dict>":
         p = Path(path).parent / p
     if p.suffix != ".npz" or not p.is_file():
         close = difflib.get_close_matches(val, INITIAL_STATES, n=1, cutoff=0.5)
         hint = f" Did you mean {close[0]!r}?" if close else ""
-        raise r.error(f"must be one of {', '.join(INITIAL_STATES)} or the path of an existing .npz "
-                      f"snapshot; got {val!r}.{hint}", "initial")
-    return str(p)
+        raise r.error(f"must be one of {', '.join(INITIAL_STATES)}, {{labyrinth: <domain width>}} "
+                      f"or the path of an existing .npz snapshot; got {val!r}.{hint}", "initial")
+    return str(p), None
 
 
 def _one_instrument(ins, named):
@@ -401,9 +406,10 @@ def load_scenario(source):
     disorder = _disorder(r, path, lat, sizes, mat, dyn)
     if disorder is not None and "cluster" in dyn.moves:  # default moves: Metropolis only here
         dyn = replace(dyn, moves=("metropolis",))
-    return Scenario(str(name), path, lat, mat, field_T, t0, dyn, _initial(r, path), every,
+    initial, width_nm = _initial(r, path, lat)
+    return Scenario(str(name), path, lat, mat, field_T, t0, dyn, initial, every,
                     snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments,
-                    disorder)
+                    disorder, initial_width_nm=width_nm)
 
 
 def thermal_energy_meV(temperature_K):

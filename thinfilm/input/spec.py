@@ -94,6 +94,7 @@ class Scenario:
     instruments: tuple = ()  # every instrument (dicts); ``instrument`` is the first
     disorder: object = None  # thinfilm.input.disorder_spec.DisorderSpec, or None (perfect film)
     disorder_realisation: int = 0  # which realisation of the disorder (seed offset)
+    initial_width_nm: float | None = None  # domain width of an ``initial: {labyrinth: ...}``
 
     @property
     def is_sweep(self):
@@ -128,6 +129,8 @@ class Scenario:
             "initial": self.initial,
             "seed": self.seed,
         }
+        if self.initial_width_nm is not None:
+            out["initial_width_nm"] = self.initial_width_nm
         if m.continuum:
             out["material"]["continuum"] = m.continuum
         if m.dipolar:

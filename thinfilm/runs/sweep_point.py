@@ -115,11 +115,12 @@ def _start_spins(task, model):
     if task.spins is not None:
         return np.ascontiguousarray(np.asarray(task.spins, dtype=np.float64))
     try:
-        return initial_spins(lat, sc.initial, seed=task.seed, axis=model.axis)
+        return initial_spins(lat, sc.initial, seed=task.seed, axis=model.axis,
+                             width_nm=sc.initial_width_nm)
     except ValueError as exc:
         raise ScenarioError(
             f"the saved initial state cannot start a sweep point of size L = {task.size}: {exc}. "
-            f"A sweep over several sizes needs an initial state of random, up, down or stripes",
+            f"A sweep over several sizes needs an initial state of random, up, down, stripes or labyrinth",
             path=sc.source, key="initial") from None
 
 

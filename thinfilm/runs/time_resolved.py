@@ -69,7 +69,8 @@ def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=T
         spins, step, rows = ck["spins"], int(ck["step"]), [list(r) for r in ck["rows"]]
         n_snap = int(ck["n_snapshots"])
     else:
-        spins = initial_spins(lat, sc.initial, seed=sc.seed, axis=model.axis)
+        spins = initial_spins(lat, sc.initial, seed=sc.seed, axis=model.axis,
+                               width_nm=sc.initial_width_nm)
         step, rows, n_snap = 0, [], 0
     sim = make_llg(model, scenario_site_parameters(sc, model), temperature_K=t0, damping=d.damping, time_step_s=dt, seed=sc.seed,
                         spins=spins, gamma=d.gamma, step=step)
