@@ -122,15 +122,16 @@ def stripe_table(run_dir, lattice, *, time_offset_ps=0.0):
         s = fr["spins"]
         f = s[..., 2]
         try:
-            lam = stripe_period(f, **geo)["period_nm"]
+            per = stripe_period(f, **geo)
+            lam, lam_mean = per["period_nm"], per["mean_period_nm"]
             q = stripe_orientation(f, **geo)["order"]
             nb = bubble_statistics(f, lattice.site_area_nm2, positions_nm=lattice.positions_nm,
                                    box_nm=lattice.box_nm, neighbours=lattice.neighbours)["count"]
         except InputError:  # uniform: no pattern
-            lam = q = nb = math.nan
+            lam = lam_mean = q = nb = math.nan
         m = s.reshape(-1, 3).mean(axis=0)
         rows.append((fr.get("time_ps", math.nan) + time_offset_ps, fr.get("temperature_K", math.nan),
-                     lam, q, nb, float(np.abs(f).mean()), float(math.hypot(m[0], m[1]))))
+                     lam, lam_mean, q, nb, float(np.abs(f).mean()), float(math.hypot(m[0], m[1]))))
     return tuple(STRIPE_COLUMNS), rows
 
 

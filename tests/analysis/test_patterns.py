@@ -24,8 +24,23 @@ def test_commensurate_stripe_period_is_exact(wavelength_sites):
     f = _stripes(lat.positions_nm, wavelength_sites * a, 0.0)
     out = stripe_period(f, a)
     assert out["period_nm"] == pytest.approx(wavelength_sites * a, rel=1e-12)
+    # the mean over 0 < |k| <= 2 k*: the square wave's harmonics (3k*, 5k*, ...) lie outside
+    assert out["mean_period_nm"] == pytest.approx(wavelength_sites * a, rel=1e-12)
     out = stripe_period(f.T.copy(), a)  # along y
     assert out["period_nm"] == pytest.approx(wavelength_sites * a, rel=1e-12)
+
+
+def test_mean_period_is_the_s_weighted_mean_wavenumber():
+    # exact: two cosines a1 cos(k1 x) + a2 cos(k2 y) put S = N a^2 / 4 on +-k each, so
+    # k_centroid = (a1^2 k1 + a2^2 k2) / (a1^2 + a2^2) when k2 <= 2 k1 (k1 the peak)
+    a = 0.5
+    lat = Lattice("square", 96, 96, a, True)
+    x, y = lat.positions_nm[..., 0], lat.positions_nm[..., 1]
+    k1, k2 = 2 * math.pi / (12 * a), 2 * math.pi / (8 * a)
+    f = 1.0 * np.cos(k1 * x) + 0.6 * np.cos(k2 * y)
+    out = stripe_period(f, a)
+    assert out["k_centroid_per_nm"] == pytest.approx((k1 + 0.36 * k2) / 1.36, rel=1e-12)
+    assert out["period_nm"] == pytest.approx(12 * a, rel=1e-12)
 
 
 @pytest.mark.parametrize("shape", ["square", "triangular", "honeycomb"])

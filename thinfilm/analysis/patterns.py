@@ -62,7 +62,10 @@ def stripe_period(field, spacing_nm=None, *, positions_nm=None, box_nm=None, per
     the peak ring k* (k = 0 left out) and its two neighbours give the S-weighted mean
     wavenumber k_peak, and ``period_nm = 2 pi / k_peak``. For stripes of period lambda
     commensurate with the box the weight sits on |k| = 2 pi / lambda and the period is exact;
-    otherwise it is resolved to about dk / k_peak relative.
+    otherwise it is resolved to about dk / k_peak relative. The peak ring moves in steps of dk
+    and lags a ring that broadens towards larger k (a labyrinth narrowing by new fingers); the
+    S-weighted mean wavenumber over 0 < |k| <= 2 k_peak (the ring without the harmonics and
+    most of the thermal short-wavelength noise) follows it smoothly: ``mean_period_nm``.
 
     Parameters
     ----------
@@ -79,7 +82,8 @@ def stripe_period(field, spacing_nm=None, *, positions_nm=None, box_nm=None, per
     Returns
     -------
     dict
-        ``period_nm``, ``k_peak_per_nm``, ``k_mean_per_nm`` (S-weighted mean |k| of all modes),
+        ``period_nm``, ``mean_period_nm`` (2 pi / ``k_centroid_per_nm``), ``k_peak_per_nm``,
+        ``k_centroid_per_nm``, ``k_mean_per_nm`` (S-weighted mean |k| of all modes),
         ``k_bins_per_nm`` and ``s_radial`` (ring centres and ring-averaged S), ``dk_per_nm``.
     """
     k, _, s, dk = _spectrum(field, spacing_nm, positions_nm, box_nm, period, k_max)
@@ -92,9 +96,13 @@ def stripe_period(field, spacing_nm=None, *, positions_nm=None, box_nm=None, per
     peak = int(np.argmax(radial))
     near = np.abs(ring - peak) <= 1
     k_peak = float(np.sum(k[near] * s[near]) / np.sum(s[near]))
+    band = k <= 2 * k_peak
+    k_centroid = float(np.sum(k[band] * s[band]) / np.sum(s[band]))
     return {
         "period_nm": 2 * math.pi / k_peak,
+        "mean_period_nm": 2 * math.pi / k_centroid,
         "k_peak_per_nm": k_peak,
+        "k_centroid_per_nm": k_centroid,
         "k_mean_per_nm": float(np.sum(k * s) / np.sum(s)),
         "k_bins_per_nm": np.nonzero(ok)[0] * dk,
         "s_radial": radial[ok],

@@ -1,4 +1,4 @@
-"""PNG figure of a stripe table: stripe period, stripe order and |m_z| against temperature."""
+"""PNG figure of a stripe table: stripe periods, stripe order and |m_z| against temperature."""
 
 from pathlib import Path
 
@@ -7,14 +7,14 @@ import numpy as np
 from thinfilm.input.errors import InputError
 
 from .captions import definition_list, write_captions
-from .layout import OKABE_ITO, new_figure, note, save_png
+from .layout import OKABE_ITO, new_figure, note, save_png, shared_legend
 from .rundir import read_table
 
 __all__ = ["plot_stripes", "STRIPE_COLUMNS"]
 
 #: Columns of a stripe table (one row per snapshot) and their units.
 STRIPE_COLUMNS = {
-    "time_ps": "ps", "temperature_K": "K", "stripe_period_nm": "nm",
+    "time_ps": "ps", "temperature_K": "K", "stripe_period_nm": "nm", "mean_period_nm": "nm",
     "stripe_order": "1 (0 isotropic .. 1 parallel stripes)", "bubble_count": "1",
     "mean_abs_m_axis": "per spin", "m_inplane": "per spin",
 }
@@ -52,16 +52,26 @@ def plot_stripes(csv_path, out_dir, *, name="stripes_vs_temperature.png"):
         if y is None or not np.isfinite(y).any():
             note(ax, f"no finite '{col}' values")
         else:
-            ax.plot(t, y, color=OKABE_ITO[0], lw=1.0, marker="o", ms=2.5)
+            ax.plot(t, y, color=OKABE_ITO[0], lw=1.0, marker="o", ms=2.5,
+                    label="λ (peak)" if col == "stripe_period_nm" else None)
+        if col == "stripe_period_nm" and "mean_period_nm" in tab:
+            ax.plot(t, tab["mean_period_nm"], color=OKABE_ITO[1], lw=1.4, label="λ̄ (mean)")
+            items.append(("λ̄", "nm", "mean period 2π/k̄, k̄ the S-weighted mean |k| over "
+                          "0 < |k| ≤ 2k*: follows a ring that broadens towards large k"))
         ax.set_ylabel(label)
         items.append(item)
+    axes[0].set_ylim(bottom=0)
+    if "mean_period_nm" in tab:
+        shared_legend(fig, where="upper")
     axes[1].set_ylim(0, 1)
     axes[2].set_ylim(0, 1.05)
     axes[-1].set_xlabel("T (K)")
     png = save_png(fig, Path(out_dir) / name)
     write_captions(out_dir, {png.name: "Stripe pattern of the heating ramp, one point per "
                              "snapshot (a linear ramp: each point is one state, not an "
-                             "equilibrium average). Once the stripe order has fallen, λ is the "
-                             "modulation length of the broken-up pattern (the ring of S(k)), "
-                             "not the width of intact stripes.\n\n" + definition_list(items)})
+                             "equilibrium average). While ⟨|m_z|⟩ stays well above 0.5 the "
+                             "domains are intact and a falling λ̄ means narrower domains; once "
+                             "the pattern has broken up (⟨|m_z|⟩ near 0.5, Q near 0) λ is the "
+                             "modulation length of the fluctuating film (the ring of S(k)), "
+                             "not the width of domains.\n\n" + definition_list(items)})
     return [png]
