@@ -197,9 +197,12 @@ def run_stripe_demo(out_dir, scenario_path=STRIPE_SCENARIO, *, n_threads=None, p
 
 def _print_stripe_summary(rows):
     arr = np.asarray(rows, dtype=float)
-    print("   T (K)   period (nm)   stripe order   <|m_z|>")
+    col = {c: i for i, c in enumerate(STRIPE_COLUMNS)}
+    print("   T (K)   period: peak, mean (nm)   stripe order   <|m_z|>")
     for r in arr[:: max(1, len(arr) // 8)]:
-        print(f"  {r[1]:6.2f}   {r[2]:11.3g}   {r[3]:12.3f}   {r[5]:7.3f}")
+        print(f"  {r[col['temperature_K']]:6.2f}   {r[col['stripe_period_nm']]:9.3g}  "
+              f"{r[col['mean_period_nm']]:9.3g}     {r[col['stripe_order']]:12.3f}   "
+              f"{r[col['mean_abs_m_axis']]:7.3f}")
 
 
 def run_grains_demo(out_dir, *, workers=None, progress=True):

@@ -3,8 +3,9 @@
 A measurement aid for the stripe demo: a film of point dipoles (0.5 nm cells of 40 muB, as in
 scenarios/stripe_film.yaml) with J/g and K/g given in units of the dipolar constant
 g = mu0 mu_s^2 / (4 pi a^3); a warm-up at --t0, then a linear ramp to --t1. Every --every ps it
-prints the half-period L (sites) from the radial peak of S(k) of m_z
-(thinfilm.analysis.patterns.stripe_period), the nematic order Q and <|m_z|>.
+prints the half-period L (sites) from the radial peak of S(k) of m_z and from its mean
+wavenumber over 0 < |k| <= 2 k* (thinfilm.analysis.patterns.stripe_period: "peak / mean"), the
+nematic order Q and <|m_z|>.
 
     python validation/stripe_heating.py --j 6.5 --k 8.3 --n 160 --warm 150 --ramp 600 --t1 30
     python validation/stripe_heating.py --j 6.5 --k 8.3 --n 192 --init stripes --t1 34
@@ -95,14 +96,15 @@ def main(argv=None):
         f = sim.spins[..., 2]
         frames.append((temp, np.array(f, dtype=np.float32)))
         try:
-            half = stripe_period(f, **geo)["period_nm"] / A_NM / 2
+            per = stripe_period(f, **geo)
+            half, mean_half = (per[k] / A_NM / 2 for k in ("period_nm", "mean_period_nm"))
             q = stripe_orientation(f, **geo)["order"]
         except InputError:  # uniform
-            half = q = float("nan")
+            half = mean_half = q = float("nan")
         sm = ndimage.gaussian_filter(f, 1.5, mode="wrap") > 0
         cuts = np.sum(sm != np.roll(sm, 1, 0)) + np.sum(sm != np.roll(sm, 1, 1))
         lw = f.size / max(cuts, 1) * 4 / np.pi
-        print(f"{stage:5s} t = {t_ps:7.1f} ps  T = {temp:6.2f} K  L = {half:6.2f} sites  "
+        print(f"{stage:5s} t = {t_ps:7.1f} ps  T = {temp:6.2f} K  L = {half:6.2f} / {mean_half:6.2f} sites  "
               f"Lw = {lw:6.2f}  "
               f"Q = {q:.3f}  <|mz|> = {float(np.abs(f).mean()):.3f}  "
               f"[{time.time() - t_start:.0f} s]", flush=True)

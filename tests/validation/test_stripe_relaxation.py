@@ -4,8 +4,8 @@ Not a published value: with the dipole-dipole field on and K just above the out-
 cost of the square lattice of point dipoles (6.78 g per site, g = mu0 mu_s^2 / (4 pi a^3),
 from the uniform-state energies of this model), a random state relaxes into perpendicular
 domains with a finite period; the same film without the dipolar field and with the anisotropy
-that the uniform state then sees (K - 6.78 g) coarsens towards one domain. Parameters are
-those of scenarios/stripe_film.yaml (J/g = 5, K/g = 7.1), on small lattices.
+that the uniform state then sees (K - 6.78 g) coarsens towards one domain. A film with sharp
+walls (J/g = 5, K/g = 7.1), on small lattices.
 """
 
 import numpy as np
