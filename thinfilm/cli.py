@@ -152,7 +152,7 @@ def build_parser():
     s.add_argument("-o", "--output", default=None, help="run folder (default outputs/demo-<time>)")
     s.add_argument("--film", choices=["monolayer", "stripes", "grains"], default="monolayer",
                    help="monolayer: sweep through Tc, heating movie, plan (default); stripes: "
-                        "stripe domains of a dipolar film formed and heated, with a movie; "
+                        "domains of a dipolar film heated until they narrow and break up, with a movie; "
                         "grains: a polycrystalline film over two disorder realisations")
     s.add_argument("--workers", type=int, default=None, help="local worker processes for the sweep")
     s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
