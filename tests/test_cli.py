@@ -20,6 +20,15 @@ def test_check_prints_resolved_parameters(capsys):
     assert main(["check", str(DEFAULT_SCENARIO)]) == 0
     out = capsys.readouterr().out
     assert "mean-field Tc estimate" in out and "meV" in out and "largest recommended time step" in out
+    assert "initial     up" in out
+
+
+def test_check_names_a_labyrinth_start(tmp_path, capsys):
+    f = tmp_path / "lab.yaml"
+    f.write_text(yaml.safe_dump(dict(GOOD, lattice={"shape": "honeycomb", "cells": [16, 12], "spacing": "0.25 nm"},
+                                     initial={"labyrinth": "0.9 nm"})))
+    assert main(["check", str(f)]) == 0
+    assert "initial     labyrinth of up and down domains 0.9 nm wide" in capsys.readouterr().out
 
 
 def test_bad_scenario_exits_2_with_one_paragraph_and_writes_nothing(tmp_path, capsys):

@@ -46,6 +46,8 @@ def _print_check(sc):
               f"order {sc.sweep.order}, method {sc.dynamics.method}")
     else:
         print(f"  temperature {sc.temperature_K:g} K  (kB T = {KB_J_PER_K * sc.temperature_K / MEV_J:.4g} meV)")
+    print("  initial     " + (f"labyrinth of up and down domains {sc.initial_width_nm:g} nm wide"
+                              if sc.initial == "labyrinth" else sc.initial))
     tc = mean_field_tc_K(model)
     print("derived scales")
     print(f"  mean-field Tc estimate   {tc:.4g} K (mean field overestimates Tc in 2D; with K = 0 "
