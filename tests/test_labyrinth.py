@@ -80,3 +80,9 @@ def test_scenario_key():
                      (3, r"initial: must be one of .*labyrinth")]:
         with pytest.raises(ScenarioError, match=msg):
             load_scenario(SC | {"initial": bad})
+    # a set of sizes: the smallest lattice (16 x 16 x 0.5 nm) must hold a period
+    mc = SC | {"temperature": ["5 K", "6 K"], "sizes": [16, 32],
+               "dynamics": {"method": "monte-carlo", "sweeps": {"warmup": 10, "samples": 10}}}
+    assert load_scenario(mc | {"initial": {"labyrinth": "4 nm"}}).initial_width_nm == 4.0
+    with pytest.raises(ScenarioError, match=r"outside 1-4 nm"):
+        load_scenario(mc | {"initial": {"labyrinth": "6 nm"}})

@@ -2,7 +2,8 @@
 
 The width is a length (e.g. ``"12 nm"``): the width of one domain, half the period of the
 pattern (:mod:`thinfilm.model.labyrinth`). It must be at least two lattice spacings (walls need
-room on the lattice) and at most half the shorter side of the lattice (a period must fit).
+room on the lattice) and at most half the shorter side of the lattice (a period must fit; with
+``sizes``, of the smallest L x L lattice).
 """
 
 from thinfilm.input.spec import box_nm
@@ -20,6 +21,6 @@ def labyrinth_width_nm(r, lat):
     hi = 0.5 * min(box_nm(lat.shape, lat.nx, lat.ny, lat.spacing_nm))
     if not lo <= width <= hi:
         raise r.error(f"domain width {width:.4g} nm is outside {lo:.4g}-{hi:.4g} nm: at least two "
-                      f"lattice spacings, at most half the shorter side of the lattice",
+                      f"lattice spacings, at most half the shorter side of the (smallest) lattice",
                       "labyrinth")
     return width

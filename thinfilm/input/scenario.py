@@ -406,7 +406,8 @@ def load_scenario(source):
     disorder = _disorder(r, path, lat, sizes, mat, dyn)
     if disorder is not None and "cluster" in dyn.moves:  # default moves: Metropolis only here
         dyn = replace(dyn, moves=("metropolis",))
-    initial, width_nm = _initial(r, path, lat)
+    initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes
+                                 else lat)
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, initial, every,
                     snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments,
                     disorder, initial_width_nm=width_nm)
