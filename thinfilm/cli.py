@@ -14,7 +14,8 @@ __all__ = ["main"]
 
 def _print_check(sc):
     from thinfilm.engines.stochastic_llg import stable_time_step
-    from thinfilm.input.derived import exchange_length_nm, mean_field_tc_K, wall_parameter_nm
+    from thinfilm.input.derived import (dipolar_shape_cost_J, exchange_length_nm, mean_field_tc_K,
+                                        wall_parameter_nm)
     from thinfilm.input.units import KB_J_PER_K, MEV_J
     from thinfilm.model.parameters import build_model
 
@@ -52,9 +53,16 @@ def _print_check(sc):
     print("derived scales")
     print(f"  mean-field Tc estimate   {tc:.4g} K (mean field overestimates Tc in 2D; with K = 0 "
           f"there is no finite-T order in 2D)")
+    shape = dipolar_shape_cost_J(model)
+    if shape:
+        k_eff = (model.anisotropy_J - shape) / MEV_J
+        print(f"  dipolar shape anisotropy {shape / MEV_J:.4g} meV per site (infinite film): K_eff = "
+              f"K - {shape / MEV_J:.4g} = {k_eff:.4g} meV, "
+              f"{'perpendicular' if k_eff > 0 else 'in-plane'} uniform state")
     w = wall_parameter_nm(model)
     if w is not None:
-        print(f"  wall parameter sqrt(A/K) {w:.4g} nm, wall width pi sqrt(A/K) = {3.14159265 * w:.4g} nm")
+        name = "sqrt(A/K_eff)" if shape else "sqrt(A/K)"
+        print(f"  wall parameter {name} {w:.4g} nm, wall width pi {name} = {3.14159265 * w:.4g} nm")
     dy = sc.dynamics
     tmax = max(sc.sweep.temperatures_K) if sc.sweep else max(sc.temperature_K, dy.ramp_temperature_K or 0)
     dt_ok = stable_time_step(model, tmax, dy.damping, dy.gamma)

@@ -1,4 +1,5 @@
-"""Derived scales printed by `thinfilm check`: mean-field Tc, wall width, exchange length."""
+"""Derived scales printed by `thinfilm check`: mean-field Tc, dipolar shape anisotropy, wall
+width, exchange length."""
 
 import math
 
@@ -6,9 +7,10 @@ import numpy as np
 from scipy import optimize, special
 
 from thinfilm.input.continuum import exchange_factor, site_area
+from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM
 from thinfilm.input.units import KB_J_PER_K, MU0
 
-__all__ = ["mean_field_tc_K", "wall_parameter_nm", "exchange_length_nm"]
+__all__ = ["mean_field_tc_K", "wall_parameter_nm", "exchange_length_nm", "dipolar_shape_cost_J"]
 
 
 def _cos2_mean(sigma):
@@ -53,19 +55,41 @@ def mean_field_tc_K(model):
     return root / KB_J_PER_K
 
 
+def dipolar_shape_cost_J(model):
+    """Dipolar energy per site (J) of the uniform perpendicular state above the in-plane one.
+
+    For an infinite film (the periodic lattice); 0 without the dipolar interaction. Point
+    dipoles: (3/4) sum' (a/r)^3 g with g = mu0 mu_s^2 / (4 pi a^3), since the energy per site is
+    (g/2) sum' (a/r)^3 (1 - 3 cos^2) and the in-plane lattice sums of these lattices are
+    isotropic (<cos^2> = 1/2). Prism sites of volume V: the slab's mu0 Ms^2 V / 2 =
+    mu0 mu_s^2 / (2 V) (demagnetising factors 1 and 0 of a uniformly magnetised film).
+    """
+    if not getattr(model, "dipolar", False):
+        return 0.0
+    lat = model.lattice
+    a_m = lat.spacing_nm * 1e-9
+    mu = model.moment_J_per_T
+    if model.dipolar_thickness_nm is None:
+        return 0.75 * POINT_DIPOLE_SUM[lat.shape] * MU0 * mu**2 / (4 * math.pi * a_m**3)
+    volume = site_area(lat.shape, lat.spacing_nm) * model.dipolar_thickness_nm * 1e-27
+    return MU0 * mu**2 / (2 * volume)
+
+
 def wall_parameter_nm(model):
-    """Bloch-wall parameter Delta = sqrt(A/Ku) in nm from the lattice parameters (easy axis only).
+    """Bloch-wall parameter Delta = sqrt(A/K_eff) in nm from the lattice parameters.
 
     With A t = J / c (c = 2, 2/sqrt3, 2 sqrt3 for square, triangular, honeycomb) and
-    Ku t = K / Omega, Delta = sqrt(J Omega / (c K)). The wall width is pi Delta (Lilley 1950).
-    Returns None for K <= 0.
+    K_eff t = (K - dipolar shape cost) / Omega (:func:`dipolar_shape_cost_J`; K without the
+    dipolar interaction), Delta = sqrt(J Omega / (c K_eff)). The wall width is pi Delta
+    (Lilley 1950). Returns None for K_eff <= 0 (no perpendicular domains).
     """
-    if model.anisotropy_J <= 0 or model.exchange_J <= 0:
+    k_eff = model.anisotropy_J - dipolar_shape_cost_J(model)
+    if k_eff <= 0 or model.exchange_J <= 0:
         return None
     lat = model.lattice
     a = lat.spacing_nm
     omega = site_area(lat.shape, a)
-    return float(np.sqrt(model.exchange_J * omega / (exchange_factor(lat.shape) * model.anisotropy_J)))
+    return float(np.sqrt(model.exchange_J * omega / (exchange_factor(lat.shape) * k_eff)))
 
 
 def exchange_length_nm(stiffness_J_per_m, magnetisation_A_per_m):
