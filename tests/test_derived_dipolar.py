@@ -31,7 +31,7 @@ def _uniform_energy_gap(model, thickness_nm=None):
 def test_point_dipole_shape_cost_is_the_uniform_energy_gap(shape):
     # K = 0, J = 0: the gap is the dipolar term alone; the model's periodic Ewald sums are
     # checked against Glasser and Zucker's lattice sum elsewhere (test_dipolar); square:
-    # (3/4) 4 zeta(3/2) beta(3/2) g = 6.775 g exactly
+    # (3/4) 4 zeta(3/2) beta(3/2) g = 6.775 g exactly (Glasser and Zucker lattice sum)
     lat = Lattice(shape, 8, 8, 0.5, True)
     model = Model(lat, MU, 0.0, 0.0, dipolar=True)
     cost = dipolar_shape_cost_J(model)

@@ -64,7 +64,7 @@ def dipolar_shape_cost_J(model):
     isotropic (<cos^2> = 1/2). Prism sites of volume V: the slab's mu0 Ms^2 V / 2 =
     mu0 mu_s^2 / (2 V) (demagnetising factors 1 and 0 of a uniformly magnetised film).
     """
-    if not getattr(model, "dipolar", False):
+    if not model.dipolar:
         return 0.0
     lat = model.lattice
     a_m = lat.spacing_nm * 1e-9

@@ -17,16 +17,22 @@ RING_WIDTH = 0.25  # Gaussian width of the ring, relative to its radius
 WALL_SHARPNESS = 0.3  # walls are tanh(f / (0.3 std f)): a few sites wide, settled by the run
 
 
+def _modes(lattice):
+    """Integer mode indices m (nx,), n (ny,) in FFT order and kx, ky (ny, nx) in rad/nm."""
+    lx, ly = lattice.box_nm
+    m = np.rint(np.fft.fftfreq(lattice.nx, 1.0 / lattice.nx)).astype(int)
+    n = np.rint(np.fft.fftfreq(lattice.ny, 1.0 / lattice.ny)).astype(int)
+    kx, ky = np.meshgrid(2 * np.pi * m / lx, 2 * np.pi * n / ly)
+    return m, n, kx, ky
+
+
 def ring_amplitudes(lattice, width_nm, *, seed=0):
     """(kx, ky in rad/nm, complex amplitudes), each (ny, nx) in FFT order: the field's modes."""
-    ny, nx = lattice.ny, lattice.nx
-    lx, ly = lattice.box_nm
+    _, _, kx, ky = _modes(lattice)
     rng = np.random.default_rng(np.random.SeedSequence([int(seed), 0x1AB]))
-    kx, ky = np.meshgrid(2 * np.pi * np.fft.fftfreq(nx, 1.0 / nx) / lx,
-                         2 * np.pi * np.fft.fftfreq(ny, 1.0 / ny) / ly)
     k0 = np.pi / float(width_nm)
     ring = np.exp(-0.5 * ((np.hypot(kx, ky) - k0) / (RING_WIDTH * k0)) ** 2)
-    return kx, ky, (rng.normal(size=(ny, nx)) + 1j * rng.normal(size=(ny, nx))) * ring
+    return kx, ky, (rng.normal(size=kx.shape) + 1j * rng.normal(size=kx.shape)) * ring
 
 
 def labyrinth_field(lattice, width_nm, *, seed=0):
@@ -39,9 +45,8 @@ def labyrinth_field(lattice, width_nm, *, seed=0):
     ny, nx = lattice.ny, lattice.nx
     pr, pc = lattice.period
     my, mx = ny // pr, nx // pc
+    m, n, _, _ = _modes(lattice)
     kx, ky, amp = ring_amplitudes(lattice, width_nm, seed=seed)
-    m = np.rint(np.fft.fftfreq(nx, 1.0 / nx)).astype(int)
-    n = np.rint(np.fft.fftfreq(ny, 1.0 / ny)).astype(int)
     pos = lattice.positions_nm
     f = np.empty((ny, nx))
     for a in range(pr):

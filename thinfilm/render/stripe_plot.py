@@ -54,12 +54,12 @@ def plot_stripes(csv_path, out_dir, *, name="stripes_vs_temperature.png"):
         else:
             ax.plot(t, y, color=OKABE_ITO[0], lw=1.0, marker="o", ms=2.5,
                     label="λ (peak)" if col == "stripe_period_nm" else None)
+        ax.set_ylabel(label)
+        items.append(item)
         if col == "stripe_period_nm" and "mean_period_nm" in tab:
             ax.plot(t, tab["mean_period_nm"], color=OKABE_ITO[1], lw=1.4, label="λ̄ (mean)")
             items.append(("λ̄", "nm", "mean period 2π/k̄, k̄ the S-weighted mean |k| over "
                           "0 < |k| ≤ 2k*: follows a ring that broadens towards large k"))
-        ax.set_ylabel(label)
-        items.append(item)
     axes[0].set_ylim(bottom=0)
     if "mean_period_nm" in tab:
         shared_legend(fig, where="upper")

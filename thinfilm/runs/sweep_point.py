@@ -120,7 +120,8 @@ def _start_spins(task, model):
     except ValueError as exc:
         raise ScenarioError(
             f"the saved initial state cannot start a sweep point of size L = {task.size}: {exc}. "
-            f"A sweep over several sizes needs an initial state of random, up, down, stripes or labyrinth",
+            f"A sweep over several sizes needs an initial state of random, up, down, stripes or "
+            f"labyrinth",
             path=sc.source, key="initial") from None
 
 
