@@ -122,11 +122,11 @@ def test_bad_sweep_inputs_name_the_key_and_value(tmp_path):
                             "material": {"moment": "1 muB", "exchange": "0.25 meV"},
                             "temperature": ["1 K", "2 K"]})
         run_sweep(sc, tmp_path / "y", workers=1)
-    with pytest.raises(InputError, match="--workers must be a positive integer, got 0"):
+    with pytest.raises(InputError, match="^workers must be a positive integer, got 0"):
         run_sweep(tiny_sweep(), tmp_path / "x", workers=0)
     sc = tiny_sweep(sizes=(6,), temps=("2 K", "3 K"))
     run_sweep(sc, tmp_path / "v", workers=1, progress=False)
-    with pytest.raises(InputError, match="already holds a run.*--resume"):
+    with pytest.raises(InputError, match="already holds a run.*resume=True.*overwrite=True"):
         run_sweep(sc, tmp_path / "v", workers=1)
     with pytest.raises(InputError, match="different scenario"):
         run_sweep(tiny_sweep(sizes=(6,), temps=("2 K", "4 K")), tmp_path / "v", resume=True,

@@ -7,7 +7,12 @@ import warnings
 from pathlib import Path
 
 from thinfilm._version import __version__
-from thinfilm.input.errors import InputError, ThinFilmError, ThinFilmWarning
+from thinfilm.input.errors import (
+    InputError,
+    ThinFilmError,
+    ThinFilmWarning,
+    command_line_spelling,
+)
 
 __all__ = ["main"]
 
@@ -244,7 +249,8 @@ def main(argv=None):
     warnings.simplefilter("always", ThinFilmWarning)
     t = time.time()
     try:
-        rc = args.func(args)
+        with command_line_spelling():
+            rc = args.func(args)
     except ThinFilmError as exc:
         print(f"thinfilm: error: {exc}", file=sys.stderr)
         return 2

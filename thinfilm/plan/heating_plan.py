@@ -23,7 +23,7 @@ import numpy as np
 
 from thinfilm._io import atomic_write_text, write_json
 from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
-from thinfilm.input.errors import InputError, ScenarioError
+from thinfilm.input.errors import InputError, ScenarioError, option
 from thinfilm.input.scenario import Scenario, load_scenario
 from thinfilm.plan.beyond_lattice import beyond_lattice
 from thinfilm.plan.curves import clean_json as _clean
@@ -61,20 +61,21 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner):
                             path=sc.source, key="temperature")
     if man.is_file():
         if not reuse:
-            raise InputError(f"{out}: already holds a run (manifest.json). Pass --reuse to build "
-                             f"the plan from its sweep (an unfinished sweep is continued), or "
-                             f"choose another folder with -o.")
+            raise InputError(f"{out}: already holds a run (manifest.json). Pass {option('reuse')} "
+                             f"to build the plan from its sweep (an unfinished sweep is "
+                             f"continued), or choose another folder ({option('out_dir')}).")
         try:
             m = json.loads(man.read_text())
         except (OSError, ValueError):
-            raise InputError(f"{man}: unreadable manifest; choose another folder with -o") from None
+            raise InputError(f"{man}: unreadable manifest; choose another folder "
+                             f"({option('out_dir')})") from None
         if m.get("kind") != "sweep":
             raise InputError(f"{out}: holds a {m.get('kind')!r} run, not a sweep; choose another "
-                             f"folder with -o")
+                             f"folder ({option('out_dir')})")
         if "scenario" in m and _comparable(m["scenario"]) != _comparable(sc.describe()):
             raise InputError(f"{out}: its sweep was run with a different scenario (manifest.json "
                              f"'scenario' differs from {sc.source}); use the same scenario or "
-                             f"another folder with -o.")
+                             f"another folder ({option('out_dir')}).")
         done = m.get("finished") and (out / "observables.csv").is_file() and (out / "tc.json").is_file()
         if done:
             return "reused"
@@ -341,7 +342,8 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     sc = _scenario(source)
     ins = instrument_values(sc, resolution, exposure, field_of_view, instrument)
     if isinstance(n_points, bool) or not isinstance(n_points, (int, np.integer)) or n_points < 3:
-        raise InputError(f"--points (n_points) {n_points!r}: must be a whole number of at least 3 temperatures")
+        raise InputError(f"{option('n_points', None)} {n_points!r}: must be a whole number of "
+                         f"at least 3 temperatures")
     if isinstance(llg_size, bool) or not isinstance(llg_size, (int, np.integer)) or llg_size < 4:
         raise InputError(f"llg_size {llg_size!r}: must be a whole number L >= 4 (L x L sites)")
     dwell_s = _quantity("dwell", dwell, "time", "5 min")

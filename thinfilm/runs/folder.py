@@ -11,7 +11,7 @@ import numpy as np
 
 from thinfilm._io import write_csv, write_json, write_npz
 from thinfilm._version import __version__
-from thinfilm.input.errors import InputError
+from thinfilm.input.errors import InputError, option
 
 __all__ = ["RunFolder", "TIMESERIES_COLUMNS", "load_snapshot", "read_csv_table", "versions"]
 
@@ -81,11 +81,13 @@ class RunFolder:
         self.started = time.time()
         self.files = set()
         if self.path.exists() and not self.path.is_dir():
-            raise InputError(f"{self.path}: exists and is not a folder; choose another output folder")
+            raise InputError(f"{self.path}: exists and is not a folder; choose another output "
+                             f"folder ({option('out_dir')})")
         if (self.path / "manifest.json").exists() and not (resume or overwrite):
             raise InputError(
-                f"{self.path}: already holds a run (manifest.json). Use --resume to continue it, "
-                f"--overwrite to replace it, or choose another folder with -o")
+                f"{self.path}: already holds a run (manifest.json). Use {option('resume')} to "
+                f"continue it, {option('overwrite')} to replace it, or choose another folder "
+                f"({option('out_dir')})")
         self.path.mkdir(parents=True, exist_ok=True)
         if resume and (self.path / "manifest.json").exists():
             try:
