@@ -47,9 +47,14 @@ def test_sweep_folder_holds_tables_points_and_manifest(tmp_path):
             assert f"points/{point_name(L, t)}/point.json" in man["files"]
     d = out / "points" / "L8_T2.500K"
     with np.load(d / "final.npz") as z:
-        assert z["spins"].shape == (8, 8, 3) and z["positions_nm"].shape == (8, 8, 2)
+        assert z["spins"].shape == (8, 8, 3) and "positions_nm" not in z.files  # not per point
+        assert z["spins"].dtype == np.float64  # the state the next point of a chain starts from
         assert float(z["temperature_K"]) == 2.5 and str(z["shape"]) == "square"
         assert np.allclose(np.linalg.norm(z["spins"], axis=-1), 1.0)
+    from thinfilm.runs.folder import load_snapshot
+
+    pos = load_snapshot(d / "final.npz")["positions_nm"]  # rebuilt from shape and spacing
+    assert pos.shape == (8, 8, 2) and pos[0, 1, 0] == pytest.approx(pos[1, 0, 1])
     dom = read_csv_table(d / "domain_sizes.csv")
     assert {"area_nm2", "diameter_nm", "sign"} <= set(dom)
     # every site belongs to one domain: the areas of a snapshot add up to the film (exact)

@@ -6,7 +6,10 @@ is sampled by its own MonteCarlo with a seed derived from (scenario seed, frame 
 interrupted sequence resumed from its last snapshot gives the same frames bit for bit.
 
 The folder is a run folder (``manifest.json`` of kind ``sequence``, ``snapshots/*.npz`` with
-``temperature_K`` and a ``label``) that :func:`thinfilm.render.movie.write_movie` reads.
+``temperature_K`` and a ``label``) that :func:`thinfilm.render.movie.write_movie` reads. The
+snapshots keep the order-axis component ``m_axis`` only (float32, a third of all three
+components: what the movie and the domain analysis use); ``checkpoint.npz`` keeps the full state
+after each frame for a resume and is removed when the sequence has finished.
 """
 
 import numpy as np
@@ -28,12 +31,20 @@ def _frame_name(k):
 
 
 def _last_frame(folder, n_frames):
-    """Index, spins and Gaussian step width of the last snapshot written (resume)."""
+    """Index, spins and Gaussian step width after the last frame written (resume): from the
+    checkpoint, else (a sequence written before checkpoints) from the last float64 snapshot."""
+    ck = folder.read_checkpoint()
+    if ck is not None and "frame" in ck:
+        k = int(ck["frame"])
+        if (folder.path / "snapshots" / f"{_frame_name(k)}.npz").is_file():
+            return k, np.array(ck["spins"], dtype=np.float64), float(ck["mc_sigma"])
     for k in range(n_frames - 1, -1, -1):
         p = folder.path / "snapshots" / f"{_frame_name(k)}.npz"
         if p.is_file():
             with np.load(p) as z:
-                return k, np.array(z["spins"]), float(z["mc_sigma"])
+                if "spins" in z.files and z["spins"].dtype == np.float64:
+                    return k, np.array(z["spins"]), float(z["mc_sigma"])
+            break
     return -1, None, 0.5
 
 
@@ -93,10 +104,13 @@ def run_heating_sequence(scenario, out_dir, *, size, temperatures_K, frames=3, b
             mc.sweep(int(between))
             spins, sigma = mc.spins.copy(), mc.sigma
             label = f"frame {fi + 1}/{frames}, equilibrium (Monte Carlo)"
-            folder.write_snapshot(_frame_name(k), spins, lat, temperature_K=temps[ti], label=label,
+            folder.write_snapshot(_frame_name(k), spins, lat, components="axis",
+                                  axis=model.axis, temperature_K=temps[ti], label=label,
                                   mc_sigma=sigma)
+            folder.write_checkpoint(frame=k, spins=spins, mc_sigma=sigma)
             bar.update(1)
     finally:
         bar.close()
+    (folder.path / "checkpoint.npz").unlink(missing_ok=True)  # finished: nothing to resume
     folder.write_manifest(manifest, finished=True)
     return folder

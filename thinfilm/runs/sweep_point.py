@@ -30,6 +30,7 @@ from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
 from thinfilm.input.units import MEV_J
 from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
+from thinfilm.runs.folder import SNAPSHOT_FORMAT
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
            "ROW_COLUMNS", "init_worker"]
@@ -395,7 +396,9 @@ def _compute(task, sc, model, lat, method, t0):
                     "second_moment_form": "ordered" if ordered else "disordered",
                     "warnings": sorted({str(w.message) for w in caught}),
                     "compute_time_s": round(time.perf_counter() - t0, 3)})
-    final_arrays = {"spins": final, "positions_nm": lat.positions_nm,
+    # the state the next temperature of a chain starts from: float64 spins (a checkpoint, not a
+    # movie frame); no positions (rebuilt from shape, spacing and grid by the snapshot reader)
+    final_arrays = {"format": np.asarray(SNAPSHOT_FORMAT), "spins": final,
                     "spacing_nm": lat.spacing_nm, "box_nm": np.asarray(lat.box_nm),
                     "shape": lat.shape, "periodic": lat.periodic, "time_ps": np.asarray(time_ps),
                     "temperature_K": np.asarray(task.temperature_K),
