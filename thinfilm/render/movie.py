@@ -10,7 +10,9 @@ import numpy as np
 from thinfilm.input.errors import InputError
 from thinfilm.render.frames import (
     COLOURS,
+    MIN_TEXT_PX,
     colour_frame,
+    draw_colour_key,
     draw_label,
     draw_scale_bar,
     grey_frame,
@@ -65,13 +67,17 @@ def _as_frame(item, spacing_nm):
 class _Painter:
     """Fixed geometry of one movie: turns a frame dict into an even-sized RGB array."""
 
-    def __init__(self, first, *, colour, size, axis, scale_bar_nm, instrument, labels):
+    def __init__(self, first, *, colour, size, axis, scale_bar_nm, instrument, labels,
+                 grain_id=None):
         s = first["spins"]
         self.grid = s.shape
         self.shape, self.periodic = first["shape"], bool(first["periodic"])
         self.box = np.asarray(first["box_nm"], dtype=np.float64)
         ny, nx = s.shape[:2]
         self.colour, self.axis, self.labels = colour, axis, labels
+        n = np.asarray(axis, dtype=np.float64) / np.linalg.norm(axis)
+        self.quantity = ("m_z" if np.allclose(n, (0, 0, 1)) else
+                         "m along [" + " ".join(f"{v:.2g}" for v in n) + "]")
         self.scale_bar_nm = scale_bar_nm
         if size is not None and not (isinstance(size, (int, np.integer)) and size > 0):
             raise InputError(
@@ -98,6 +104,22 @@ class _Painter:
         self.instrument = None
         if instrument is not None:
             self._setup_instrument(first, instrument)
+        self.boundary = None if grain_id is None else self._boundary_pixels(grain_id, nx)
+
+    def _boundary_pixels(self, grain_id, nx):
+        """(H, W) bool: pixels of sites with a neighbour (right or up, periodic) in another
+        grain, drawn like the map (row 0 = largest y)."""
+        g = np.asarray(grain_id)
+        if g.shape != self.grid[:2]:
+            raise InputError(f"grain map of shape {g.shape} does not match the frames "
+                             f"{self.grid[:2]}")
+        edge = (g != np.roll(g, -1, axis=1)) | (g != np.roll(g, -1, axis=0))
+        if self.index_map is not None:
+            px = edge.ravel()[self.index_map]
+        else:
+            k = max(1, int(round(self.box[0] / nx / self.pixel_nm)))
+            px = np.repeat(np.repeat(edge, k, axis=0), k, axis=1)
+        return np.ascontiguousarray(px[::-1])
 
     def _setup_instrument(self, first, inst):
         if not isinstance(inst, Mapping) or "fwhm_nm" not in inst:
@@ -179,10 +201,13 @@ class _Painter:
             index_map=self.index_map,
             axis=self.axis,
         )
+        if self.boundary is not None:  # grain boundaries: the map darkened to 45 %
+            img[self.boundary] = (img[self.boundary] * 0.45).astype(np.uint8)
         if self.scale_bar_nm is not False:
             draw_scale_bar(img, self.pixel_nm, length_nm=self.scale_bar_nm)
         if self.labels:
-            th = max(10, img.shape[0] // 24)
+            draw_colour_key(img, self.colour, quantity=self.quantity)
+            th = max(MIN_TEXT_PX, img.shape[0] // 24)
             y = max(4, th // 2)  # room above the first line for its box and accents
             for text in _frame_text(fr):
                 _, h = draw_label(img, text, (max(2, th // 4), y), height_px=th)
@@ -197,7 +222,7 @@ class _Painter:
             inst = np.ascontiguousarray(inst[rows][:, cols])
             if self.scale_bar_nm is not False:
                 draw_scale_bar(inst, self.box[0] / w, length_nm=self.scale_bar_nm)
-            th = max(10, h // 24)
+            th = max(MIN_TEXT_PX, h // 24)
             draw_label(
                 inst,
                 f"FWHM {self.instrument['fwhm_nm']:g} nm",
@@ -230,10 +255,36 @@ def _frame_text(fr):
     if fr.get("time_ps") is not None:
         out.append(f"t = {float(fr['time_ps']):.2f} ps")
     if fr.get("temperature_K") is not None:
-        out.append(f"T = {float(fr['temperature_K']):.1f} K")
+        out.append(f"T = {float(fr['temperature_K']):.2f} K")
     if fr.get("label"):
         out.append(str(fr["label"]))
+    if fr.get("reversed"):
+        out.append("shown reversed (-S)")
     return out
+
+
+def _continuous_sign(frames, axis):
+    """Frames with the sign of the picture kept from frame to frame: a frame whose order-axis
+    field overlaps the previous shown frame negatively (sum_i f_prev,i f_i < 0: the net
+    magnetisation changed sign, as after a cluster move that reverses the film) is shown as -S,
+    the state of the same energy in zero field, and marked ``reversed``."""
+    n = np.asarray(axis, dtype=np.float64) / np.linalg.norm(axis)
+    prev = None
+    for fr in frames:
+        f = fr["spins"] @ n
+        if prev is not None and prev.shape == f.shape and float(np.vdot(prev, f)) < 0:
+            fr = dict(fr, spins=-fr["spins"], reversed=True)
+            f = -f
+        prev = f
+        yield fr
+
+
+def _with_in_plane(fr):
+    if fr.get("components") == "axis":
+        raise InputError(f"{fr.get('source', 'a snapshot')}: keeps only the order-axis component "
+                         f"of the spins (a heating sequence's frames), so it has no in-plane "
+                         f"angle; use colour='mz'")
+    return fr
 
 
 def _encoder(tmp, width, height, fps, gif, quality):
@@ -275,6 +326,8 @@ def write_movie(
     labels=True,
     quality=7,
     progress=None,
+    continuous_sign=None,
+    grain_boundaries=False,
 ):
     """Write a movie of spin states, one frame per snapshot, streamed to the encoder.
 
@@ -319,6 +372,15 @@ def write_movie(
         H.264 quality 1..10 (imageio-ffmpeg scale: CRF = int(51 (1 - quality / 10)), 7 = CRF 15).
     progress : callable, optional
         Called with the number of frames written so far after each frame.
+    continuous_sign : bool, optional
+        Keep the picture's sign from frame to frame: a frame whose order component overlaps
+        the previous one negatively (a cluster move or an independent sample reversed the
+        film) is shown as -S and labelled "shown reversed (-S)". Only in zero field, where -S
+        has the same energy. Default: on for Monte Carlo frames (a sweep or a heating
+        sequence) in zero field, off for dynamics.
+    grain_boundaries : bool
+        Darken the sites at grain boundaries (a run folder with ``grains.npz``, written by a
+        heating sequence of a film with grains).
 
     Returns
     -------
@@ -351,12 +413,32 @@ def write_movie(
         )
 
     manifest = {}
+    monte_carlo = False
+    grain_id = None
     if isinstance(run_dir_or_frames, (str, os.PathLike)):
         paths = iter_snapshots(run_dir_or_frames, source=source, lattice_size=lattice_size)
         manifest = read_json(Path(run_dir_or_frames) / "manifest.json") or {}
+        kind = manifest.get("kind")
+        sweep_frames = bool(paths) and paths[0].name == "final.npz"
+        monte_carlo = kind == "sequence" or (sweep_frames and manifest.get("method") != "llg")
         frames = (load_snapshot(p) for p in paths)
+        if monte_carlo:  # Monte Carlo frames have no physical time
+            frames = ({k: v for k, v in fr.items() if k != "time_ps"} for fr in frames)
+        if grain_boundaries:
+            gp = Path(run_dir_or_frames) / "grains.npz"
+            if not gp.is_file():
+                raise InputError(f"grain_boundaries: {gp} does not exist; it is written by a "
+                                 f"heating sequence of a film with grains")
+            with np.load(gp) as z:
+                grain_id = np.asarray(z["grain_id"])
+        if continuous_sign is None:
+            field = np.asarray((manifest.get("scenario") or {}).get("field_T", (0, 0, 0)),
+                               dtype=np.float64)
+            continuous_sign = (monte_carlo or sweep_frames) and not np.any(field)
     else:
         frames = iter(run_dir_or_frames)
+        if grain_boundaries:
+            raise InputError("grain_boundaries needs a run folder (with grains.npz), not frames")
     if axis is None:
         axis = ((manifest.get("scenario") or {}).get("material") or {}).get("axis", (0, 0, 1))
     axis = np.asarray(axis, dtype=np.float64)
@@ -365,6 +447,10 @@ def write_movie(
     if instrument is True:
         instrument = _manifest_instrument(manifest, run_dir_or_frames)
     frames = (_as_frame(f, spacing_nm) for f in frames)
+    if colour == "angle":
+        frames = (_with_in_plane(f) for f in frames)
+    if continuous_sign:
+        frames = _continuous_sign(frames, axis)
     try:
         first = next(frames)
     except StopIteration:
@@ -378,6 +464,7 @@ def write_movie(
         scale_bar_nm=scale_bar_nm,
         instrument=instrument,
         labels=labels,
+        grain_id=grain_id,
     )
     img = painter.paint(first)
     height, width = img.shape[:2]
