@@ -51,7 +51,11 @@ def _print_check(sc):
         print(f"  sweep       {len(t)} temperatures {t[0]:g} .. {t[-1]:g} K, sizes {sc.sweep.sizes or [lat['cells'][0]]}, "
               f"order {sc.sweep.order}, method {sc.dynamics.method}")
     else:
-        print(f"  temperature {sc.temperature_K:g} K  (kB T = {KB_J_PER_K * sc.temperature_K / MEV_J:.4g} meV)")
+        given = sc.raw.get("temperature") if isinstance(sc.raw, dict) else None
+        as_written = (f", given as {given!r}" if isinstance(given, str)
+                      and given.strip() != f"{sc.temperature_K:g} K" else "")
+        print(f"  temperature {sc.temperature_K:g} K  (kB T = "
+              f"{KB_J_PER_K * sc.temperature_K / MEV_J:.4g} meV{as_written})")
     print("  initial     " + (f"labyrinth of up and down domains {sc.initial_width_nm:g} nm wide"
                               if sc.initial == "labyrinth" else sc.initial))
     tc = mean_field_tc_K(model)
