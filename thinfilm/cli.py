@@ -108,14 +108,17 @@ def _cmd_demo(args):
 def _cmd_image(args):
     from thinfilm.analysis.imaging import analyse_image
 
-    res = analyse_image(args.file, pixel_size=args.pixel_size, out_dir=args.output, level=args.level,
-                        smoothing=args.smoothing, background=args.background, mask=args.mask,
-                        highpass_length=args.highpass_length)
-    print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm")
+    res = analyse_image(args.file, pixel_size=args.pixel_size, out_dir=args.output,
+                        level=args.level, smoothing=args.smoothing, background=args.background,
+                        mask=args.mask, highpass_length=args.highpass_length,
+                        threshold=args.threshold, resolution=args.resolution)
+    print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm, threshold "
+          f"{'Otsu' if res['threshold_method'] == 'otsu' else 'median'} + level {res['level']:g}, "
+          f"up area fraction {res['up_area_fraction']:.3g}")
     print(f"  correlation length  {res['correlation_length_nm']:.4g} +- {res['correlation_length_nm_err']:.2g} nm "
           f"(second moment); {res['correlation_length_fit_nm']:.4g} nm (Ornstein-Zernike fit)")
     print(f"  domains             {res['domain_count']}, mean area {res['mean_domain_area_nm2']:.4g} nm^2")
-    print(f"  written to {Path(args.output) / 'image_analysis.json'}")
+    print(f"  written to {Path(args.output) / 'image_analysis.json'} and image_analysis.png")
     return 0
 
 
@@ -195,7 +198,12 @@ def build_parser():
     s.add_argument("file", help="PNG or TIFF, greyscale")
     s.add_argument("--pixel-size", required=True, help='pixel size with unit, e.g. "5 nm"')
     s.add_argument("-o", "--output", required=True, help="output folder")
-    s.add_argument("--level", type=float, default=0.0, help="threshold on the normalised contrast (-1..1)")
+    s.add_argument("--level", type=float, default=0.0,
+                   help="threshold on the normalised contrast, -1..1 (0: the --threshold level)")
+    s.add_argument("--threshold", choices=["otsu", "median"], default="otsu",
+                   help="grey level of contrast 0: Otsu's threshold (default) or the median")
+    s.add_argument("--resolution", default=None,
+                   help='instrument resolution, e.g. "30 nm": smaller domains count as unresolved')
     s.add_argument("--smoothing", default=None, help='smoothing length, e.g. "10 nm"')
     s.add_argument("--background", default="plane", choices=["none", "mean", "plane", "highpass"],
                    help="background subtraction")
