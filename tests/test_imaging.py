@@ -277,7 +277,7 @@ def test_otsu_threshold_measures_the_bright_fraction(tmp_path):
     # level lies inside the dark film's noise, which then breaks up into specks: a warning)
     with pytest.warns(ThinFilmWarning, match="smaller than 4 pixels"):
         med = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "m", background="none",
-                            threshold="median", figure=False)
+                            threshold="median")
     assert med["up_area_fraction"] == pytest.approx(0.5, abs=0.01)
 
 
@@ -287,13 +287,12 @@ def test_pixel_noise_domains_warn_and_smoothing_removes_them(tmp_path):
     img, _ = two_level_image(noise=60.0)
     p = write_png(tmp_path / "n.png", img)
     with pytest.warns(ThinFilmWarning, match="smaller than 4 pixels"):
-        res = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "o", background="none",
-                            figure=False)
+        res = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "o", background="none")
     assert res["warnings"] and res["small_domain_count"] > res["domain_count"] / 2
     with warnings.catch_warnings():
         warnings.simplefilter("error", ThinFilmWarning)
         smooth = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "s", background="none",
-                               smoothing="10 nm", figure=False)
+                               smoothing="10 nm")
     assert not smooth["warnings"] and smooth["domain_count"] < res["domain_count"] / 10
 
 
@@ -317,8 +316,12 @@ def test_corrupt_image_is_not_readable(tmp_path):
 
 
 def test_figure_with_outlines_and_fit(tmp_path):
+    from thinfilm.render.image_plot import analyse_image_with_figure
+
     p = write_png(tmp_path / "d.png", domain_image())
-    analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "o", smoothing="5 nm")
+    res = analyse_image_with_figure(p, pixel_size="5 nm", out_dir=tmp_path / "o",
+                                    smoothing="5 nm")
+    assert res == json.loads((tmp_path / "o" / "image_analysis.json").read_text())
     png = tmp_path / "o" / "image_analysis.png"
     assert png.is_file() and png.stat().st_size > 10_000
     assert "## image_analysis.png" in (tmp_path / "o" / "captions.md").read_text()

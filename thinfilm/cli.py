@@ -106,12 +106,13 @@ def _cmd_demo(args):
 
 
 def _cmd_image(args):
-    from thinfilm.analysis.imaging import analyse_image
+    from thinfilm.render.image_plot import analyse_image_with_figure
 
-    res = analyse_image(args.file, pixel_size=args.pixel_size, out_dir=args.output,
-                        level=args.level, smoothing=args.smoothing, background=args.background,
-                        mask=args.mask, highpass_length=args.highpass_length,
-                        threshold=args.threshold, resolution=args.resolution)
+    res = analyse_image_with_figure(args.file, pixel_size=args.pixel_size, out_dir=args.output,
+                                    level=args.level, smoothing=args.smoothing,
+                                    background=args.background,
+                                    mask=args.mask, highpass_length=args.highpass_length,
+                                    threshold=args.threshold, resolution=args.resolution)
     print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm, threshold "
           f"{'Otsu' if res['threshold_method'] == 'otsu' else 'median'} + level {res['level']:g}, "
           f"up area fraction {res['up_area_fraction']:.3g}")

@@ -204,14 +204,13 @@ def analyse_image(
     highpass_length=None,
     threshold="otsu",
     resolution=None,
-    figure=True,
+    return_arrays=False,
 ):
     """Correlation length and domain sizes of one measured (or rendered) image.
 
-    Writes ``image_analysis.json``, ``correlation.csv`` (``r_nm, C, pair_count``),
-    ``domain_sizes.csv`` (``domain_id, sign, area_nm2, equivalent_diameter_nm``) and, with
-    ``figure``, ``image_analysis.png`` (the image with the domain outlines, and C(r) with the
-    Ornstein-Zernike fit; defined in ``captions.md``) to ``out_dir``.
+    Writes ``image_analysis.json``, ``correlation.csv`` (``r_nm, C, pair_count``) and
+    ``domain_sizes.csv`` (``domain_id, sign, area_nm2, equivalent_diameter_nm``) to ``out_dir``
+    (:func:`thinfilm.render.image_plot.analyse_image_with_figure` adds the figure).
     The image is treated with open edges. ``correlation_length_nm`` is the second-moment estimator
     for open fields and ``correlation_length_fit_nm`` the OZ fit of C(r) (see
     :mod:`thinfilm.analysis.correlation`); the error of the former is a jackknife over the four
@@ -232,8 +231,9 @@ def analyse_image(
     resolution : str, optional
         Instrument resolution with unit: domains smaller than a disc of that diameter are
         counted as unresolved, like those under four pixels.
-    figure : bool
-        Write ``image_analysis.png``.
+    return_arrays : bool
+        Also return the arrays behind the numbers (for the figure): ``image`` (normalised
+        contrast), ``valid``, ``labels``, ``r_nm``, ``C``, ``fit``, ``pixel_nm``.
 
     Warns
     -----
@@ -244,7 +244,7 @@ def analyse_image(
     Returns
     -------
     dict
-        The JSON content.
+        The JSON content; with ``return_arrays`` the pair (dict, arrays).
     """
     try:
         level = float(level)
@@ -375,8 +375,7 @@ def analyse_image(
         ],
     )
     _io.write_json(out / "image_analysis.json", result)
-    if figure:
-        from thinfilm.render.image_plot import plot_image_analysis
-
-        plot_image_analysis(out, img, valid, labels, pixel_nm, (r, c), fit, result)
+    if return_arrays:
+        return result, {"image": img, "valid": valid, "labels": labels, "r_nm": r, "C": c,
+                        "fit": fit, "pixel_nm": pixel_nm}
     return result

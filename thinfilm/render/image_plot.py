@@ -7,7 +7,18 @@ import numpy as np
 from .captions import definition_list, write_captions
 from .layout import OKABE_ITO, new_figure, note, save_png
 
-__all__ = ["plot_image_analysis", "domain_outlines"]
+__all__ = ["plot_image_analysis", "domain_outlines", "analyse_image_with_figure"]
+
+
+def analyse_image_with_figure(path, *, out_dir, **options):
+    """:func:`thinfilm.analysis.imaging.analyse_image` plus ``image_analysis.png`` (the image
+    with the domain outlines, C(r) with its fit) and its caption; returns the result dict."""
+    from thinfilm.analysis.imaging import analyse_image
+
+    res, arr = analyse_image(path, out_dir=out_dir, return_arrays=True, **options)
+    plot_image_analysis(out_dir, arr["image"], arr["valid"], arr["labels"], arr["pixel_nm"],
+                        (arr["r_nm"], arr["C"]), arr["fit"], res)
+    return res
 
 
 def domain_outlines(labels):
