@@ -388,9 +388,12 @@ def _compute(task, sc, model, lat, method, t0):
     clock = "sweep" if method == "monte-carlo" else "time_ps"
     ts_cols = ("sample", clock, "energy_meV", "m_axis", "m_norm", "mx", "my", "mz")
     m_axis = mv @ model.axis
+    # per-sample values at 9 significant digits (float32 resolution, far below the sample's
+    # own scatter): the table of a 4000-sample point is 40 % smaller than at full repr
     ts_rows = [(k, series["clock"][k] if method != "monte-carlo" else int(series["clock"][k]),
-                series["energy_J"][k] / MEV_J, m_axis[k], float(np.linalg.norm(mv[k])),
-                mv[k, 0], mv[k, 1], mv[k, 2]) for k in range(len(order))]
+                *(f"{v:.9g}" for v in (series["energy_J"][k] / MEV_J, m_axis[k],
+                                       float(np.linalg.norm(mv[k])), mv[k, 0], mv[k, 1],
+                                       mv[k, 2]))) for k in range(len(order))]
     details.update({"start": task.start, "n_snapshots": len(snaps), "n_sites": lat.n_sites,
                     "blocks": int(th["n_blocks"]),
                     "second_moment_form": "ordered" if ordered else "disordered",
