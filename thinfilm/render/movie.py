@@ -67,16 +67,22 @@ def _manifest_instrument(manifest, where):
     return out
 
 
+REVERSE_OVERLAP = 0.1
+
+
 def _continuous_sign(frames, axis):
     """Frames with the sign of the picture kept from frame to frame: a frame whose order-axis
-    field overlaps the previous shown frame negatively (sum_i f_prev,i f_i < 0: the net
-    magnetisation changed sign, as after a cluster move that reverses the film) is shown as -S,
-    the state of the same energy in zero field, and marked ``reversed``."""
+    field overlaps the previous shown frame negatively (normalised overlap sum_i f_prev,i f_i /
+    (|f_prev| |f|) below -REVERSE_OVERLAP: the net magnetisation changed sign, as after a cluster
+    move that reverses the film) is shown as -S, the state of the same energy in zero field, and
+    marked ``reversed``. Uncorrelated frames (overlap ~ 1/sqrt(N)) are left as they are."""
     n = np.asarray(axis, dtype=np.float64) / np.linalg.norm(axis)
     prev = None
     for fr in frames:
         f = fr["spins"] @ n
-        if prev is not None and prev.shape == f.shape and float(np.vdot(prev, f)) < 0:
+        norm = float(np.linalg.norm(prev) * np.linalg.norm(f)) if prev is not None else 0.0
+        if (prev is not None and prev.shape == f.shape and norm > 0
+                and float(np.vdot(prev, f)) < -REVERSE_OVERLAP * norm):
             fr = dict(fr, spins=-fr["spins"], reversed=True)
             f = -f
         prev = f
