@@ -273,8 +273,13 @@ GRAINS_WARMUP, GRAINS_BETWEEN = 400, 100
 def _print_sampling(seq_dir):
     """Print tau_int of the order parameter at each temperature of a heating sequence."""
     man = json.loads((Path(seq_dir) / "manifest.json").read_text())
+    rows = man.get("sampling", [])
+    if rows and all(r["tau_int_sweeps"] != r["tau_int_sweeps"] for r in rows):
+        print(f"      tau_int of m: not determined ({rows[0]['sweeps_sampled']} sampled sweeps per "
+              f"temperature; the frames say how many sweeps they had)")
+        return
     parts = []
-    for row in man.get("sampling", []):
+    for row in rows:
         tau = row["tau_int_sweeps"]
         parts.append(f"{row['temperature_K']:g} K: " + (f"{tau:.2g}" if tau == tau else "n/a"))
     print("      tau_int of m (sweeps) per temperature: " + "; ".join(parts))
