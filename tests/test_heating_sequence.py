@@ -57,8 +57,10 @@ def test_sequence_frames_keep_the_order_component_as_float32(tmp_path):
     with np.load(out / "snapshots" / "snap_000000.npz") as z:
         assert z["m_axis"].dtype == np.float32 and z["m_axis"].shape == (8, 8)
         assert "spins" not in z.files and "positions_nm" not in z.files
-    with np.load(out / "snapshots" / "lattice.npz") as z:  # positions once per folder
-        assert z["positions_nm"].shape == (8, 8, 2)
+    with np.load(out / "snapshots" / "lattice.npz") as z:  # the lattice once per folder
+        assert list(z["cells"]) == [8, 8] and str(z["shape"]) == "square"
+    pos = load_snapshot(out / "snapshots" / "snap_000000.npz")["positions_nm"]
+    assert pos[2, 3].tolist() == pytest.approx([3 * 0.3, 2 * 0.3])  # (j a, i a)
 
 
 def test_the_sequence_heats_and_the_movie_reads_it(tmp_path):

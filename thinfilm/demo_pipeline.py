@@ -46,7 +46,7 @@ def _step_scenario(sc, temperature_K):
         "dynamics": {"method": "llg", "damping": sc.dynamics.damping,
                      "timestep": f"{sc.dynamics.time_step_s * 1e15:g} fs",
                      "duration": f"{STEP_DURATION_PS:g} ps"},
-        "record": {"every": "0.5 ps", "snapshots": "2.5 ps"},
+        "record": {"every": "0.5 ps", "snapshots": "5 ps"},
     })
     for k in ("sizes", "sweep", "instrument", "analysis", "movie"):
         raw.pop(k, None)

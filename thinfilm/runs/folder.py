@@ -30,7 +30,9 @@ def versions():
 
 
 #: Snapshot layout written by :meth:`RunFolder.write_snapshot`. 2: compressed, float32 spins (or
-#: only the order-axis component ``m_axis``), site positions once per folder in ``lattice.npz``.
+#: only the order-axis component ``m_axis``), the lattice once per folder in ``lattice.npz``
+#: (with ``positions_nm`` for triangular and honeycomb lattices; a square lattice's site (i, j)
+#: sits at (j a, i a)).
 #: Files without ``format`` are the first layout (float64 spins and positions in every file);
 #: :func:`load_snapshot` reads both.
 SNAPSHOT_FORMAT = 2
@@ -67,8 +69,9 @@ def _positions(path, out):
     if side.is_file():
         try:
             with np.load(side, allow_pickle=False) as d:
-                pos = np.asarray(d["positions_nm"], dtype=np.float64)
-            if pos.shape[:2] == out["grid"]:
+                pos = (np.asarray(d["positions_nm"], dtype=np.float64)
+                       if "positions_nm" in d.files else None)
+            if pos is not None and pos.shape[:2] == out["grid"]:
                 return pos
         except (OSError, ValueError, KeyError):
             pass
@@ -197,10 +200,12 @@ class RunFolder:
                                                       axis=axis, **scalars))
         side = p.parent / LATTICE_FILE
         if str(side) not in self._lattice_written or not side.is_file():
-            write_npz(self.file(str(side.relative_to(self.path))), compress=True,
-                      positions_nm=lattice.positions_nm, spacing_nm=lattice.spacing_nm,
-                      box_nm=np.asarray(lattice.box_nm), shape=lattice.shape,
-                      periodic=lattice.periodic, cells=np.asarray([lattice.nx, lattice.ny]))
+            geometry = {"spacing_nm": lattice.spacing_nm, "box_nm": np.asarray(lattice.box_nm),
+                        "shape": lattice.shape, "periodic": lattice.periodic,
+                        "cells": np.asarray([lattice.nx, lattice.ny])}
+            if lattice.shape != "square":  # a square site (i, j) sits at (j a, i a) exactly
+                geometry["positions_nm"] = lattice.positions_nm
+            write_npz(self.file(str(side.relative_to(self.path))), compress=True, **geometry)
             self._lattice_written.add(str(side))
         return p
 

@@ -167,8 +167,11 @@ def _read_point(out, name):
 
 
 def _final_spins(out, name):
+    """The final state of a point, renormalised (snapshots keep float32 spins)."""
     with np.load(out / "points" / name / "final.npz", allow_pickle=False) as d:
-        return np.array(d["spins"], dtype=np.float64)
+        s = np.array(d["spins"], dtype=np.float64)
+    norm = np.linalg.norm(s, axis=-1, keepdims=True)
+    return np.divide(s, norm, out=np.zeros_like(s), where=norm > 0)  # vacancies stay empty
 
 
 def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
