@@ -150,7 +150,8 @@ def test_coarse_resolution_takes_the_resolved_window_from_the_extrapolation(tmp_
     ({"resolution": "-30 nm"}, ["resolution '-30 nm'", "positive", 'resolution="30 nm"']),
     ({"resolution": "30"}, ["resolution '30'", "no unit"]),
     ({"exposure": "10 nm"}, ["exposure '10 nm'", "wrong kind of unit"]),
-    ({"resolution": "10 um", "field_of_view": "5 um"}, ["resolution", "smaller than field_of_view"]),
+    ({"resolution": "10 um", "field_of_view": "5 um"},
+     ["resolution", "smaller than field_of_view"]),
     ({"exposure": None}, ["no instrument exposure", 'exposure="10 ms"']),
     ({"dwell": "five minutes"}, ["dwell"]),
 ])
