@@ -221,7 +221,7 @@ def test_a_plan_per_named_instrument_reuses_the_fluctuation_runs(tmp_path):
     # a coarser instrument resolves a narrower window (xi must exceed its resolution)
     wa, wb = a["plan"]["resolved_window_K"], b["plan"]["resolved_window_K"]
     assert wb[1] - wb[0] < wa[1] - wa[0]
-    with pytest.raises(InputError, match="--instrument 'sem'"):
+    with pytest.raises(InputError, match="^instrument 'sem'"):  # from Python: the keyword
         make_plan(sc, tmp_path, reuse=True, progress=False, instrument="sem", **FAST)
 
 
