@@ -322,8 +322,10 @@ def analyse_image(
     if areas.size and n_small > areas.size / 2:
         what = (f"{SMALL_DOMAIN_PX} pixels" if resolution_nm is None else
                 f"{SMALL_DOMAIN_PX} pixels or a disc of the {resolution_nm:g} nm resolution")
-        hint = ("smooth the image (smoothing, for example "
-                f"\"{2 * pixel_nm:.3g} nm\") to count the domains the image resolves")
+        flag = option("smoothing", None)
+        eg = (f'{flag} "{2 * pixel_nm:.3g} nm"' if flag.startswith("-")
+              else f'smoothing="{2 * pixel_nm:.3g} nm"')
+        hint = f"smooth the image ({eg}) to count the domains the image resolves"
         notes.append(f"image {path}: {n_small} of {areas.size} domains are smaller than {what}: "
                      f"pixel noise or unresolved features are counted as domains; {hint}")
     for text in notes:
