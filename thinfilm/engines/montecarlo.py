@@ -27,6 +27,7 @@ from thinfilm.engines._kernels.banded import (
     to_banded,
 )
 from thinfilm.engines._kernels.metropolis import N_COUNTS, make_work, row_colouring
+from thinfilm.engines._kernels.swendsen_wang import make_sw_work, sw_mixed_samples, sw_mixed_sweeps
 from thinfilm.engines._kernels.wolff import N_STATS, make_cluster_work, mixed_samples, mixed_sweeps
 from thinfilm.engines.cluster_moves import (
     _MODE,
@@ -41,6 +42,7 @@ from thinfilm.model.parameters import Model
 __all__ = ["MonteCarlo", "cluster_moves_exact", "MOVES", "CLUSTER_DIRECTIONS"]
 
 SIGMA_MIN = 1e-4
+CLUSTER_ALGORITHMS = ("wolff", "swendsen-wang")
 SIGMA_MAX = 5.0  # beyond this the trial direction is nearly uniform on the sphere
 TARGET_ACCEPTANCE = 0.5
 PARALLEL_MIN_SITES = 4096  # smaller lattices run single-threaded (thread wake-ups dominate)
@@ -82,11 +84,17 @@ class MonteCarlo:
     clusters_per_sweep : int or None
         Clusters per sweep; None tunes it in :meth:`warmup` to N / (mean cluster size), so the
         clusters of one sweep cover about N sites (frozen while sampling; 1 until tuned).
+    cluster_algorithm : {"wolff", "swendsen-wang"}
+        "wolff" (default): single-cluster moves grown serially. "swendsen-wang": one sweep is a
+        Metropolis sweep followed by one Swendsen-Wang move of every cluster, labelled in
+        parallel (:mod:`thinfilm._kernels.swendsen_wang`; same reflections, the Zeeman energy
+        of each cluster by heat bath); clusters_per_sweep is then not used.
     """
 
     def __init__(self, model, temperature_K, *, seed, initial_spins=None, sigma=0.5,
                  reflection="auto", over_relaxation=1, stream=1, parallel=None,
-                 moves=("metropolis",), cluster_direction="auto", clusters_per_sweep=None):
+                 moves=("metropolis",), cluster_direction="auto", clusters_per_sweep=None,
+                 cluster_algorithm="wolff"):
         if not isinstance(model, Model):
             raise TypeError("MonteCarlo needs a thinfilm.model.Model")
         if model.dipolar:
@@ -123,6 +131,10 @@ class MonteCarlo:
         self._host_ok = False
         self._work = make_work(self._host, self._order, self._bounds)
         self.spins = self._initial(initial_spins)
+        if cluster_algorithm not in CLUSTER_ALGORITHMS:
+            raise ValueError(f"cluster_algorithm must be one of {', '.join(CLUSTER_ALGORITHMS)}; "
+                             f"got {cluster_algorithm!r}")
+        self.cluster_algorithm = cluster_algorithm
         self._setup_clusters(moves, cluster_direction, clusters_per_sweep)
 
     def _setup_clusters(self, moves, direction, per_sweep):
@@ -147,8 +159,13 @@ class MonteCarlo:
         if self.clusters_per_sweep < 1:
             raise ValueError("clusters_per_sweep must be >= 1")
         lat = self.model.lattice
-        self._cl = make_cluster_work(self._work[3], self._work[2], lat.periodic, lat.neighbours,
-                                     self._axis, _MODE[self.cluster_direction])
+        sw = self.cluster_algorithm == "swendsen-wang"
+        make = make_sw_work if sw else make_cluster_work
+        self._cl = make(self._work[3], self._work[2], lat.periodic, lat.neighbours, self._axis,
+                        _MODE[self.cluster_direction])
+        self._mixed = (sw_mixed_sweeps, sw_mixed_samples) if sw else (mixed_sweeps, mixed_samples)
+        if sw:
+            self._tune_clusters = False
 
     # ---------------------------------------------------------------- state
     @property
@@ -253,8 +270,8 @@ class MonteCarlo:
             if self._cl is None:
                 banded_sweeps(*head)
             else:
-                mixed_sweeps(*head, *self._cl[:6], self.clusters_per_sweep, *self._cl[6:],
-                             self._cl_stats)
+                self._mixed[0](*head, *self._cl[:6], self.clusters_per_sweep, *self._cl[6:],
+                               self._cl_stats)
             self._host_ok = False
             self.sweep_count += n
         return self._acceptance(self._counts.sum(axis=0), max(n, 1))
@@ -342,8 +359,8 @@ class MonteCarlo:
             if self._cl is None:
                 banded_samples(*head)
             else:
-                mixed_samples(*head, *self._cl[:6], self.clusters_per_sweep, *self._cl[6:],
-                              self._cl_stats)
+                self._mixed[1](*head, *self._cl[:6], self.clusters_per_sweep, *self._cl[6:],
+                               self._cl_stats)
             self._host_ok = False
             self.sweep_count += n_samples * sample_every
         return out
