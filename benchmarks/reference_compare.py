@@ -16,10 +16,11 @@ step, in ns per site:
 
 * noise: the engine's ``normals_row`` (3 normals per site) and the yardstick's generator;
 * load: the engine's AoS -> padded SoA de-interleave of a start-of-step row;
-* field: the engine's ``field_soa`` (twice per step; the yardstick fuses it into its stages);
-* predictor / corrector: the engine's ``_predict`` (which renormalises the predictor) and
-  ``_correct`` (renormalises and interleaves the result), the yardstick's predictor and
-  corrector row sweeps (field included);
+* predictor / corrector: the engine's square-lattice stages with the field fused in
+  (``_predict_sq``, which also renormalises the predictor, and ``_correct_sq``, which
+  renormalises and interleaves the result), the yardstick's predictor and corrector row sweeps
+  (field included); for the other shapes the separate ``field_soa`` (twice per step),
+  ``_predict`` and ``_correct`` are printed too;
 * normalisation: one 1/sqrt renormalisation of a row (the engine does two per step, the
   yardstick one);
 * sync: one empty parallel region on the current thread count (the wait at the end of every
@@ -48,7 +49,15 @@ import numba as nb
 import numpy as np
 
 from thinfilm.engines._kernels.field import field_soa, load_row, row_pad
-from thinfilm.engines._kernels.llg import _correct, _noise, _predict, heun_run, heun_work
+from thinfilm.engines._kernels.llg import (
+    _correct,
+    _correct_sq,
+    _noise,
+    _predict,
+    _predict_sq,
+    heun_run,
+    heun_work,
+)
 from thinfilm.engines._kernels.rng import key
 
 HERE = Path(__file__).resolve().parent
@@ -144,6 +153,20 @@ def _st_correct(n, rows, pcur, h, old, d1, out):
         _correct(pcur, h, old, d1, 1e-3, 0.1, n, out)
 
 
+@nb.njit(cache=True)
+def _st_predict_sq(n, rows, dn, cur, up, nz, d1, sp):
+    for _ in range(rows):
+        _predict_sq(dn, cur, up, 10.0, 1.0, 0.0, 0.0, 1.0, 0.0, 0.0, 0.1, nz, 1e-3, 0.1, n, True,
+                    d1, sp)
+
+
+@nb.njit(cache=True)
+def _st_correct_sq(n, rows, dn, pcur, up, nz, old, d1, out):
+    for _ in range(rows):
+        _correct_sq(dn, pcur, up, 10.0, 1.0, 0.0, 0.0, 1.0, 0.0, 0.0, 0.1, nz, old, d1, 1e-3, 0.1,
+                    n, out)
+
+
 @nb.njit(cache=True, error_model="numpy")
 def _st_normalise(n, rows, b):
     x = b[0]
@@ -217,9 +240,15 @@ def profile(ref, n, rows):
     nz = rng.normal(size=3 * n)
     h = np.zeros((3, L))
     d1 = np.zeros((3, L))
-    e = {
+    e = {  # the square lattice's path: the field is fused into the Heun stages
         "noise": _ns_per_site(lambda: _st_noise(n, rows, nz), n, rows),
         "load (AoS -> SoA row)": _ns_per_site(lambda: _st_load(aos, rows, old), n, rows),
+        "predictor (field fused)": _ns_per_site(
+            lambda: _st_predict_sq(n, rows, dn, cur, up, nz, d1, sp), n, rows),
+        "corrector (field fused)": _ns_per_site(
+            lambda: _st_correct_sq(n, rows, dn, sp, up, nz, old, d1, out), n, rows),
+    }
+    other = {  # the triangular / honeycomb path: separate field rows
         "field (x2 per step)": 2 * _ns_per_site(
             lambda: _st_field(n, rows, dn, cur, up, nz, h), n, rows),
         "predictor": _ns_per_site(lambda: _st_predict(n, rows, cur, h, d1, sp), n, rows),
@@ -240,7 +269,7 @@ def profile(ref, n, rows):
         "corrector (field fused)": _ns_per_site(
             lambda: rc(rows, n, rows3[0], rows3[1], rows3[2], nzr, a, o2, p), n, rows),
     }
-    return e, r, norm
+    return e, r, norm, other
 
 
 def fused_step_ns(ref, n, steps, threads):
@@ -303,11 +332,13 @@ def main(argv=None):
         return res
     if not a.no_profile:
         n = a.sizes[0]
-        e, r, norm = profile(ref, n, 4000 if not a.quick else 1000)
+        e, r, norm, other = profile(ref, n, 4000 if not a.quick else 1000)
         print(f"\nper-stage profile, L = {n}, 1 thread, row buffers in cache (ns per site):")
         for name, v in e.items():
             print(f"  engine    {name:26s} {v:6.2f}")
         print(f"  engine    {'sum of stages':26s} {sum(e.values()):6.2f}")
+        for name, v in other.items():
+            print(f"  (engine, other shapes: {name} {v:.2f})")
         for name, v in r.items():
             print(f"  yardstick {name:26s} {v:6.2f}")
         print(f"  yardstick {'sum of stages':26s} {sum(r.values()):6.2f}")
