@@ -17,9 +17,9 @@ exp(-E/kBT) for the same reflections (and anisotropy conditions) as the Wolff mo
 Labelling, parallel and exact: the rows are split into a fixed number of chunks (independent of
 the thread count). Each chunk draws its bonds and joins its internal ones in a union-find of its
 own sites; bonds to a neighbouring chunk (the neighbour table only links rows i and i +- 1) are
-kept as flags and joined afterwards, serially, along the chunk edges. Every union links the
-larger root below the smaller, so a cluster's label is its smallest site index whatever the
-order of the unions. Every random number is a function of (seed, stream, sweep, site, slot):
+kept as flags and joined afterwards, serially, along the chunk edges. Unions follow Rem's
+algorithm with splicing, in which every link points to a smaller index, so a cluster's root is
+its smallest site index whatever the order of the unions. Every random number is a function of (seed, stream, sweep, site, slot):
 bond (i, q) uses counter i z + q of one key, the flip of a cluster the counter of its label of
 another. Results are therefore bitwise the same on any number of threads.
 
@@ -47,7 +47,7 @@ __all__ = ["make_sw_work", "sw_move", "sw_mixed_sweeps", "sw_mixed_samples", "SW
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 SW_COUNTER = np.uint64(0x5B3D_0000_0000_0000)  # apart from the Wolff and Metropolis counters
-SW_CHUNKS = 64  # row chunks of the labelling (fixed: results do not depend on threads)
+SW_CHUNKS = 16  # row chunks of the labelling (fixed: results do not depend on threads)
 _TWO_PI = 2.0 * math.pi
 
 
@@ -79,21 +79,18 @@ def make_sw_work(T, bands, periodic, neighbours, axis, mode):
 
 
 @nb.njit(inline="always", **_OPT)
-def _find(parent, a):
-    while parent[a] != a:  # path halving
-        parent[a] = parent[parent[a]]
-        a = parent[a]
-    return a
-
-
-@nb.njit(inline="always", **_OPT)
 def _union(parent, a, b):
-    ra = _find(parent, a)
-    rb = _find(parent, b)
-    if ra < rb:
-        parent[rb] = ra
-    elif rb < ra:
-        parent[ra] = rb
+    """Join the sets of a and b (Rem's algorithm with splicing). Keeps parent[x] <= x, so a
+    root is the smallest index of its set whatever the order of the unions."""
+    while parent[a] != parent[b]:
+        if parent[a] < parent[b]:
+            a, b = b, a
+        pa = parent[a]
+        if pa == a:
+            parent[a] = parent[b]
+            return
+        parent[a] = parent[b]
+        a = pa
 
 
 def _sw_move_py(Tf, addr, gaddr, LP, nbr, beta, jt, b, frame, mode, seed, stream, sweep, nx, cb,
@@ -102,6 +99,7 @@ def _sw_move_py(Tf, addr, gaddr, LP, nbr, beta, jt, b, frame, mode, seed, stream
     sweep). cb: chunk row bounds; parent, lab (N,) int64, sig, csum, asum (N,), flip (N,)
     uint8, act (N z,) uint8 scratch."""
     z = nbr.shape[1]
+    n = addr.shape[0]
     nch = cb.shape[0] - 1
     kk = 2.0 * beta * jt
     k = hash64(key(seed, stream, sweep), SW_COUNTER)
@@ -148,12 +146,17 @@ def _sw_move_py(Tf, addr, gaddr, LP, nbr, beta, jt, b, frame, mode, seed, stream
                 x = kk * si * sj
                 on = False
                 if x > 0.0:
-                    on = uniform01(kb, f * z + q) < -math.expm1(-x)
+                    # u < 1 - exp(-x); x - x^2/2 < 1 - exp(-x) < x settle most draws
+                    u = uniform01(kb, f * z + q)
+                    if u < x:
+                        on = u < x * (1.0 - 0.5 * x) or u < -math.expm1(-x)
                 if inside:
                     if on:
                         _union(parent, f, g)
                 else:
                     act[f * z + q] = 1 if on else 0
+        for f in range(f0, f1):  # flatten: parent[f] <= f, so its parent is already a root
+            parent[f] = parent[parent[f]]
     # 2. join across chunk edges (serial, edge rows only)
     for c in range(nch):
         f0 = cb[c] * nx
@@ -167,17 +170,22 @@ def _sw_move_py(Tf, addr, gaddr, LP, nbr, beta, jt, b, frame, mode, seed, stream
                     g = nbr[f, q]
                     if g > f and g >= f1 and act[f * z + q] != 0:
                         _union(parent, f, g)
-    # 3. labels (read-only finds) and cleared sums
+    # 3. labels and cleared sums. parent[f] <= f always (see _union), so in ascending order a
+    # parent inside the chunk already has its label; only pointers to earlier chunks are
+    # followed (read-only) to the root.
     for c in nb.prange(nch):
-        for f in range(cb[c] * nx, cb[c + 1] * nx):
-            a = f
-            while parent[a] != a:
-                a = parent[a]
-            lab[f] = a
+        f0 = cb[c] * nx
+        for f in range(f0, cb[c + 1] * nx):
+            a = parent[f]
+            if a >= f0:
+                lab[f] = f if a == f else lab[a]
+            else:
+                while parent[a] != a:
+                    a = parent[a]
+                lab[f] = a
             csum[f] = 0.0
             asum[f] = 0.0
     # 4. cluster sums (serial, site order) and the flip of each cluster
-    n = addr.shape[0]
     for f in range(n):
         r = lab[f]
         csum[r] += sig[f]
