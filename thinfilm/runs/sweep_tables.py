@@ -35,9 +35,16 @@ COLUMN_UNITS = {
     "tau_int": "samples, integrated autocorrelation time (largest of e, |m|, m^2, |m vector|)",
     "n_effective": "effectively independent samples, n_samples/(2 tau_int)",
     "n_samples": "samples in the time series",
-    "correlation_length_nm": ("nm, second-moment estimator of S.n over the snapshots "
-                              "(ordered-phase form where binder > 0.4)"),
-    "correlation_length_nm_err": "nm, jackknife over snapshots",
+    "correlation_length_nm": ("nm, second-moment estimator (Cooper, Freedman and Preston 1982) "
+                              "xi^2 = (S(0)/S(k_min) - 1)/khat_min^2: S(0) = <M^2>/N from the "
+                              "whole magnetisation series (connected, (<M^2> - <|M|>^2)/N, where "
+                              "binder > 0.4), S(k_min) averaged over the equivalent smallest "
+                              "wavevectors and up to 1000 probes along the run; 0 where noise "
+                              "puts S(0) at or below S(k_min) (xi below what the samples resolve); "
+                              "empty where undefined (point.json second_moment_undefined says "
+                              "why)"),
+    "correlation_length_nm_err": ("nm, jackknife over 20 stretches of the run (an upper bound "
+                                  "where the value is 0)"),
     "correlation_length_fit_nm": "nm, Ornstein-Zernike fit of C(r) of S.n",
     "correlation_length_sk_nm": ("nm, Ornstein-Zernike fit 1/S(k) = (1 + k^2 xi^2)/chi at small k != 0 "
                                  "(connected correlations, both sides of Tc)"),
