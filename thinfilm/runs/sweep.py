@@ -34,7 +34,13 @@ from thinfilm.runs.sweep_point import (
     point_name,
     point_seed,
 )
-from thinfilm.runs.sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
+from thinfilm.runs.sweep_tables import (
+    COLUMN_UNITS,
+    TABLE_EXTRA,
+    length_convergence,
+    refine_temperatures,
+    tc_estimate,
+)
 
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
@@ -349,10 +355,24 @@ def _write_manifest(out, manifest, started, files):
     write_json(out / "manifest.json", m)
 
 
+def _film_side(sc):
+    """Shorter side (nm) of the film of size L, as a function of L."""
+    from thinfilm.model.lattice import Lattice
+
+    lat = sc.lattice
+
+    def side(size):
+        return float(min(Lattice(lat.shape, int(size), int(size), lat.spacing_nm,
+                                 lat.periodic).box_nm))
+    return side
+
+
 def _finish(out, sc, manifest, rows, started):
     keys = sorted(rows)
-    table = [[rows[k][c] for c in ROW_COLUMNS] for k in keys]
-    write_csv(out / "observables.csv", ROW_COLUMNS, table)
+    length_convergence(rows, _film_side(sc))
+    columns = ROW_COLUMNS + TABLE_EXTRA
+    table = [[rows[k][c] for c in columns] for k in keys]
+    write_csv(out / "observables.csv", columns, table)
     write_json(out / "columns.json", COLUMN_UNITS)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")

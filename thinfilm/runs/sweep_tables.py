@@ -10,7 +10,8 @@ import numpy as np
 
 from thinfilm.analysis.critical import estimate_tc, tc_from_peaks
 
-__all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE"]
+__all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE",
+           "TABLE_EXTRA", "length_convergence"]
 
 N_REFINE = 6  # points added around the transition by refine: near-tc
 
@@ -65,9 +66,47 @@ COLUMN_UNITS = {
                                   "mean over snapshots (films with grains)"),
     "wall_on_boundary_expected": ("fraction of all bonds on grain boundaries: what walls placed "
                                   "without regard to the grains would give"),
+    "film_side_nm": "nm, the shorter side of the simulated film of this row",
+    "correlation_length_converged": ("1 where correlation_length_nm is converged in the film size "
+                                     "(film side >= 10 x the largest length estimate, or it "
+                                     "agrees with the next larger size, itself converged, within "
+                                     "2 errors), 0 where it is finite-size limited (a length of "
+                                     "this film, not of the infinite one), empty where undefined "
+                                     "(thinfilm.analysis.size_convergence)"),
     "method": "sampler: monte-carlo or llg",
     "seed": "seed of this point, derived from (scenario seed, size, temperature)",
 }
+
+
+#: Columns added to observables.csv once every point is known (after :data:`ROW_COLUMNS`).
+TABLE_EXTRA = ("film_side_nm", "correlation_length_converged")
+
+
+def length_convergence(rows, film_side_nm):
+    """Add ``film_side_nm`` and ``correlation_length_converged`` (1, 0 or NaN) to every row.
+
+    ``film_side_nm``: a function of the size L giving the shorter side of the film (nm).
+    """
+    from thinfilm.analysis.size_convergence import CONVERGED, UNDEFINED, size_convergence
+
+    keys = sorted(rows)
+    if not keys:
+        return rows
+    side = {L: float(film_side_nm(L)) for L in {k[0] for k in keys}}
+
+    def col(c):
+        return np.array([float(rows[k].get(c, math.nan)) for k in keys])
+
+    res = size_convergence([k[0] for k in keys], [k[1] for k in keys],
+                           col("correlation_length_nm"), col("correlation_length_nm_err"),
+                           [side[k[0]] for k in keys],
+                           others=(col("correlation_length_sk_nm"),
+                                   col("correlation_length_fit_nm")))
+    for k, st in zip(keys, res["status"], strict=True):
+        rows[k]["film_side_nm"] = side[k[0]]
+        rows[k]["correlation_length_converged"] = (math.nan if st == UNDEFINED else
+                                                   float(st == CONVERGED))
+    return rows
 
 
 def sweep_table(rows):
