@@ -356,7 +356,7 @@ def second_moment_series(moment_sum, s_kmin, khat2_min, n_sites, *, probe_at=Non
     if mom.size < 2 or s1.size < 2:
         out["reason"] = "fewer than two samples or S(k_min) probes"
         return out
-    if not out["s_kmin"] > 0:
+    if not out["s_kmin"] > 1e-12 * np.mean(mom**2) / n_sites:  # zero up to rounding
         out["reason"] = "S(k_min) = 0: a uniform film (no fluctuation at the smallest wavevector)"
         return out
 

@@ -44,17 +44,11 @@ def _halfwidths(fit, tc_K, resolution_nm):
 
 
 def _lengths(tab):
-    """The table with correlation_length_nm taken from the S(k) Ornstein-Zernike length where
-    that has a finite value and error (it is far less noisy than the second moment, on both
-    sides of Tc), else from the second-moment estimator."""
-    sk, sk_err = tab.get("correlation_length_sk_nm"), tab.get("correlation_length_sk_nm_err")
-    if sk is None or sk_err is None:
-        return tab
-    ok = np.isfinite(sk) & np.isfinite(sk_err) & (sk_err > 0)
-    out = dict(tab)
-    out["correlation_length_nm"] = np.where(ok, sk, tab["correlation_length_nm"])
-    out["correlation_length_nm_err"] = np.where(ok, sk_err, tab["correlation_length_nm_err"])
-    return out
+    """The observables table as the fits read it: correlation_length_nm is the second-moment
+    length, the one estimator whose box dependence the size-convergence rule and the
+    finite-size scaling form are written for (xi_L/L tends to a constant at Tc); the S(k) and
+    C(r) fits enter only the convergence test (the largest estimate at a row)."""
+    return tab
 
 
 def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_view_nm=None):
