@@ -161,9 +161,9 @@ def _length_panel(ax, table, col, transform=None, limited=None):
     Filled markers: converged in the film size (or no flag in the table); open markers:
     finite-size limited (``limited`` True for the row). A value of 0 (the second moment where
     noise puts S(0) at or below S(k_min)) is drawn as a downward triangle at its error (an
-    upper bound); a NaN value as a cross on the bottom edge. Log axis when the positive
-    values span more than :data:`LOG_SPAN`. Returns counts {"limited", "zero", "undefined"}
-    of rows drawn that way, or None when the column is missing.
+    upper bound); a NaN value as a cross on the bottom edge. Returns counts {"limited",
+    "zero", "undefined"} of rows drawn that way and "values" (the positive values drawn), or
+    None when the column is missing.
     """
     from matplotlib.transforms import blended_transform_factory
 
@@ -204,10 +204,8 @@ def _length_panel(ax, table, col, transform=None, limited=None):
             ax.plot(t[nan], np.full(nan.sum(), 0.03), "x", color=colour, ms=6, mew=1.5,
                     transform=edge, clip_on=False)
             counts["undefined"] += int(nan.sum())
-    vals = np.concatenate(positive) if positive else np.array([])
-    if vals.size and vals.max() > LOG_SPAN * vals.min():
-        ax.set_yscale("log")
-    if not vals.size:
+    counts["values"] = np.concatenate(positive) if positive else np.array([])
+    if not counts["values"].size:
         note(ax, f"'{col}' is undefined at every point (crosses)")
     return counts
 
@@ -236,7 +234,8 @@ UNDEFINED_WHY = (
     "the fit of S(k) where the small-k modes give no positive slope and intercept of 1/S "
     "against k^2 (the film is ordered or xi is below the spacing); for the domain diameter "
     "where no snapshot has a domain boundary. Points without error bars have an undefined "
-    "error (fewer than two snapshots or blocks).")
+    "error (fewer than two snapshots or blocks, or a jackknife replicate where the fit is "
+    "undefined).")
 
 
 def _lengths(table, tc, units, resolution_nm, path):
@@ -280,14 +279,24 @@ def _lengths(table, tc, units, resolution_nm, path):
                 ax.axhline(float(resolution_nm), color="#000000", ls=":", lw=1.5,
                            label=f"resolution {float(resolution_nm):g} nm")
         res = f" Dotted horizontal line: the instrument resolution ({float(resolution_nm):g} nm)."
-    for ax in axes:
+    for ax, d in zip(axes, drawn, strict=True):
+        vals = np.array([]) if d is None else d["values"]
+        if resolution_nm is not None and vals.size:
+            vals = np.append(vals, float(resolution_nm))
+        if vals.size and vals.max() > LOG_SPAN * vals.min():
+            ax.set_yscale("log")
         if ax.lines or ax.collections:
             _mark_tc(ax, tc)
+    for n, mark, face, text in ((counts["limited"], "o", "white", "open: finite-size limited"),
+                                (counts["zero"], "v", "white", "0 (at its error, an upper bound)"),
+                                (counts["undefined"], "x", "0.3", "undefined")):
+        if n:  # one legend entry per kind of mark, in grey (colours are the sizes)
+            axes[0].plot([], [], mark, color="0.3", mfc=face, ms=5, label=text)
     shared_legend(fig)
     logs = [t for ax, t in zip(axes, ("ξ, second moment", "ξ, fit of S(k)", "d"), strict=True)
             if ax.get_yscale() == "log"]
-    log_text = (f" Logarithmic length axis ({', '.join(logs)}): the values span more than a "
-                f"factor {LOG_SPAN:g}." if logs else "")
+    log_text = (f" Logarithmic length axis ({', '.join(logs)}): the values (with the "
+                f"resolution line) span more than a factor {LOG_SPAN:g}." if logs else "")
     caption = (f"Lengths against the temperature T (K), {SIZES}.{res}{_tc_caption(tc)}"
                f"{log_text}{_marks_caption(counts, UNDEFINED_WHY)}\n\n"
                + definition_list(lines))
