@@ -16,8 +16,8 @@ temperature, walking down from the largest size:
   one;
 * **undefined** where the value is NaN.
 
-The infinite-film value at a temperature is that of the largest converged size (flag
-"measured"); where no size converged, :mod:`thinfilm.analysis.extrapolation` fits the
+The infinite-film value at a temperature is that of the converged size with the smallest
+error (flag "measured"); where no size converged, :mod:`thinfilm.analysis.extrapolation` fits the
 finite-size scaling form to all sizes (flag "finite-size scaling").
 """
 
@@ -50,8 +50,9 @@ def size_convergence(sizes, temperatures_K, value_nm, err_nm, film_side_nm, *, o
     dict
         ``status`` (n,) of "converged" / "finite-size limited" / "undefined", ``reason`` (n,)
         and ``by_temperature``: dict of arrays over the distinct temperatures:
-        ``temperature_K``, ``value_nm``, ``err_nm`` (of the largest converged size, else NaN),
-        ``size`` (that size, else the largest size with a value), ``converged`` (bool).
+        ``temperature_K``, ``value_nm``, ``err_nm`` (of the converged size with the smallest
+        error, else NaN), ``size`` (that size, else the largest size with a value),
+        ``converged`` (bool).
     """
     L = np.asarray(sizes, dtype=np.float64).ravel()
     T = np.asarray(temperatures_K, dtype=np.float64).ravel()
@@ -110,10 +111,13 @@ def size_convergence(sizes, temperatures_K, value_nm, err_nm, film_side_nm, *, o
                             status[i] = status[nxt] = CONVERGED
                             reason[i] = f"agrees with L = {L[nxt]:g} within {n_sigma:g} errors"
             above = i
-            if status[i] == CONVERGED and not out["converged"][j]:
-                out["converged"][j] = True
-                out["value_nm"][j], out["err_nm"][j], out["size"][j] = x[i], e[i], L[i]
-        if not out["converged"][j]:
+        good = [i for i in rows if status[i] == CONVERGED]
+        if good:  # the most precise converged size (a positive value before a zero one)
+            i = min(good, key=lambda k: (not x[k] > 0, e[k] if np.isfinite(e[k]) else np.inf,
+                                         -L[k]))
+            out["converged"][j] = True
+            out["value_nm"][j], out["err_nm"][j], out["size"][j] = x[i], e[i], L[i]
+        else:
             valid = [i for i in rows if np.isfinite(x[i])]
             if valid:
                 out["size"][j] = L[valid[0]]
