@@ -67,9 +67,9 @@ def _ln_model(p, m, T, side, film_nm=None):
     if film_nm is not None and m.get("finite_size"):
         ln_c = np.where(below, v.get("ln_cl_below", 0.0), v.get("ln_cl_above", 0.0))
         q = np.exp(v["ln_p"])
-        # ln y_L = ln y - (1/q) ln(1 + (y / (cL L))^q), evaluated without overflow
-        z = q * (out - ln_c - np.log(film_nm))
-        out = out - np.logaddexp(0.0, z) / q
+        # ln y_L = ln y + (1/q) ln(1 - exp(-(cL L / y)^q)), without underflow
+        zq = np.exp(np.clip(q * (ln_c + np.log(film_nm) - out), -700.0, 700.0))
+        out = out + np.log(-np.expm1(-zq)) / q
     return out
 
 
@@ -103,12 +103,14 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
     With ``finite_size=True`` every point enters whatever its film side L, through the
     finite-size scaling form (Fisher and Barber, Phys. Rev. Lett. 28, 1516, 1972)::
 
-        y_L(T) = y(T) [1 + (y(T) / (c_s L))^q]^(-1/q) = L f(t L^(1/nu))
+        y_L(T) = y(T) [1 - exp(-(c_s L / y(T))^q)]^(1/q) = L f(t L^(1/nu))
 
-    which is y(T) for L >> y and c_s L (the ratio y_L/L at Tc on side s) for L << y; c_s and
-    q > 0 are fitted (the crossover shape is ours, a smooth interpolation between the two
-    limits that the scaling form requires). The amplitude, and so y of the infinite film,
-    then uses the points that the box cuts down as well, with the errors that carries.
+    which is c_s L (c_s the ratio y_L/L at Tc on side s) for L << y and approaches y(T) as
+    exp(-(c_s L/y)^q)/q for L >> y: with q = 1 the exp(-L/xi) approach of a length on a torus
+    (common practice), larger q a sharper crossover. c_s and q are fitted (the family is ours,
+    a smooth interpolation between the limits the scaling form requires). The amplitude, and
+    so y of the infinite film, then uses the points that the box cuts down as well, with the
+    errors that carries.
 
     Parameters
     ----------
@@ -209,9 +211,9 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
             tmax_s = float(at[ok & (side == s)].max())
             add(f"c_{s}", 0.0, -0.9 / tmax_s, np.inf)
         if finite_size:
-            add(f"ln_cl_{s}", np.log(0.5), np.log(0.02), np.log(5.0))
+            add(f"ln_cl_{s}", np.log(0.8), np.log(0.02), np.log(20.0))
     if finite_size:
-        add("ln_p", np.log(2.0), np.log(0.5), np.log(20.0))
+        add("ln_p", 0.0, np.log(0.5), np.log(20.0))
     # a lone below side without a ratio: ln_a is the amplitude below Tc
     model = {"names": names, "tc_fixed": tc_K, "nu_fixed": nu0, "ratio": amplitude_ratio,
              "correction": bool(correction), "finite_size": bool(finite_size)}

@@ -69,6 +69,7 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
     """
     tab = _lengths(read_csv_table(out / "observables.csv"))
     tab, large_note = _with_large(tab, out)
+    tab = _forms_by_tc(tab, tc_K)
     sides = {}
 
     def film_side(size):
@@ -119,6 +120,21 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
                               f"than the error of Tc ({tc_err_K:.2g} K): locate Tc in the "
                               f"experiment and step by less than the half-width around it")
     return clean_json(res)
+
+
+def _forms_by_tc(tab, tc_K):
+    """correlation_length_nm re-chosen with the plan's Tc where the table has both forms of the
+    second moment: the full form above Tc, the connected one below (as the sweep does with its
+    own Tc; a large-lattice run of a few temperatures has no Tc of its own worth the name)."""
+    if "correlation_length_full_nm" not in tab or tc_K is None:
+        return tab
+    out = dict(tab)
+    below = tab["temperature_K"] < tc_K
+    for c in ("correlation_length_nm", "correlation_length_nm_err"):
+        full = c.replace("correlation_length", "correlation_length_full")
+        conn = c.replace("correlation_length", "correlation_length_connected")
+        out[c] = np.where(below, tab[conn], tab[full])
+    return out
 
 
 def _with_large(tab, out):

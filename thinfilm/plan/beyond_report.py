@@ -116,7 +116,7 @@ def beyond_lines(plan):
         return out
     fit = (b.get("fits") or {}).get("correlation_length")
     if fit:
-        how = ("the finite-size scaling form xi_L = xi [1 + (xi/(c L))^q]^(-1/q) = "
+        how = ("the finite-size scaling form xi_L = xi [1 - exp(-(c L/xi)^q)]^(1/q) = "
                "L f(t L^(1/nu)) to every size (xi/L at Tc "
                + ", ".join(f"{k} {v:.3g}" for k, v in (fit.get("xi_over_L_at_tc") or {}).items())
                + f", q = {fit.get('crossover_q', float('nan')):.3g})"

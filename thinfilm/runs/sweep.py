@@ -39,6 +39,7 @@ from thinfilm.runs.sweep_tables import (
     TABLE_EXTRA,
     length_convergence,
     refine_temperatures,
+    select_second_moment,
     tc_estimate,
 )
 
@@ -369,15 +370,16 @@ def _film_side(sc):
 
 def _finish(out, sc, manifest, rows, started):
     keys = sorted(rows)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        tc = tc_estimate(rows)
+    tc["warnings"] = sorted({str(w.message) for w in caught})
+    select_second_moment(rows, tc.get("tc_K"))
     length_convergence(rows, _film_side(sc))
     columns = ROW_COLUMNS + TABLE_EXTRA
     table = [[rows[k][c] for c in columns] for k in keys]
     write_csv(out / "observables.csv", columns, table)
     write_json(out / "columns.json", COLUMN_UNITS)
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always")
-        tc = tc_estimate(rows)
-    tc["warnings"] = sorted({str(w.message) for w in caught})
     write_json(out / "tc.json", tc)
     points = [f"points/{point_name(*k)}/{f}" for k in keys
               for f in ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv",

@@ -50,6 +50,9 @@ ROW_COLUMNS = (
     "correlation_length_fit_nm", "correlation_length_fit_nm_err",
     "correlation_length_sk_nm", "correlation_length_sk_nm_err",
     "correlation_length_instrument_nm", "correlation_length_instrument_nm_err",
+    "correlation_length_full_nm", "correlation_length_full_nm_err",
+    "correlation_length_connected_nm", "correlation_length_connected_nm_err",
+    "second_moment_connected",
     "mean_domain_area_nm2", "mean_domain_area_nm2_err", "area_weighted_domain_area_nm2",
     "domain_count", "largest_domain_fraction",
     "stripe_period_nm", "stripe_order", "bubble_count",
@@ -335,22 +338,30 @@ def _pinning(fields, lat, params):
 
 
 def _second_moment(lat, fields, series, xi_snap):
-    """Second-moment xi (nm), its error and why it is undefined ("" when it is defined).
+    """Second-moment xi (nm) in both forms: {"full": (xi, err, why), "connected": (...)}.
 
-    Periodic films: S(0) from every sample of the magnetisation series, S(k_min) from the
-    snapshots (:func:`thinfilm.analysis.correlation.second_moment_series`). Open edges: the
-    real-space second moment of the snapshots' C(r) (``xi_snap``).
+    ``why`` says why a value is undefined ("" when it is defined). Periodic films: S(0) from
+    every sample of the magnetisation series, <M^2>/N ("full", the disordered phase and the
+    finite-size scaling region above Tc) or (<M^2> - <|M|>^2)/N ("connected", the ordered
+    phase), S(k_min) from probes along the run
+    (:func:`thinfilm.analysis.correlation.second_moment_series`). Open edges: the real-space
+    second moment of the snapshots' C(r) (``xi_snap``) in both entries.
     """
     if not lat.periodic:
         v = xi_snap["second_moment_nm"]
-        return v, xi_snap["second_moment_err_nm"], ("" if np.isfinite(v) else
-                                                     "open edges: C(r) has no positive moment")
+        one = (v, xi_snap["second_moment_err_nm"],
+               "" if np.isfinite(v) else "open edges: C(r) has no positive moment")
+        return {"full": one, "connected": one}
     if series is None or "s_kmin" not in series:
-        return math.nan, math.nan, "no magnetisation time series"
-    r = second_moment_series(series["moment_sum"], series["s_kmin"], series["khat2_min"],
-                             series["n_sites"], probe_at=series["probe_at"],
-                             connected=series["connected"])
-    return r["xi_nm"], r["xi_err_nm"], r["reason"]
+        none = (math.nan, math.nan, "no magnetisation time series")
+        return {"full": none, "connected": none}
+    out = {}
+    for form in ("full", "connected"):
+        r = second_moment_series(series["moment_sum"], series["s_kmin"], series["khat2_min"],
+                                 series["n_sites"], probe_at=series["probe_at"],
+                                 connected=form == "connected")
+        out[form] = (r["xi_nm"], r["xi_err_nm"], r["reason"])
+    return out
 
 
 def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, params=None,
@@ -368,7 +379,8 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
     pos, box = lat.positions_nm, lat.box_nm
     xi = correlation_length(fields, pos, box, lat.period, periodic=lat.periodic,
                             subtract_mean=bool(ordered))
-    sm, sm_err, sm_why = _second_moment(lat, fields, series, xi)
+    forms = _second_moment(lat, fields, series, xi)
+    sm, sm_err, sm_why = forms["connected" if ordered else "full"]
     curves = [correlation_function(f, pos, box, lat.period, periodic=lat.periodic)
               for f in fields]
     r_nm = curves[0][0]
@@ -398,6 +410,11 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
         "correlation_length_sk_nm": sk, "correlation_length_sk_nm_err": sk_err,
         "correlation_length_instrument_nm": ins, "correlation_length_instrument_nm_err": ins_err,
         "correlation_length_nm": sm, "correlation_length_nm_err": sm_err,
+        "correlation_length_full_nm": forms["full"][0],
+        "correlation_length_full_nm_err": forms["full"][1],
+        "correlation_length_connected_nm": forms["connected"][0],
+        "correlation_length_connected_nm_err": forms["connected"][1],
+        "second_moment_connected": float(bool(ordered)),
         "correlation_length_fit_nm": xi["fit_nm"],
         "correlation_length_fit_nm_err": xi["fit_err_nm"],
         "mean_domain_area_nm2": mean_a, "mean_domain_area_nm2_err": mean_a_err,
@@ -405,7 +422,7 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
         "domain_count": _mean_err(counts)[0],
         "largest_domain_fraction": _mean_err(largest)[0],
     }
-    return row, corr_rows, dom_rows, sm_why
+    return row, corr_rows, dom_rows, {k: v[2] for k, v in forms.items()}
 
 
 def compute_point(task):
@@ -470,7 +487,7 @@ def _compute(task, sc, model, lat, method, t0):
     details.update({"start": task.start, "n_snapshots": len(snaps), "n_sites": lat.n_sites,
                     "blocks": int(th["n_blocks"]),
                     "second_moment_form": "ordered" if ordered else "disordered",
-                    "second_moment_undefined": sm_why,
+                    "second_moment_undefined": sm_why,  # {form: reason, "" when defined}
                     "warnings": sorted({str(w.message) for w in caught}),
                     "compute_time_s": round(time.perf_counter() - t0, 3)})
     final_arrays = {"spins": final, "positions_nm": lat.positions_nm,

@@ -11,7 +11,7 @@ import numpy as np
 from thinfilm.analysis.critical import estimate_tc, tc_from_peaks
 
 __all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE",
-           "TABLE_EXTRA", "length_convergence"]
+           "TABLE_EXTRA", "length_convergence", "select_second_moment"]
 
 N_REFINE = 6  # points added around the transition by refine: near-tc
 
@@ -38,8 +38,10 @@ COLUMN_UNITS = {
     "n_samples": "samples in the time series",
     "correlation_length_nm": ("nm, second-moment estimator (Cooper, Freedman and Preston 1982) "
                               "xi^2 = (S(0)/S(k_min) - 1)/khat_min^2: S(0) = <M^2>/N from the "
-                              "whole magnetisation series (connected, (<M^2> - <|M|>^2)/N, where "
-                              "binder > 0.4), S(k_min) averaged over the equivalent smallest "
+                              "whole magnetisation series above Tc, connected (<M^2> - "
+                              "<|M|>^2)/N below Tc (the sweep's Tc; binder > 0.4 where it has "
+                              "none; second_moment_connected says which), S(k_min) averaged "
+                              "over the equivalent smallest "
                               "wavevectors and up to 1000 probes along the run; 0 where noise "
                               "puts S(0) at or below S(k_min) (xi below what the samples resolve); "
                               "empty where undefined (point.json second_moment_undefined says "
@@ -47,6 +49,13 @@ COLUMN_UNITS = {
     "correlation_length_nm_err": ("nm, jackknife over 20 stretches of the run (an upper bound "
                                   "where the value is 0)"),
     "correlation_length_fit_nm": "nm, Ornstein-Zernike fit of C(r) of S.n",
+    "correlation_length_full_nm": ("nm, the second moment with S(0) = <M^2>/N (disordered phase "
+                                   "and the finite-size scaling region)"),
+    "correlation_length_full_nm_err": "nm, jackknife over 20 stretches of the run",
+    "correlation_length_connected_nm": ("nm, the second moment with S(0) = (<M^2> - <|M|>^2)/N "
+                                        "(ordered phase)"),
+    "correlation_length_connected_nm_err": "nm, jackknife over 20 stretches of the run",
+    "second_moment_connected": "1 where correlation_length_nm is the connected form, else 0",
     "correlation_length_sk_nm": ("nm, Ornstein-Zernike fit 1/S(k) = (1 + k^2 xi^2)/chi at small k != 0 "
                                  "(connected correlations, both sides of Tc)"),
     "correlation_length_sk_nm_err": "nm, jackknife over snapshots",
@@ -80,6 +89,21 @@ COLUMN_UNITS = {
 
 #: Columns added to observables.csv once every point is known (after :data:`ROW_COLUMNS`).
 TABLE_EXTRA = ("film_side_nm", "correlation_length_converged")
+
+
+def select_second_moment(rows, tc_K):
+    """correlation_length_nm of every row: the full form above ``tc_K``, the connected one
+    below (rows without the two forms, or ``tc_K`` None, keep their own choice)."""
+    if tc_K is None or not math.isfinite(tc_K):
+        return rows
+    for (_, temp), r in rows.items():
+        if "correlation_length_full_nm" not in r:
+            continue
+        form = "connected" if temp < tc_K else "full"
+        r["correlation_length_nm"] = r[f"correlation_length_{form}_nm"]
+        r["correlation_length_nm_err"] = r[f"correlation_length_{form}_nm_err"]
+        r["second_moment_connected"] = float(form == "connected")
+    return rows
 
 
 def length_convergence(rows, film_side_nm):
