@@ -224,9 +224,12 @@ def extrapolated_lengths(table, film_side_nm, *, tc_K, tc_err_K, anisotropy, res
 
 def _converged_flags(pred, fit, T_rows, converged):
     """predict_length flags with "measured" kept only inside the abs(t) range of the sweep
-    temperatures where a size converged (per side); elsewhere inside the fitted points the
-    flag is "finite-size scaling" (every point there is cut down by the box)."""
+    temperatures where a size converged (per side, to 0.1 % of abs(t): the fit's Tc moves
+    within its prior); elsewhere inside the fitted points the flag is "finite-size scaling"
+    (every point there is cut down by the box), or "extrapolated" for a fit of converged
+    rows alone."""
     tc = fit["tc_K"]
+    other = "finite-size scaling" if fit.get("finite_size") else "extrapolated"
     flag = np.asarray(pred["flag"], dtype=object).copy()
     tconv = np.asarray(T_rows, dtype=np.float64)[converged]
     at_c = np.abs(tconv - tc) / tc
@@ -234,8 +237,8 @@ def _converged_flags(pred, fit, T_rows, converged):
     for i in np.nonzero(flag == "measured")[0]:
         a = abs(float(pred["t_reduced"][i]))
         mine = at_c[side_c == pred["side"][i]]
-        if mine.size == 0 or not (mine.min() * (1 - 1e-9) <= a <= mine.max() * (1 + 1e-9)):
-            flag[i] = "finite-size scaling"
+        if mine.size == 0 or not (mine.min() * (1 - 1e-3) <= a <= mine.max() * (1 + 1e-3)):
+            flag[i] = other
     return flag.astype(str)
 
 
