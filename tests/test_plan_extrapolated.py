@@ -154,3 +154,52 @@ def test_finite_size_scaling_recovers_the_infinite_film_where_no_size_converges(
         at = (tab["size"] == 64) & np.isclose(tab["temperature_K"], t)
         own = tab["correlation_length_nm"][at]
         assert own.size == 1 and xi_exact(t) - own[0] > 3 * e
+
+
+def test_plan_asks_for_large_lattices_near_tc_and_uses_them(tmp_path):
+    # the tanh-cut exact lengths of fss_table on 16, 32, 64 nm films: near Tc no size
+    # converges, so the plan writes a large-lattice scenario and the commands; once that run's
+    # table exists (here the exact lengths, Onsager 1944, on L = 1024 at the asked temperatures)
+    # (L = 2048: > 10 xi at each) those temperatures become measured and are not asked again
+    import yaml
+
+    from thinfilm._io import write_csv
+    from thinfilm.input.scenario import load_scenario
+    from thinfilm.plan.beyond_lattice import LARGE_DIR, LARGE_YAML, beyond_lattice
+    from thinfilm.runs.folder import read_csv_table
+
+    tab = fss_table(7)
+    names = list(tab)
+    write_csv(tmp_path / "observables.csv", names,
+              list(zip(*[tab[c] for c in names], strict=True)))
+    src = tmp_path / "film.yaml"
+    src.write_text(yaml.safe_dump({
+        "name": "exact-film", "lattice": {"shape": "square", "cells": [16, 16], "spacing": "1 nm"},
+        "material": {"moment": "1 muB", "exchange": "1 meV",
+                     "anisotropy": {"constant": "1 meV", "axis": [0, 0, 1]}},
+        "temperature": ["3 K", "4 K"], "sizes": [16, 32, 64],
+        "dynamics": {"method": "monte-carlo"}}))
+    sc = load_scenario(src)
+    res = beyond_lattice(sc, tmp_path, tc_K=TC, tc_err_K=0.0, resolution_nm=30.0)
+    req = res["large_lattice_request"]
+    assert req["commands"] and (tmp_path / LARGE_YAML).is_file()
+    asked = load_scenario(tmp_path / LARGE_YAML)
+    assert asked.sweep.sizes == (req["size"],) and "cluster" in asked.dynamics.moves
+    T = np.array(req["temperatures_K"])
+    # the size asked for holds 10 xi (+ 2 errors) at every asked temperature, or it is the
+    # largest the plan asks for (1024) and the plan says that it falls short
+    assert req["enough"] == (req["film_side_nm"] >= req["needed_side_nm"])
+    assert req["enough"] or req["size"] == 1024
+    assert req["needed_side_nm"] > 10 * xi_exact(T).max()
+    (tmp_path / LARGE_DIR).mkdir()
+    write_csv(tmp_path / LARGE_DIR / "observables.csv", names,
+              [(2048, t, x, 0.01 * x) for t, x in zip(T, xi_exact(T), strict=True)])
+    res = beyond_lattice(sc, tmp_path, tc_K=TC, tc_err_K=0.0, resolution_nm=30.0)
+    out = read_csv_table(tmp_path / "extrapolation.csv")
+    for t in T:
+        k = np.argmin(np.abs(out["temperature_K"] - t))
+        assert out["correlation_length_flag"][k] == "measured"
+        assert out["converged_size"][k] == 2048
+    assert res["large_lattice_used"]["sizes"] == [2048]
+    assert not any(t in (res.get("large_lattice_request") or {}).get("temperatures_K", [])
+                   for t in T)

@@ -145,21 +145,22 @@ def beyond_lines(plan):
                       "nm that 10 xi needs: the two largest sizes must then agree")
                    + f") with cluster moves: {cmd}.")
     pts = [p for p in plan.get("points") or [] if "correlation_length_flag" in p]
+    table = []
     if pts:
-        out += ["", "Correlation length at the schedule temperatures (the xi column of the "
+        table += ["", "Correlation length at the schedule temperatures (the xi column of the "
                 "schedule above): the infinite film beside the largest lattice's own "
                 "kernel-smoothed value.", "",
                 "| T (K) | xi, infinite film (nm) | how | xi on the lattice (nm) |",
                 "|---|---|---|---|"]
         for p in pts:
-            out.append(f"| {p['temperature_K']:.4g} | {p['correlation_length_nm']:.3g} | "
-                       f"{p['correlation_length_flag']} | "
-                       f"{p['correlation_length_lattice_nm']:.3g} |")
-        out.append("")
-        out.append("how: measured (interpolated between sweep temperatures where a size "
-                   "converged), finite-size scaling, extrapolated, or finite-size limited (no "
-                   "converged or scaled value reaches: the lattice's own value, cut down by the "
-                   "box).")
+            table.append(f"| {p['temperature_K']:.4g} | {p['correlation_length_nm']:.3g} | "
+                         f"{p['correlation_length_flag']} | "
+                         f"{p['correlation_length_lattice_nm']:.3g} |")
+        table.append("")
+        table.append("how: measured (interpolated between sweep temperatures where a size "
+                     "converged), finite-size scaling, extrapolated, or finite-size limited (no "
+                     "converged or scaled value reaches: the lattice's own value, cut down by "
+                     "the box).")
     w = b.get("resolved_window")
     if w:
         edges = w.get("window_K") or [None, None]
@@ -175,4 +176,4 @@ def beyond_lines(plan):
                        for s, v in hw.items()) + ".")
     if b.get("tc_note"):
         out.append(f"- Note: {b['tc_note']}.")
-    return out
+    return out + table
