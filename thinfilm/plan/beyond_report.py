@@ -2,7 +2,16 @@
 
 import numpy as np
 
-__all__ = ["beyond_figure", "beyond_caption", "beyond_lines"]
+__all__ = ["beyond_figure", "beyond_caption", "beyond_lines", "infinite_film_overlay",
+           "INFINITE_FILM_CURVE"]
+
+#: Legend entry and caption text of :func:`infinite_film_overlay`.
+INFINITE_FILM_CURVE = (
+    "ξ infinite film",
+    "correlation length of the infinite film (extrapolation.csv): filled where a lattice size "
+    "converged at that temperature, open where no size did and the value rests on finite-size "
+    "scaling of all sizes; the second-moment curve of the largest lattice is cut down by its "
+    "box there")
 
 BLUE, VERMILION, SKY, GREY = "#0072B2", "#D55E00", "#56B4E9", "#7F7F7F"
 
@@ -66,6 +75,27 @@ def beyond_figure(plan, path):
     ax.set(xlabel="|T - Tc| / Tc (1)", ylabel="ξ (nm)", title="correlation length beyond the lattice")
     shared_legend(fig)
     return save_png(fig, path, dpi=120)
+
+
+def infinite_film_overlay(ax, plan):
+    """Infinite-film xi at the sweep's temperatures on a lengths-against-T axis: filled where
+    measured (a size converged), open where from finite-size scaling. Returns True if drawn."""
+    cur = (plan.get("extrapolation") or {}).get("curve")
+    if not cur:
+        return False
+    t = np.asarray(cur["temperature_K"], dtype=float)
+    x, e = _arr(cur["correlation_length_nm"]), _arr(cur["correlation_length_err_nm"])
+    flag = np.asarray(cur["flag"])
+    at_sweep = np.isin(np.round(t, 6), np.round(_arr(plan["sweep_curves"]["temperature_K"]), 6))
+    drawn = False
+    for which, face in (("measured", VERMILION), ("finite-size scaling", "white")):
+        sel = at_sweep & (flag == which) & np.isfinite(x)
+        if sel.any():
+            ax.errorbar(t[sel], x[sel], yerr=e[sel], fmt="D", ms=5, color=VERMILION, mfc=face,
+                        capsize=2, lw=1,
+                        label=f"{INFINITE_FILM_CURVE[0]} ({which})")
+            drawn = True
+    return drawn
 
 
 def beyond_caption(plan):
