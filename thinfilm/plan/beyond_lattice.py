@@ -193,7 +193,10 @@ def _large_request(scenario, out, cols, tc_K, film_side):
     data = yaml.safe_load(src.read_text(encoding="utf-8"))
     data["sizes"] = [size]
     data["temperature"] = [f"{t:.6g} K" for t in temps]
-    data["sweep"] = {**(data.get("sweep") or {}), "order": "independent"}
+    sweep = dict(data.get("sweep") or {})
+    # the S(k) and C(r) fits, precise where L >> xi, average over the snapshots
+    sweep.update(order="independent", snapshots=max(int(sweep.get("snapshots", 0)), 100))
+    data["sweep"] = sweep
     dyn = dict(data.get("dynamics") or {})
     dyn.update(method="monte-carlo", moves=["metropolis", "cluster"],
                sweeps={"warmup": LARGE_WARMUP, "samples": LARGE_SAMPLES})
