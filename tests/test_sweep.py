@@ -11,6 +11,7 @@ from thinfilm.input.scenario import load_scenario
 from thinfilm.runs.folder import read_csv_table
 from thinfilm.runs.sweep import run_sweep, sweep_plan
 from thinfilm.runs.sweep_point import ROW_COLUMNS, PointTask, compute_point, point_name, point_seed
+from thinfilm.runs.sweep_tables import TABLE_EXTRA
 
 pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.input.errors.ThinFilmWarning")
 
@@ -21,8 +22,9 @@ def test_sweep_folder_holds_tables_points_and_manifest(tmp_path):
     sc = tiny_sweep()
     out = run_sweep(sc, tmp_path / "s", workers=1, progress=False)
     tab = read_csv_table(out / "observables.csv")
-    assert list(tab) == list(ROW_COLUMNS)
+    assert list(tab) == list(ROW_COLUMNS + TABLE_EXTRA)
     assert list(tab["size"]) == [6, 6, 6, 8, 8, 8]
+    assert np.allclose(tab["film_side_nm"], 0.3 * tab["size"])  # square lattice, 0.3 nm
     assert np.allclose(tab["temperature_K"], [1.5, 2.5, 3.5] * 2)
     assert set(tab["method"]) == {"monte-carlo"}
     # order parameter falls through the transition (common practice: ferromagnet, |m| ~ 1 at

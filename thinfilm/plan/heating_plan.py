@@ -25,7 +25,7 @@ from thinfilm._io import atomic_write_text, write_json
 from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
 from thinfilm.input.errors import InputError, ScenarioError, option
 from thinfilm.input.scenario import Scenario, load_scenario
-from thinfilm.plan.beyond_lattice import beyond_lattice
+from thinfilm.plan.beyond_lattice import beyond_lattice, infinite_film_points
 from thinfilm.plan.curves import clean_json as _clean
 from thinfilm.plan.curves import crossing, fill_errors, schedule, smooth_log
 from thinfilm.plan.instrument import _quantity, instrument_values
@@ -393,6 +393,7 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
                                            resolution_nm=ins["resolution_nm"],
                                            field_of_view_nm=ins["field_of_view_nm"])
     _use_extrapolated_window(plan)
+    infinite_film_points(plan)  # schedule lengths of the infinite film where known
     plan = _clean(plan)
     plan["instrument_name"] = ins["name"]
     plan["file_stem"] = f"plan-{ins['name']}" if instrument is not None else "plan"

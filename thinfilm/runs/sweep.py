@@ -34,7 +34,14 @@ from thinfilm.runs.sweep_point import (
     point_name,
     point_seed,
 )
-from thinfilm.runs.sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
+from thinfilm.runs.sweep_tables import (
+    COLUMN_UNITS,
+    TABLE_EXTRA,
+    length_convergence,
+    refine_temperatures,
+    select_second_moment,
+    tc_estimate,
+)
 
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
@@ -356,15 +363,30 @@ def _write_manifest(out, manifest, started, files):
     write_json(out / "manifest.json", m)
 
 
+def _film_side(sc):
+    """Shorter side (nm) of the film of size L, as a function of L."""
+    from thinfilm.model.lattice import Lattice
+
+    lat = sc.lattice
+
+    def side(size):
+        return float(min(Lattice(lat.shape, int(size), int(size), lat.spacing_nm,
+                                 lat.periodic).box_nm))
+    return side
+
+
 def _finish(out, sc, manifest, rows, started):
     keys = sorted(rows)
-    table = [[rows[k][c] for c in ROW_COLUMNS] for k in keys]
-    write_csv(out / "observables.csv", ROW_COLUMNS, table)
-    write_json(out / "columns.json", COLUMN_UNITS)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         tc = tc_estimate(rows)
     tc["warnings"] = sorted({str(w.message) for w in caught})
+    select_second_moment(rows, tc.get("tc_K"))
+    length_convergence(rows, _film_side(sc))
+    columns = ROW_COLUMNS + TABLE_EXTRA
+    table = [[rows[k][c] for c in columns] for k in keys]
+    write_csv(out / "observables.csv", columns, table)
+    write_json(out / "columns.json", COLUMN_UNITS)
     write_json(out / "tc.json", tc)
     points = [f"points/{point_name(*k)}/{f}" for k in keys
               for f in ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv",
