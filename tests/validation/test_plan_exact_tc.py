@@ -24,8 +24,7 @@ TC_K = TC_ISING * (1.0 - TC_ISING / K_OVER_J) * JK
 # L^-(1/nu + omega) = L^-3 for the square Ising model (nu = 1, leading irrelevant exponent
 # omega = 2; Binder, Z. Phys. B 43, 119, 1981 for the method, exponents from memory), so the
 # shift is a few 1e-4 of Tc at L = 16 unless its amplitude is unusually large; 0.3 % allows an
-# amplitude of 12 in units of Tc. The crossing seen by validation/ising_tc.py and the slow
-# tests/validation/test_ising_limit.py at L = 16/32 lies within its error of Tc'.
+# amplitude of 12 in units of Tc.
 FINITE_SIZE = 0.003
 
 
