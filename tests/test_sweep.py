@@ -191,7 +191,7 @@ def test_monte_carlo_and_stochastic_llg_agree_tightly(temperature_K):
     # scheme converges weakly with order 1 (Kloeden and Platen, Numerical Solution of SDEs,
     # Springer 1992), and its error in a long-time average has an expansion c1 dt + O(dt^2)
     # (Talay and Tubaro, Stoch. Anal. Appl. 8, 483, 1990; both from memory). Measured at 9.3 K
-    # (16 x 16, 2000 ps each): E = -1.4960(19), -1.4969(17), -1.5053(22), -1.5216(17) meV at
+    # (16 x 16, 2000 ps each): E = -1.4960(19), -1.4968(22), -1.5053(22), -1.5216(17) meV at
     # dt = 1, 2, 4, 8 fs, a straight line of slope -0.0041 meV/fs; at 2 fs that bias alone was
     # 4 standard errors, which is why the 2 fs run alone sat 4.4 sigma from Monte Carlo. So the
     # LLG value is the weighted straight line through dt = 2, 4, 8 fs extrapolated to dt = 0
