@@ -226,6 +226,11 @@ def build_parser():
                    help='length of each stochastic LLG run for the fluctuation time, e.g. "200 ps"')
     s.add_argument("-q", "--quiet", action="store_true")
     s.set_defaults(func=_cmd_plan)
+
+    # --- lab data to the model and back (thinfilm/cli_lab.py) ---
+    from thinfilm.cli_lab import add_lab_commands
+
+    add_lab_commands(sub)
     return p
 
 

@@ -1,0 +1,74 @@
+"""Figure of a critical fit of a measured M(T): the curve with its fit, and log M vs log t."""
+
+import numpy as np
+
+from .captions import write_captions
+from .layout import OKABE_ITO, new_figure, save_png, shared_legend
+
+__all__ = ["plot_mt_fit"]
+
+
+def plot_mt_fit(curve, res, out_dir, name="mt_fit.png"):
+    """Two panels: M(T) with the fit and its window; |M| against 1 - T/Tc on log axes.
+
+    Parameters
+    ----------
+    curve : dict
+        From :func:`thinfilm.analysis.mt_table.read_curve`.
+    res : dict
+        From :func:`thinfilm.analysis.mt_fit.fit_magnetisation`.
+    out_dir : path
+        Folder of the PNG and of ``captions.md``.
+
+    Returns
+    -------
+    Path of the PNG.
+    """
+    from thinfilm.analysis.mt_fit import _model
+
+    T = np.asarray(curve["temperature_K"], dtype=float)
+    M = res["sign"] * np.asarray(curve["signal"], dtype=float)
+    e = res["signal_err_used"]
+    p = res["fit"]["params"]
+    lo, hi = res["window_K"]
+    unit = curve.get("signal_unit") or "a.u."
+    label = curve.get("signal_name") or "signal"
+    fig, axes = new_figure(1, 2, 4.3, 3.4)
+    ax = axes[0]
+    inside = (T >= lo) & (T <= hi)
+    ax.axvspan(lo, hi, color="0.92", zorder=0)
+    ax.errorbar(T[~inside], M[~inside], e[~inside], fmt="o", ms=3, color="0.55", lw=0.8,
+                label="data outside the window")
+    ax.errorbar(T[inside], M[inside], e[inside], fmt="o", ms=3, color=OKABE_ITO[0], lw=0.8,
+                label="data in the fit window")
+    tt = np.linspace(T[0], p[1], 400)[:-1]
+    fitlab = (rf"fit: $T_c$ = {res['tc_K']:.4g} K, $\beta$ = {res['beta']:.3f}"
+              + (r", with $(1 + b\,t^{\Delta})$" if res["correction"] else ""))
+    ax.plot(tt, _model(p, tt, res["delta"]), color=OKABE_ITO[1], lw=1.4, label=fitlab)
+    ax.axvline(res["tc_K"], color=OKABE_ITO[1], ls=":", lw=1)
+    ax.set_xlabel("T (K)")
+    ax.set_ylabel(f"{label} ({unit})" if res["sign"] > 0 else f"-{label} ({unit})")
+    ax.set_title("measured curve and fit", fontsize=9)
+    ax = axes[1]
+    t = 1.0 - T / res["tc_K"]
+    ok = (t > 0) & (M > 0)
+    ax.errorbar(t[ok & ~inside], M[ok & ~inside], e[ok & ~inside], fmt="o", ms=3, color="0.55",
+                lw=0.8)
+    ax.errorbar(t[ok & inside], M[ok & inside], e[ok & inside], fmt="o", ms=3,
+                color=OKABE_ITO[0], lw=0.8)
+    tl = np.geomspace(max(t[ok].min(), 1e-6), t[ok].max(), 200)
+    ax.plot(tl, _model(p, res["tc_K"] * (1 - tl), res["delta"]), color=OKABE_ITO[1], lw=1.4)
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_xlabel(r"$t = 1 - T/T_c$ (fitted $T_c$)")
+    ax.set_ylabel(f"{label} ({unit})")
+    ax.set_title(r"log-log: slope $\beta$ near $T_c$", fontsize=9)
+    shared_legend(fig)
+    path = save_png(fig, f"{out_dir}/{name}")
+    write_captions(out_dir, {name: (
+        f"Left: the measured {label} ({unit}) against temperature (K), error bars "
+        f"({res['error_source']}); shaded: the fit window {lo:g} .. {hi:g} K; line: the fitted "
+        f"M0 (1 - T/Tc)^beta{' (1 + b t^Delta)' if res['correction'] else ''}; dotted: the "
+        "fitted Tc. Right: the same points against the reduced temperature t = 1 - T/Tc on "
+        "log axes, where a pure power law is a straight line of slope beta.")})
+    return path
