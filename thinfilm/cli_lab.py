@@ -46,8 +46,86 @@ def _cmd_fit_mt(args):
     return 0
 
 
+def _quantity(text, kind, what):
+    from thinfilm.input.units import parse_quantity
+
+    try:
+        return parse_quantity(text, kind)
+    except ValueError as exc:
+        raise InputError(f"{what}: {exc}") from None
+
+
+def _cmd_calibrate(args):
+    from thinfilm.input.calibration import (
+        TABLE_PATH,
+        calibration_table,
+        continuum_from_tc,
+        exchange_from_tc,
+    )
+
+    if args.table:
+        tab = calibration_table()
+        print(f"kB Tc / J against K/J ({TABLE_PATH}):")
+        for shape, (x, t, e) in sorted(tab.items()):
+            for a, b, c in zip(x, t, e, strict=True):
+                print(f"  {shape:10s} K/J = {a:<7g} kB Tc/J = {_digits(b, c)}")
+        return 0
+    if not args.tc:
+        raise InputError("calibrate: give --tc (the measured Curie temperature, e.g. "
+                         '"290 K"), or --table to print the table')
+    tc = _quantity(args.tc, "temperature", "--tc")
+    tc_err = _quantity(args.tc_error, "temperature", "--tc-error") if args.tc_error else 0.0
+    continuum = [args.ku, args.ms, args.thickness]
+    if any(continuum) and args.anisotropy:
+        raise InputError("calibrate: give either --anisotropy (K per site) or --ku, --ms and "
+                         "--thickness (continuum film), not both")
+    if any(continuum):
+        if not all(continuum) or not args.spacing:
+            raise InputError("calibrate: a continuum film needs --ku, --ms, --thickness and "
+                             "--spacing (the lattice spacing, e.g. \"0.3 nm\")")
+        ku = _quantity(args.ku, "energy_density", "--ku")
+        ku_err = _quantity(args.ku_error, "energy_density", "--ku-error") if args.ku_error else 0.0
+        res = continuum_from_tc(tc, args.lattice, _quantity(args.spacing, "length", "--spacing"),
+                                ku, _quantity(args.ms, "magnetisation", "--ms"),
+                                _quantity(args.thickness, "length", "--thickness"),
+                                tc_err_K=tc_err, anisotropy_density_err=ku_err,
+                                shape_anisotropy=args.shape_anisotropy)
+    elif args.anisotropy:
+        if args.anisotropy.strip().lower() == "ising":
+            k, k_err = "ising", 0.0
+        else:
+            k = _quantity(args.anisotropy, "energy", "--anisotropy")
+            k_err = (_quantity(args.anisotropy_error, "energy", "--anisotropy-error")
+                     if args.anisotropy_error else 0.0)
+        res = exchange_from_tc(tc, args.lattice, k, tc_err_K=tc_err, anisotropy_err_J=k_err)
+    else:
+        raise InputError("calibrate: give the anisotropy, --anisotropy (K per site, e.g. "
+                         '"0.05 meV", or "ising") or --ku, --ms, --thickness and --spacing')
+    print(f"{args.lattice} lattice, Tc = {_digits(tc, tc_err)} K:")
+    print_calibration(res)
+    return 0
+
+
 def add_lab_commands(sub):
     """Add this module's subcommands to an argparse subparsers object."""
+    s = sub.add_parser("calibrate", help="exchange J (and stiffness A) from a measured Curie "
+                                         "temperature and the anisotropy")
+    s.add_argument("--tc", default=None, help='measured Curie temperature, e.g. "290 K"')
+    s.add_argument("--tc-error", default=None, help='its standard error, e.g. "3 K"')
+    s.add_argument("--lattice", choices=["square", "triangular", "honeycomb"], default="square")
+    s.add_argument("--anisotropy", default=None,
+                   help='K per site, e.g. "0.05 meV" (or "ising" for the Ising limit)')
+    s.add_argument("--anisotropy-error", default=None, help="standard error of K per site")
+    s.add_argument("--ku", default=None, help='anisotropy density, e.g. "0.8 MJ/m^3"')
+    s.add_argument("--ku-error", default=None, help="standard error of Ku")
+    s.add_argument("--ms", default=None, help='saturation magnetisation, e.g. "1.1 MA/m"')
+    s.add_argument("--thickness", default=None, help='film thickness, e.g. "0.6 nm"')
+    s.add_argument("--spacing", default=None, help='lattice spacing, e.g. "0.3 nm"')
+    s.add_argument("--shape-anisotropy", action="store_true",
+                   help="subtract mu0 Ms^2 / 2 from Ku (thin-film shape anisotropy)")
+    s.add_argument("--table", action="store_true", help="print the calibration table")
+    s.set_defaults(func=_cmd_calibrate)
+
     s = sub.add_parser("fit-mt", help="critical fit M0 (1 - T/Tc)^beta of a measured M(T) CSV "
                                       "and the universality classes its beta allows")
     s.add_argument("file", help="CSV: temperature column (unit in the header, e.g. "
@@ -67,3 +145,24 @@ def add_lab_commands(sub):
     s.add_argument("--error", default=None, help="header of the error column (default: a "
                                                  "column named *err*, *sigma*, *std*)")
     s.set_defaults(func=_cmd_fit_mt)
+
+
+def _digits(value, err):
+    """value +- err with the digits the error supports (two significant digits of the error)."""
+    import math
+
+    if not (err > 0 and math.isfinite(err)):
+        return f"{value:.4g}"
+    nd = max(0, 1 - int(math.floor(math.log10(err))))
+    return f"{value:.{nd}f} +- {err:.{nd}f}"
+
+
+def print_calibration(c, prefix="  "):
+    """Lines of `thinfilm check` and `thinfilm calibrate` for an exchange set from a measured Tc."""
+    print(f"{prefix}J = {_digits(c['exchange_meV'], c['exchange_err_meV'])} meV per bond "
+          f"(E = -J Si.Sj, each bond once; K/J = {c['k_over_j']:.3g})")
+    pad = " " * len(prefix)
+    if "stiffness_J_per_m" in c:
+        a, e = c["stiffness_J_per_m"] * 1e12, c["stiffness_err_J_per_m"] * 1e12
+        print(f"{pad}A = {_digits(a, e)} pJ/m (continuum film)")
+    print(f"{pad}origin: {c['origin']}; the error carries the errors of Tc and of the table")
