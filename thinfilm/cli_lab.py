@@ -106,8 +106,58 @@ def _cmd_calibrate(args):
     return 0
 
 
+def _cmd_image_series(args):
+    from thinfilm.analysis.image_series import analyse_series, index_from_folder, read_index
+
+    if args.index and (args.folder or args.pattern):
+        raise InputError("image-series: give either an index CSV or --folder with --pattern, "
+                         "not both")
+    if args.index:
+        rows, source = read_index(args.index), args.index
+    elif args.folder and args.pattern and args.pixel_size:
+        rows = index_from_folder(args.folder, args.pattern, pixel_size=args.pixel_size)
+        source = f"{args.folder}/{args.pattern}"
+    else:
+        raise InputError("image-series: give an index CSV (columns file, temperature_K, "
+                         "pixel_size_nm), or --folder, --pattern (with {T} at the temperature "
+                         "in K) and --pixel-size")
+    res = analyse_series(rows, args.output, level=args.level, smoothing=args.smoothing,
+                         background=args.background, mask=args.mask,
+                         highpass_length=args.highpass_length, source=source)
+    tab = res["table"]
+    print(f"image series {source}: {len(rows)} images, pixel {rows[0][2]}")
+    print("  T (K)   xi (nm)          period (nm)   stripe order   walls (1/um)")
+    for k in range(len(rows)):
+        def pm(col, k=k):
+            return _digits(tab[col][k], tab[col + "_err"][k])
+
+        per = "-" if tab["period_nm"][k] != tab["period_nm"][k] else pm("period_nm")
+        print(f"  {tab['temperature_K'][k]:<7.5g} {pm('correlation_length_nm'):16s} "
+              f"{per:13s} {pm('stripe_order'):14s} {pm('wall_length_per_area_per_um')}")
+    print("  (period -: no peak of S(k) away from the smallest wavenumber, not determined)")
+    print(f"written to {Path(args.output) / 'image_series.csv'} and {res['figure'].name}")
+    return 0
+
+
 def add_lab_commands(sub):
     """Add this module's subcommands to an argparse subparsers object."""
+    s = sub.add_parser("image-series", help="a series of domain images against temperature "
+                                            "analysed into one table and figure")
+    s.add_argument("index", nargs="?", default=None,
+                   help="CSV index with columns file, temperature_K, pixel_size_nm")
+    s.add_argument("--folder", default=None, help="folder of the images (instead of an index)")
+    s.add_argument("--pattern", default=None,
+                   help='file pattern with {T} at the temperature in K, e.g. "film_{T}K.tif"')
+    s.add_argument("--pixel-size", default=None, help='pixel size with --folder, e.g. "5 nm"')
+    s.add_argument("-o", "--output", required=True, help="output folder")
+    s.add_argument("--level", type=float, default=0.0,
+                   help="threshold on the normalised contrast (-1..1), as thinfilm image")
+    s.add_argument("--smoothing", default=None, help='smoothing length, e.g. "10 nm"')
+    s.add_argument("--background", default="plane", choices=["none", "mean", "plane", "highpass"])
+    s.add_argument("--highpass-length", default=None, help='e.g. "400 nm"')
+    s.add_argument("--mask", default=None, help="image of invalid pixels (non-zero = invalid)")
+    s.set_defaults(func=_cmd_image_series)
+
     s = sub.add_parser("calibrate", help="exchange J (and stiffness A) from a measured Curie "
                                          "temperature and the anisotropy")
     s.add_argument("--tc", default=None, help='measured Curie temperature, e.g. "290 K"')
