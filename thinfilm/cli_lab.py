@@ -139,8 +139,56 @@ def _cmd_image_series(args):
     return 0
 
 
+def _cmd_compare(args):
+    from thinfilm.analysis.compare import compare_run
+
+    tc = _temperature(args.tc_measured, "--tc-measured") if args.tc_measured else None
+    tc_err = _temperature(args.tc_measured_error, "--tc-measured-error") \
+        if args.tc_measured_error else None
+    info = compare_run(args.run_dir, args.output, mt=args.mt, series=args.series,
+                       tc_measured_K=tc, tc_measured_err_K=tc_err)
+    print(f"measured beside {args.run_dir} (largest lattice L = {info['simulated_size']})")
+    ts, tm = info["simulated_tc_K"], info["measured_tc_K"]
+    print(f"  Tc run {_digits(ts, info['simulated_tc_err_K'] or 0) if ts else 'unknown'} K; "
+          f"Tc sample {_digits(tm, info['measured_tc_err_K'] or 0) if tm else 'unknown'} K")
+    for q, off in info["offsets"].items():
+        if "offset_K" in off:
+            sc = f", scale s = {_digits(off['scale'], off['scale_err'])}" \
+                if off["scale"] != 1.0 else ""
+            print(f"  {q}: thermometer offset dT = {_digits(off['offset_K'], off['offset_err_K'])}"
+                  f" K from {off['n_points']} points{sc} (reported, not applied)")
+        else:
+            print(f"  {q}: no offset: {off['note']}")
+    print(f"written to {Path(args.output) / 'compare.csv'} and {info['figure']}")
+    return 0
+
+
+def _cmd_report(args):
+    from thinfilm.render.html_report import write_html_report
+
+    print(f"report: {write_html_report(args.run_dir)}")
+    return 0
+
+
 def add_lab_commands(sub):
     """Add this module's subcommands to an argparse subparsers object."""
+    s = sub.add_parser("compare", help="measured M(T) and/or image-series curves beside a "
+                                       "simulated sweep, on T and T/Tc, with the thermometer "
+                                       "offset")
+    s.add_argument("run_dir", help="sweep run folder (observables.csv, tc.json)")
+    s.add_argument("--mt", default=None, help="measured M(T) CSV (as for fit-mt)")
+    s.add_argument("--series", default=None, help="image_series.csv from image-series")
+    s.add_argument("--tc-measured", default=None,
+                   help='the sample\'s Tc for the T/Tc axis (default: fitted from --mt)')
+    s.add_argument("--tc-measured-error", default=None, help="its standard error")
+    s.add_argument("-o", "--output", required=True, help="output folder")
+    s.set_defaults(func=_cmd_compare)
+
+    s = sub.add_parser("report", help="one offline HTML page of a run folder's figures, tables, "
+                                      "plan and movies")
+    s.add_argument("run_dir")
+    s.set_defaults(func=_cmd_report)
+
     s = sub.add_parser("image-series", help="a series of domain images against temperature "
                                             "analysed into one table and figure")
     s.add_argument("index", nargs="?", default=None,
