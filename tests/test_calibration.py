@@ -155,3 +155,13 @@ def test_continuum_scenario_form_gives_stiffness():
     a = sc.material.continuum["stiffness_J_per_m"]
     assert a == pytest.approx(sc.material.exchange_J / (2 * 0.6e-9))
     assert sc.material.calibration["stiffness_J_per_m"] == pytest.approx(a)
+
+
+def test_cli_calibrate_ising_limit_and_bad_quantity(capsys):
+    # honeycomb Ising limit: kB Tc / J = 2 / ln(2 + sqrt3) (Houtappel 1950); Tc = 1.518651 J/kB
+    tc = 2 / math.log(2 + math.sqrt(3)) * 5 * MEV_J / KB_J_PER_K
+    assert main(["calibrate", "--tc", f"{tc:.6f} K", "--lattice", "honeycomb",
+                 "--anisotropy", "ising"]) == 0
+    assert "J = 5 meV" in capsys.readouterr().out
+    assert main(["calibrate", "--tc", "290", "--anisotropy", "ising"]) == 2
+    assert "--tc" in capsys.readouterr().err
