@@ -131,7 +131,9 @@ def test_scenario_form_sets_exchange_and_check_prints_its_origin(capsys, tmp_pat
     p.write_text(yaml.safe_dump(BASE))
     assert main(["check", str(p)]) == 0
     out = capsys.readouterr().out
-    assert "exchange    J = 18" in out and "+-" in out
+    j_line = next(x for x in out.splitlines() if x.startswith("  exchange    J = "))
+    value, err = (float(v) for v in j_line.split("=")[1].split("meV")[0].split("+-"))
+    assert value == pytest.approx(c["exchange_meV"], abs=err / 10)  # digits the error supports
     assert "from Tc = 150 K +- 2 K via the calibration table" in out
 
 

@@ -21,15 +21,15 @@ def _temperature(text, what):
 
 
 def _cmd_fit_mt(args):
-    from thinfilm.analysis.mt_fit import fit_magnetisation_file
+    from thinfilm.render.mt_plot import write_mt_fit
 
     window = None
     if args.window:
         window = tuple(_temperature(w, "--window") for w in args.window)
     corr = {"auto": "auto", "yes": True, "no": False}[args.correction]
-    res = fit_magnetisation_file(args.file, args.output, window=window, correction=corr,
-                                 delta=args.correction_exponent, t_max=args.t_max,
-                                 signal=args.signal, error=args.error)
+    res = write_mt_fit(args.file, args.output, window=window, correction=corr,
+                       delta=args.correction_exponent, t_max=args.t_max, signal=args.signal,
+                       error=args.error)
     lo, hi = res["window_K"]
     print(f"M(T) fit of {args.file} ({res['signal_name']}, {res['signal_unit']}): "
           f"{res['n_points']} points in {lo:g} .. {hi:g} K ({res['window_how']})")
@@ -107,7 +107,8 @@ def _cmd_calibrate(args):
 
 
 def _cmd_image_series(args):
-    from thinfilm.analysis.image_series import analyse_series, index_from_folder, read_index
+    from thinfilm.analysis.image_series import index_from_folder, read_index
+    from thinfilm.render.series_plot import write_image_series
 
     if args.index and (args.folder or args.pattern):
         raise InputError("image-series: give either an index CSV or --folder with --pattern, "
@@ -121,7 +122,7 @@ def _cmd_image_series(args):
         raise InputError("image-series: give an index CSV (columns file, temperature_K, "
                          "pixel_size_nm), or --folder, --pattern (with {T} at the temperature "
                          "in K) and --pixel-size")
-    res = analyse_series(rows, args.output, level=args.level, smoothing=args.smoothing,
+    res = write_image_series(rows, args.output, level=args.level, smoothing=args.smoothing,
                          background=args.background, mask=args.mask,
                          highpass_length=args.highpass_length, source=source)
     tab = res["table"]
@@ -140,7 +141,7 @@ def _cmd_image_series(args):
 
 
 def _cmd_compare(args):
-    from thinfilm.analysis.compare import compare_run
+    from thinfilm.render.compare_plot import compare_run
 
     tc = _temperature(args.tc_measured, "--tc-measured") if args.tc_measured else None
     tc_err = _temperature(args.tc_measured_error, "--tc-measured-error") \

@@ -7,9 +7,10 @@ import numpy as np
 import pytest
 
 from thinfilm._io import write_csv, write_json
-from thinfilm.analysis.compare import compare_run, thermometer_offset
+from thinfilm.analysis.compare import thermometer_offset
 from thinfilm.cli import main
 from thinfilm.input.errors import InputError
+from thinfilm.render.compare_plot import compare_run
 from thinfilm.render.html_report import markdown_to_html, write_html_report
 
 

@@ -14,6 +14,7 @@ from thinfilm.analysis.image_series import (
 )
 from thinfilm.cli import main
 from thinfilm.input.errors import InputError
+from thinfilm.render.series_plot import write_image_series
 
 PIX = 2.0  # nm
 
@@ -44,7 +45,7 @@ def test_series_of_oz_fields_recovers_xi_against_temperature(tmp_path):
     rises with temperature; no period is claimed for an OZ field (no peak in S(k))."""
     xis = (2.5, 5.0, 10.0)
     idx = _series(tmp_path, xis)
-    res = analyse_series(read_index(idx), tmp_path / "out")
+    res = write_image_series(read_index(idx), tmp_path / "out")
     tab = res["table"]
     got = np.array(tab["correlation_length_nm"])
     err = np.array(tab["correlation_length_nm_err"])

@@ -195,8 +195,8 @@ def _extras(path, pixel_size, out_dir, level, smoothing, background, mask, highp
 
 def analyse_series(rows, out_dir, *, level=0.0, smoothing=None, background="plane", mask=None,
                    highpass_length=None, source=""):
-    """Analyse every image of a series; write ``image_series.csv``, ``image_series.json`` and
-    ``image_series.png`` (with ``captions.md``) into ``out_dir``.
+    """Analyse every image of a series; write ``image_series.csv`` and ``image_series.json``
+    into ``out_dir`` (the figure: :func:`thinfilm.render.series_plot.write_image_series`).
 
     Parameters
     ----------
@@ -208,7 +208,7 @@ def analyse_series(rows, out_dir, *, level=0.0, smoothing=None, background="plan
     Returns
     -------
     dict
-        columns (list of str) and table (dict column -> list), figure path.
+        columns (list of str) and table (dict column -> list).
     """
     out = Path(out_dir)
     table = {c: [] for c in SERIES_COLUMNS}
@@ -225,14 +225,11 @@ def analyse_series(rows, out_dir, *, level=0.0, smoothing=None, background="plan
             table[c].append(math.nan if v is None else v)
     _io.write_csv(out / "image_series.csv", SERIES_COLUMNS,
                   [[table[c][k] for c in SERIES_COLUMNS] for k in range(len(rows))])
-    from thinfilm.render.series_plot import plot_series
-
-    png = plot_series(table, out)
     _io.write_json(out / "image_series.json", {
         "source": source, "n_images": len(rows), "pixel_size": rows[0][2],
         "options": {"level": level, "smoothing": smoothing, "background": background,
                     "mask": None if mask is None else str(mask),
                     "highpass_length": highpass_length},
         "errors": __doc__.split("Errors:")[1].split("Wall length:")[0].strip(),
-        "figure": png.name, "table": "image_series.csv"})
-    return {"columns": SERIES_COLUMNS, "table": table, "figure": png}
+        "table": "image_series.csv"})
+    return {"columns": SERIES_COLUMNS, "table": table}

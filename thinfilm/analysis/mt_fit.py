@@ -19,8 +19,7 @@ from scipy import optimize, stats
 
 from thinfilm.input.errors import InputError
 
-__all__ = ["CLASSES", "power_law_fit", "fit_magnetisation", "fit_magnetisation_file", "verdict",
-           "noise_level"]
+__all__ = ["CLASSES", "power_law_fit", "fit_magnetisation", "verdict", "noise_level"]
 
 # (name, beta, uncertainty of the reference value, source)
 CLASSES = (
@@ -288,33 +287,3 @@ def verdict(beta, err, t_lo=None, t_hi=None):
     res["text"] = " ".join(lines)
     return res
 
-
-def fit_magnetisation_file(path, out_dir, *, window=None, correction="auto", delta=1.0,
-                           t_max=0.3, signal=None, error=None):
-    """Read a CSV, fit it, write ``mt_fit.json``, ``mt_fit_windows.csv`` and ``mt_fit.png``.
-
-    Parameters are those of :func:`read_curve` and :func:`fit_magnetisation`; returns the
-    result dict (without the raw arrays).
-    """
-    from pathlib import Path
-
-    from thinfilm import _io
-    from thinfilm.analysis.mt_table import read_curve
-    from thinfilm.render.mt_plot import plot_mt_fit
-
-    curve = read_curve(path, signal=signal, error=error)
-    res = fit_magnetisation(curve, window=window, correction=correction, delta=delta,
-                            t_max=t_max)
-    out = Path(out_dir)
-    png = plot_mt_fit(curve, res, out)
-    cols = ["T_low_K", "T_high_K", "n", "tc_K", "beta", "beta_err", "p_value", "correction",
-            "acceptable"]
-    _io.write_csv(out / "mt_fit_windows.csv", cols, [[w[c] for c in cols]
-                                                     for w in res["windows"]])
-    keep = {k: v for k, v in res.items() if k not in ("fit", "signal_err_used", "windows")}
-    keep.update({"source": str(path), "signal_name": curve["signal_name"],
-                 "signal_unit": curve["signal_unit"], "figure": png.name,
-                 "classes": [{"name": n, "beta": b, "beta_err": e, "source": s}
-                             for n, b, e, s in CLASSES]})
-    _io.write_json(out / "mt_fit.json", keep)
-    return keep

@@ -12,7 +12,7 @@ replaces ``exchange`` (lattice form) or ``stiffness`` (continuum form); see
 from thinfilm.input.calibration import continuum_from_tc, exchange_from_tc
 from thinfilm.input.errors import InputError
 
-__all__ = ["KEY", "read_curie"]
+__all__ = ["KEY", "read_curie", "lattice_exchange", "continuum_stiffness"]
 
 KEY = "curie_temperature"
 
@@ -29,8 +29,17 @@ def read_curie(m):
     return m.quantity(KEY, "temperature", required=True, positive=True), 0.0
 
 
+def _exclusive(m, other):
+    if m.has(KEY) and m.has(other):
+        raise m.error(f"give either {other} or {KEY} (which sets it from a measured Tc), not "
+                      "both", KEY)
+
+
 def lattice_exchange(m, lat, anisotropy_J, dipolar):
-    """J (J per bond) and the calibration record, for the lattice form."""
+    """J (J per bond) and the calibration record (None when ``exchange`` is given)."""
+    _exclusive(m, "exchange")
+    if not m.has(KEY):
+        return m.quantity("exchange", "energy", required=True), None
     _refuse_dipolar(m, dipolar)
     tc, err = read_curie(m)
     try:
@@ -41,7 +50,10 @@ def lattice_exchange(m, lat, anisotropy_J, dipolar):
 
 
 def continuum_stiffness(m, lat, ku, ms, t, shape_aniso, dipolar):
-    """A (J/m) and the calibration record, for the continuum form."""
+    """A (J/m) and the calibration record (None when ``stiffness`` is given)."""
+    _exclusive(m, "stiffness")
+    if not m.has(KEY):
+        return m.quantity("stiffness", "stiffness", required=True, nonneg=True), None
     _refuse_dipolar(m, dipolar)
     tc, err = read_curie(m)
     try:

@@ -13,8 +13,7 @@ from types import SimpleNamespace
 import numpy as np
 import yaml
 
-from thinfilm.input.calibration_spec import KEY as CURIE
-from thinfilm.input.calibration_spec import continuum_stiffness, lattice_exchange
+from thinfilm.input import calibration_spec as curie
 from thinfilm.input.continuum import continuum_to_lattice
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
@@ -83,12 +82,9 @@ def _material(r, lat):
     m = r.sub("material", required=True)
     continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
-    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", CURIE})
+    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", curie.KEY})
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
-    if m.has(CURIE) and (m.has("exchange") or m.has("stiffness")):
-        raise m.error(f"give either {'exchange' if m.has('exchange') else 'stiffness'} or "
-                      f"{CURIE} (which sets it from a measured Tc), not both", CURIE)
     if given_c and given_l:
         raise m.error(
             f"give either lattice parameters (moment, exchange, anisotropy) or continuum parameters "
@@ -99,11 +95,7 @@ def _material(r, lat):
         t = m.quantity("thickness", "length", required=True, positive=True)
         dipolar, dip_t = parse_dipolar(m, lat, t)
         shape_aniso = m.flag("shape_anisotropy", default=False)
-        calib = None
-        if m.has(CURIE):  # stiffness from a measured Tc (thinfilm.input.calibration)
-            a, calib = continuum_stiffness(m, lat, ku, ms, t, shape_aniso, dipolar)
-        else:
-            a = m.quantity("stiffness", "stiffness", required=True, nonneg=True)
+        a, calib = curie.continuum_stiffness(m, lat, ku, ms, t, shape_aniso, dipolar)
         if dipolar and shape_aniso:
             raise m.error("shape_anisotropy: true folds the thin-film demagnetising energy into K, "
                           "and dipolar: true computes it from the moments: together they count it "
@@ -115,11 +107,9 @@ def _material(r, lat):
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
                 "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
                 "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
-        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t,
-                            calibration=calib)
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, calib)
     dipolar, dip_t = parse_dipolar(m, lat)
     mu = m.quantity("moment", "moment", required=True, positive=True)
-    jj = None if m.has(CURIE) else m.quantity("exchange", "energy", required=True)
     aniso = m.raw("anisotropy")
     if aniso is None:
         kk, axis = 0.0, np.array([0.0, 0.0, 1.0])
@@ -130,11 +120,8 @@ def _material(r, lat):
         axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
-    calib = None
-    if jj is None:  # exchange from a measured Tc (thinfilm.input.calibration)
-        jj, calib = lattice_exchange(m, lat, kk, dipolar)
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t,
-                        calibration=calib)
+    jj, calib = curie.lattice_exchange(m, lat, kk, dipolar)  # given, or from a measured Tc
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t, calib)
 
 
 def _lattice(r):

@@ -1,11 +1,18 @@
-"""Figure of a critical fit of a measured M(T): the curve with its fit, and log M vs log t."""
+"""Critical fit of a measured M(T) file: its figure (the curve with the fit, and log M vs
+log t) and its output files."""
+
+from pathlib import Path
 
 import numpy as np
+
+from thinfilm import _io
+from thinfilm.analysis.mt_fit import CLASSES, _model, fit_magnetisation
+from thinfilm.analysis.mt_table import read_curve
 
 from .captions import write_captions
 from .layout import OKABE_ITO, new_figure, save_png, shared_legend
 
-__all__ = ["plot_mt_fit"]
+__all__ = ["plot_mt_fit", "write_mt_fit"]
 
 
 def plot_mt_fit(curve, res, out_dir, name="mt_fit.png"):
@@ -24,8 +31,6 @@ def plot_mt_fit(curve, res, out_dir, name="mt_fit.png"):
     -------
     Path of the PNG.
     """
-    from thinfilm.analysis.mt_fit import _model
-
     T = np.asarray(curve["temperature_K"], dtype=float)
     M = res["sign"] * np.asarray(curve["signal"], dtype=float)
     e = res["signal_err_used"]
@@ -72,3 +77,30 @@ def plot_mt_fit(curve, res, out_dir, name="mt_fit.png"):
         "fitted Tc. Right: the same points against the reduced temperature t = 1 - T/Tc on "
         "log axes, where a pure power law is a straight line of slope beta.")})
     return path
+
+
+def write_mt_fit(path, out_dir, *, window=None, correction="auto", delta=1.0,
+                           t_max=0.3, signal=None, error=None):
+    """Read a measured M(T) CSV, fit it, write ``mt_fit.json``, ``mt_fit_windows.csv`` and
+    ``mt_fit.png`` (with ``captions.md``) into ``out_dir``.
+
+    Parameters are those of :func:`thinfilm.analysis.mt_table.read_curve` and
+    :func:`thinfilm.analysis.mt_fit.fit_magnetisation`; returns the result dict (without the
+    raw arrays).
+    """
+    curve = read_curve(path, signal=signal, error=error)
+    res = fit_magnetisation(curve, window=window, correction=correction, delta=delta,
+                            t_max=t_max)
+    out = Path(out_dir)
+    png = plot_mt_fit(curve, res, out)
+    cols = ["T_low_K", "T_high_K", "n", "tc_K", "beta", "beta_err", "p_value", "correction",
+            "acceptable"]
+    _io.write_csv(out / "mt_fit_windows.csv", cols, [[w[c] for c in cols]
+                                                     for w in res["windows"]])
+    keep = {k: v for k, v in res.items() if k not in ("fit", "signal_err_used", "windows")}
+    keep.update({"source": str(path), "signal_name": curve["signal_name"],
+                 "signal_unit": curve["signal_unit"], "figure": png.name,
+                 "classes": [{"name": n, "beta": b, "beta_err": e, "source": s}
+                             for n, b, e, s in CLASSES]})
+    _io.write_json(out / "mt_fit.json", keep)
+    return keep

@@ -2,10 +2,12 @@
 
 import numpy as np
 
+from thinfilm.analysis.image_series import analyse_series
+
 from .captions import definition_list, write_captions
 from .layout import MARKERS, OKABE_ITO, new_figure, save_png, shared_legend
 
-__all__ = ["plot_series"]
+__all__ = ["plot_series", "write_image_series"]
 
 
 def _eb(ax, t, table, col, k, label):
@@ -69,3 +71,11 @@ def plot_series(table, out_dir, name="image_series.png"):
                                  ("wall length / area", "1/um", "opposite-sign pixel pairs x "
                                   "pixel x pi/4 per valid area")])})
     return path
+
+
+def write_image_series(rows, out_dir, **options):
+    """:func:`thinfilm.analysis.image_series.analyse_series` and its figure
+    ``image_series.png``; returns its dict with ``figure`` (the PNG path) added."""
+    res = analyse_series(rows, out_dir, **options)
+    res["figure"] = plot_series(res["table"], out_dir)
+    return res
