@@ -33,10 +33,10 @@ def _cmd_fit_mt(args):
     lo, hi = res["window_K"]
     print(f"M(T) fit of {args.file} ({res['signal_name']}, {res['signal_unit']}): "
           f"{res['n_points']} points in {lo:g} .. {hi:g} K ({res['window_how']})")
-    print(f"  Tc   = {res['tc_K']:.5g} +- {res['tc_err_K']:.2g} K (fit); window sensitivity "
+    print(f"  Tc   = {_digits(res['tc_K'], res['tc_err_K'])} K (fit); window sensitivity "
           f"+- {res['tc_window_K']:.2g} K")
-    print(f"  beta = {res['beta']:.3f} +- {res['beta_err']:.3f} (fit); window sensitivity "
-          f"+- {res['beta_window']:.3f}")
+    print(f"  beta = {_digits(res['beta'], res['beta_err'])} (fit); window sensitivity "
+          f"+- {res['beta_window']:.2g}")
     if res["correction"]:
         print(f"  correction term (1 + b t^{res['delta']:g}) kept: b = {res['correction_b']:.3g}")
     print(f"  chi^2 = {res['chi2']:.3g} for {res['dof']} degrees of freedom (p = "
