@@ -49,7 +49,10 @@ def plot_mt_fit(curve, res, out_dir, name="mt_fit.png"):
     tt = np.linspace(T[0], p[1], 400)[:-1]
     fitlab = (rf"fit: $T_c$ = {res['tc_K']:.4g} K, $\beta$ = {res['beta']:.3f}"
               + (r", with $(1 + b\,t^{\Delta})$" if res["correction"] else ""))
-    ax.plot(tt, _model(p, tt, res["delta"]), color=OKABE_ITO[1], lw=1.4, label=fitlab)
+    win = tt >= lo
+    ax.plot(tt[win], _model(p, tt[win], res["delta"]), color=OKABE_ITO[1], lw=1.4, label=fitlab)
+    ax.plot(tt[~win], _model(p, tt[~win], res["delta"]), color=OKABE_ITO[1], lw=0.9, ls="--",
+            label="fit continued outside its window")
     ax.axvline(res["tc_K"], color=OKABE_ITO[1], ls=":", lw=1)
     ax.set_xlabel("T (K)")
     ax.set_ylabel(f"{label} ({unit})" if res["sign"] > 0 else f"-{label} ({unit})")
@@ -62,7 +65,11 @@ def plot_mt_fit(curve, res, out_dir, name="mt_fit.png"):
     ax.errorbar(t[ok & inside], M[ok & inside], e[ok & inside], fmt="o", ms=3,
                 color=OKABE_ITO[0], lw=0.8)
     tl = np.geomspace(max(t[ok].min(), 1e-6), t[ok].max(), 200)
-    ax.plot(tl, _model(p, res["tc_K"] * (1 - tl), res["delta"]), color=OKABE_ITO[1], lw=1.4)
+    t_hi = 1 - lo / res["tc_K"]
+    ax.plot(tl[tl <= t_hi], _model(p, res["tc_K"] * (1 - tl[tl <= t_hi]), res["delta"]),
+            color=OKABE_ITO[1], lw=1.4)
+    ax.plot(tl[tl > t_hi], _model(p, res["tc_K"] * (1 - tl[tl > t_hi]), res["delta"]),
+            color=OKABE_ITO[1], lw=0.9, ls="--")
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_xlabel(r"$t = 1 - T/T_c$ (fitted $T_c$)")
@@ -74,7 +81,8 @@ def plot_mt_fit(curve, res, out_dir, name="mt_fit.png"):
         f"Left: the measured {label} ({unit}) against temperature (K), error bars "
         f"({res['error_source']}); shaded: the fit window {lo:g} .. {hi:g} K; line: the fitted "
         f"M0 (1 - T/Tc)^beta{' (1 + b t^Delta)' if res['correction'] else ''}; dotted: the "
-        "fitted Tc. Right: the same points against the reduced temperature t = 1 - T/Tc on "
+        "fitted Tc; dashed: the fit continued outside its window. Right: the same points "
+        "against the reduced temperature t = 1 - T/Tc on "
         "log axes, where a pure power law is a straight line of slope beta.")})
     return path
 
