@@ -28,10 +28,11 @@ import numpy as np
 
 from thinfilm import _io
 from thinfilm.analysis.domains import label_domains
-from thinfilm.analysis.imaging import _length_nm, analyse_image, load_image
+from thinfilm.analysis.imaging import analyse_image, load_image
 from thinfilm.analysis.mt_table import split_header, temperature_kelvin
 from thinfilm.analysis.patterns import stripe_orientation, stripe_period
 from thinfilm.input.errors import InputError
+from thinfilm.input.units import parse_quantity
 
 __all__ = ["read_index", "index_from_folder", "wall_length_per_area", "analyse_series",
            "SERIES_COLUMNS"]
@@ -120,6 +121,17 @@ def index_from_folder(folder, pattern, *, pixel_size):
     return _checked(rows, f"{folder}/{pattern}")
 
 
+def _length_nm(text, what, where):
+    """A positive length with unit ("5 nm") in nm, or a one-paragraph InputError."""
+    try:
+        value = parse_quantity(text, "length") * 1e9
+    except ValueError as exc:
+        raise InputError(f"{where}: {what} {text!r} is not a length: {exc}") from None
+    if not value > 0:
+        raise InputError(f"{where}: {what} must be a positive length; got {text!r}")
+    return value
+
+
 def _checked(rows, where):
     sizes = {}
     for f, _, p in rows:
@@ -170,10 +182,11 @@ def _extras(path, pixel_size, out_dir, level, smoothing, background, mask, highp
     wall = wall_length_per_area(smap, valid, pixel_nm)
     ws = [wall_length_per_area(a, b, pixel_nm)
           for a, b in zip(_quadrants(smap), _quadrants(valid), strict=True)]
-    areas = []
-    sizes = Path(out_dir) / "domain_sizes.csv"
-    with sizes.open() as fh:
-        areas = np.array([float(r["area_nm2"]) for r in csv.DictReader(fh)])
+    areas = np.array([])
+    sizes = Path(out_dir) / "domain_sizes.csv"  # written by analyse_image
+    if sizes.is_file():
+        with sizes.open() as fh:
+            areas = np.array([float(r["area_nm2"]) for r in csv.DictReader(fh)])
     # a period only where S(k) peaks away from the smallest rings (else: not determined)
     kb, sr = per["k_bins_per_nm"], per["s_radial"]
     sel = (kb > 0) & (kb < 0.5 * per["k_peak_per_nm"])
