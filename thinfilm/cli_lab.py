@@ -57,6 +57,7 @@ def _quantity(text, kind, what):
 
 def _cmd_calibrate(args):
     from thinfilm.input.calibration import (
+        ISING_TC,
         TABLE_PATH,
         calibration_table,
         continuum_from_tc,
@@ -69,6 +70,8 @@ def _cmd_calibrate(args):
         for shape, (x, t, e) in sorted(tab.items()):
             for a, b, c in zip(x, t, e, strict=True):
                 print(f"  {shape:10s} K/J = {a:<7g} kB Tc/J = {_digits(b, c)}")
+            print(f"  {shape:10s} K/J = inf     kB Tc/J = {ISING_TC[shape]:.6f} (exact Ising "
+                  "limit, --anisotropy ising)")
         return 0
     if not args.tc:
         raise InputError("calibrate: give --tc (the measured Curie temperature, e.g. "
