@@ -25,7 +25,7 @@ Every measured point is cached in a JSON-lines file, so an interrupted run conti
 stopped (same command). The table is rewritten atomically after each (lattice, K/J) point.
 
 Run: ``python validation/tc_anisotropy_table.py [--lattices square,...] [--ratios 1,0.1,...]
-[--samples N] [--cache FILE] [--output CSV]``.
+[--samples N] [--cache FILE] [--output CSV]``; ``--plot FILE.png`` only draws the table.
 """
 
 import argparse
@@ -156,6 +156,31 @@ def write_table(path, rows):
     _io.write_csv(path, COLUMNS, [[r[c] for c in COLUMNS] for r in rows])
 
 
+def plot_table(csv_path, png_path):
+    """Figure of the table: kB Tc/J against K/J per lattice, the exact Ising limits (dashed) and
+    the Torelli-Olsen fit (thin lines, the window guess)."""
+    from thinfilm.input.calibration import calibration_table
+    from thinfilm.render.layout import OKABE_ITO, new_figure, save_png, shared_legend
+
+    tab = calibration_table(Path(csv_path))
+    fig, ax = new_figure(1, 1, 6.0, 4.0)
+    ax = ax[0]
+    xs = np.geomspace(1e-3, 30, 200)
+    for k, shape in enumerate(("square", "triangular", "honeycomb")):
+        c = OKABE_ITO[k]
+        if shape in tab:
+            x, t, e = tab[shape]
+            ax.errorbar(x, t, e, fmt="o", ms=4, color=c, capsize=2, label=f"{shape}: table")
+        ax.plot(xs, [guess(shape, v) for v in xs], color=c, lw=0.7,
+                label=f"{shape}: Torelli-Olsen fit")
+        ax.axhline(ISING[shape], color=c, ls="--", lw=0.8, label=f"{shape}: Ising limit (exact)")
+    ax.set_xscale("log")
+    ax.set_xlabel("K/J (single-ion anisotropy per site / exchange per bond)")
+    ax.set_ylabel(r"$k_B T_c / J$")
+    shared_legend(fig, ncols=3)
+    return save_png(fig, png_path)
+
+
 def main(argv=None):
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--lattices", default="square,triangular,honeycomb")
@@ -163,7 +188,11 @@ def main(argv=None):
     p.add_argument("--samples", type=int, default=12000, help="samples per fine point")
     p.add_argument("--cache", default=str(ROOT / "outputs" / "tc_anisotropy_cache.jsonl"))
     p.add_argument("--output", default=str(ROOT / "thinfilm" / "data" / "tc_anisotropy.csv"))
+    p.add_argument("--plot", default=None, help="only draw the table into this PNG")
     args = p.parse_args(argv)
+    if args.plot:
+        print(plot_table(args.output, args.plot))
+        return
     cache = Cache(args.cache)
     out = Path(args.output)
     rows = {}
