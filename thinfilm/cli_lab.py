@@ -267,4 +267,7 @@ def print_calibration(c, prefix="  "):
     if "stiffness_J_per_m" in c:
         a, e = c["stiffness_J_per_m"] * 1e12, c["stiffness_err_J_per_m"] * 1e12
         print(f"{pad}A = {_digits(a, e)} pJ/m (continuum film)")
-    print(f"{pad}origin: {c['origin']}; the error carries the errors of Tc and of the table")
+    origin, _, caution = c["origin"].partition("; caution: ")
+    print(f"{pad}origin: {origin}; the error carries the errors of Tc and of the table")
+    if caution:
+        print(f"{pad}caution: {caution}")
