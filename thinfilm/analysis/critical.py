@@ -191,7 +191,11 @@ def tc_from_peaks(temps, values, errs, *, n_local=5, n_boot=500, seed=0):
     """Temperature of the maximum of a curve (susceptibility or specific heat).
 
     A weighted parabola is fitted to the ``n_local`` points centred on the largest value; its
-    vertex (kept inside the fit window) is the peak. Error by parametric bootstrap.
+    vertex (kept inside the fit window) is the peak. Error: parametric bootstrap, combined with
+    the distance to the vertex of the three points about the maximum (the parabola's model
+    error). When the parabola's maximum lies more than two errors below the largest point, the
+    peak is too sharp for it: the largest point is the peak, its position known to half the
+    temperature step.
 
     Parameters
     ----------
@@ -201,7 +205,8 @@ def tc_from_peaks(temps, values, errs, *, n_local=5, n_boot=500, seed=0):
     Returns
     -------
     dict
-        tc_K, tc_err_K, method ("peak"), peak_value, peak_value_err, at_edge.
+        tc_K, tc_err_K, method ("peak"), peak_value, peak_value_err, at_edge, peak_form
+        ("parabola" or "largest point").
 
     Warns
     -----
@@ -223,8 +228,20 @@ def tc_from_peaks(temps, values, errs, *, n_local=5, n_boot=500, seed=0):
     bv = np.empty(n_boot)
     for r in range(n_boot):
         bt[r], bv[r] = _vertex(t, v + e * rng.standard_normal(t.size), e, idx)
-    return {"tc_K": tc, "tc_err_K": float(bt.std(ddof=1)), "method": "peak",
-            "peak_value": peak, "peak_value_err": float(bv.std(ddof=1)), "at_edge": at_edge}
+    err, peak_err, form = float(bt.std(ddof=1)), float(bv.std(ddof=1)), "parabola"
+    # a parabola that passes far below the largest point does not describe the peak (too
+    # sharp for the window): take the largest point, its position known to half a step
+    if peak < v[k] - 2.0 * e[k]:
+        half = 0.5 * max(t[min(k + 1, t.size - 1)] - t[k], t[k] - t[max(k - 1, 0)])
+        tc, peak, form = float(t[k]), float(v[k]), "largest point"
+        err, peak_err = max(err, half), float(e[k])
+    elif n >= 5 and not at_edge:
+        # model error: the vertex of the 3 points about the maximum against the wider fit
+        lo3 = min(max(k - 1, 0), t.size - 3)
+        t3, _ = _vertex(t, v, e, np.arange(lo3, lo3 + 3))
+        err = float(np.hypot(err, t3 - tc))
+    return {"tc_K": tc, "tc_err_K": err, "method": "peak", "peak_value": peak,
+            "peak_value_err": peak_err, "at_edge": at_edge, "peak_form": form}
 
 
 def table_from_results(results):
