@@ -8,7 +8,8 @@ run on the sweep table, and each estimate is checked against the data it stands 
   significantly negative above it, and, for an easy-axis film (2D Ising class), when U4 of
   the larger size falls through the universal value U* = 0.61069 within the sweep;
 * a susceptibility peak counts only when points on both sides lie significantly (> 2
-  combined standard errors) below the largest value;
+  combined standard errors) below the largest value and, for an easy-axis film, U4 of that
+  size falls through U* across it;
 * the U4 collapse counts when a crossing counts and the collapse's Tc lies inside the sweep.
 
 :data:`RULE` says which counted estimate becomes Tc. Its error combines the estimate's
@@ -197,7 +198,7 @@ def _drift(pairs):
                     f"the error"}
 
 
-def _peak(d, L, n_boot, seed, in_error):
+def _peak(d, L, n_boot, seed, in_error, ising=False):
     from thinfilm.analysis.critical import tc_from_peaks
 
     t, chi, err = d["temperature_K"], _col(d, "susceptibility"), _col(d, "susceptibility_err")
@@ -228,6 +229,12 @@ def _peak(d, L, n_boot, seed, in_error):
             reasons.append("no point below it is significantly lower")
         if not lower[k + 1:].any():
             reasons.append("no point above it is significantly lower")
+    u = _col(d, "binder")[ok]
+    fu = np.isfinite(u)
+    if ising and fu.any() and not (np.any(u[fu & (t < r["tc_K"])] > U_STAR_ISING)
+                                   and np.any(u[fu & (t > r["tc_K"])] < U_STAR_ISING)):
+        reasons.append(f"U4 of L = {L} does not fall through the universal value "
+                       f"{U_STAR_ISING:g} across it")
     entry["bracketed"] = not reasons
     if reasons:
         entry["note"] = "not bracketed: " + "; ".join(reasons)
@@ -401,7 +408,8 @@ def choose_tc(table, *, anisotropy=None, mode=None, n_boot=400, seed=0):
     if drift:
         entries.append(drift)
     for i, L in enumerate(sizes):
-        entries.append(_peak(table[L], L, n_boot, seed + 101 + i, in_error=(L == sizes[-1])))
+        entries.append(_peak(table[L], L, n_boot, seed + 101 + i, in_error=(L == sizes[-1]),
+                             ising=ising))
     counted_pairs = [p for p in pairs if p["bracketed"]]
     if drift:
         chosen = drift

@@ -2,6 +2,9 @@
 
 import numpy as np
 
+from thinfilm._numbers import fmt_pm
+from thinfilm.analysis.tc_rule import tc_text
+
 __all__ = ["beyond_figure", "beyond_caption", "beyond_lines"]
 
 BLUE, VERMILION, SKY, GREY = "#0072B2", "#D55E00", "#56B4E9", "#7F7F7F"
@@ -58,8 +61,8 @@ def beyond_figure(plan, path):
 
 def beyond_caption(plan):
     """Caption markdown of the figure."""
-    return ("Correlation length against the reduced distance from Tc = "
-            f"{plan['tc_K']:.4g} K on log axes. Markers: the fitted form at the sweep's "
+    return ("Correlation length against the reduced distance from Tc on log axes ("
+            f"{tc_text(plan.get('tc') or plan)}). Markers: the fitted form at the sweep's "
             "temperatures (the lattice points the fit uses have a film side of at least 6 ξ); "
             "lines and bands: the fit ξ = A |t|^-ν (1 + c |t|) extrapolated beyond the lattice, "
             "with one standard error (the error of Tc included); it stops where the error exceeds "
@@ -69,15 +72,6 @@ def beyond_caption(plan):
             "on Tc and its error. Values: extrapolation.csv.")
 
 
-def _beyond_summary(plan):
-    hw = (plan.get("extrapolation") or {}).get("resolved_halfwidth_K") or {}
-    if not hw:
-        return []
-    w = max(v[0] for v in hw.values())
-    return [f"  beyond       xi > {plan['instrument']['resolution_nm']:g} nm only within about "
-            f"{w:.3g} K of Tc (extrapolated from the lattice; extrapolation.csv)"]
-
-
 def beyond_lines(plan):
     """plan.md section: what is measured on the lattice and what is extrapolated beyond it."""
     b = plan.get("extrapolation") or {}
@@ -85,9 +79,10 @@ def beyond_lines(plan):
     c = b.get("collapse")
     if c:
         u = c["universality"]
-        out.append(f"- Finite-size scaling collapse of U4 (sizes {c['sizes']}): Tc = "
-                   f"{c['tc_K']:.4g} +- {c['tc_err_K']:.2g} K, nu = {c['nu']:.3g} +- {c['nu_err']:.2g}, "
-                   f"chi2/dof = {c['chi2_dof']:.2g}. {u.get('verdict', '')}")
+        out.append(f"- Finite-size scaling collapse of U4 (sizes {c['sizes']}): nu = "
+                   f"{fmt_pm(c['nu'], c['nu_err'], unit='')}, chi2/dof = {c['chi2_dof']:.2g} "
+                   f"(its Tc is one of the cross-checks of Tc under Answers). "
+                   f"{u.get('verdict', '')}")
     elif b.get("collapse_refused"):
         out.append(f"- No scaling collapse: {b['collapse_refused']}")
     if b.get("extrapolation_refused"):
@@ -103,19 +98,19 @@ def beyond_lines(plan):
                    f"extrapolation stops where the relative error exceeds "
                    f"{fit['rule']['max_rel_err']:g} or xi exceeds {fit['rule']['max_factor']:g} x "
                    f"the largest fitted value (values there are refused).")
-    w = b.get("resolved_window")
-    if w:
-        edges = w.get("window_K") or [None, None]
-        txt = [f"{e:.5g} K" if e is not None else "refused" for e in edges]
-        out.append(f"- xi exceeds the resolution ({b['resolution_nm']:g} nm) between {txt[0]} and "
-                   f"{txt[1]} (extrapolated; reasons for refused edges: "
-                   f"{'; '.join(f'{k}: {v}' for k, v in (w.get('reasons') or {}).items() if v) or 'none'}).")
+    if plan.get("resolved_window_extrapolated"):
+        out.append("- The resolved window under Answers is Tc -+ the half-widths below "
+                   "(extrapolated: the lattice's xi never reaches the resolution).")
+    elif plan.get("resolved_window_K") is not None:
+        out.append("- The resolved window under Answers is read from the lattice (smoothed "
+                   "second-moment xi against the resolution); the half-widths below are the "
+                   "extrapolation's, a different method, not used for it.")
     hw = b.get("resolved_halfwidth_K") or {}
     if hw:
-        out.append("- Half-width of that window about Tc (from the fitted amplitude, independent of "
-                   "the error of Tc): " + ", ".join(
-                       f"{s} Tc {v[0]:.3g} K" + (f" +- {v[1]:.2g} K" if v[1] is not None else "")
-                       for s, v in hw.items()) + ".")
+        out.append("- Half-width about Tc of the window where the extrapolated xi exceeds the "
+                   "resolution (from the fitted amplitude, independent of the error of Tc): "
+                   + ", ".join(
+                       f"{s} Tc {fmt_pm(v[0], v[1])}" for s, v in hw.items()) + ".")
     if b.get("tc_note"):
         out.append(f"- Note: {b['tc_note']}.")
     return out
