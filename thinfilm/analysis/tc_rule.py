@@ -490,13 +490,15 @@ def tc_text(rec, *, pm="+-", symbol="Tc"):
 
 
 def cross_check_lines(rec):
-    """One line per cross-check: 'Binder crossing L = 16/32: 42.02 +- 0.14 K (counted)'."""
+    """One line per cross-check: 'Binder crossing L = 16/32: 42.02 +- 0.14 K (counted, inside
+    the error)'; smaller sizes' peaks are bracketed but not in the error."""
     out = []
     for e in (rec or {}).get("cross_checks") or []:
         if e.get("chosen"):
             continue
         val = _fmt(e["tc_K"], e.get("tc_err_K")) if e.get("tc_K") is not None else "none"
-        state = "counted" if e.get("bracketed") else "not counted"
+        state = ("counted, inside the error" if e.get("bracketed") and e.get("in_error")
+                 else "bracketed, not in the error" if e.get("bracketed") else "not counted")
         note = f"; {e['note']}" if e.get("note") else ""
         out.append(f"{e['label']}: {val} ({state}{note})")
     return out

@@ -80,19 +80,19 @@ def resolved_note(plan):
     """Plain-language note on the resolved window (always set; essential when it is empty)."""
     res = plan["instrument"]["resolution_nm"]
     if plan["resolved_window_K"] is None:
-        return (f"the resolution ({res:g} nm) is coarser than every simulated correlation length "
+        return (f"The resolution ({res:g} nm) is coarser than every simulated correlation length "
                 f"({_max_xi_text(plan)}): the instrument cannot resolve the critical "
                 f"fluctuations of this film; the pattern will appear uniform grey above Tc, and "
                 f"below it only domains larger than {res:g} nm are visible.")
     lo, hi = plan["resolved_window_K"]
     if plan.get("resolved_window_extrapolated"):
-        return (f"the simulated lattice holds correlation lengths up to "
+        return (f"The simulated lattice holds correlation lengths up to "
                 f"{plan['max_correlation_length_nm']:.2g} nm only; extrapolated beyond it (fit "
                 f"of xi against T, see 'Beyond the lattice'), xi exceeds the resolution "
                 f"({res:g} nm) within the window above, about {fmt_value(hi - lo, None, 2)} K "
                 f"wide about Tc: step by less than that near Tc to see the critical "
                 f"fluctuations (if the exposure is short enough to freeze them).")
-    return (f"within the window above the correlation length exceeds the resolution "
+    return (f"Within the window above the correlation length exceeds the resolution "
             f"({res:g} nm; {_max_xi_text(plan)}): the critical fluctuations are resolvable "
             f"there (if the exposure is short enough to freeze them).")
 
@@ -105,9 +105,11 @@ def _tc_lines(plan):
         out = [f"- **Tc not determined** ({tc['status'].replace('_', ' ')}): {tc['message']}",
                f"- **What to change**: {tc['fix']}."]
     else:
-        out = [f"- **{_tc(plan)}**; the error covers the other counted estimates "
-               f"(statistical {fmt_value(tc['tc_stat_err_K'], None, 2)} K, spread of the "
-               f"methods {fmt_value(tc['tc_sys_err_K'], None, 2)} K)."]
+        spread = (f"; the error covers the other counted estimates (statistical "
+                  f"{fmt_value(tc['tc_stat_err_K'], None, 2)} K, spread of the methods "
+                  f"{fmt_value(tc['tc_sys_err_K'], None, 2)} K)" if tc.get("tc_sys_err_K")
+                  else "; no other estimate is counted (statistical error only)")
+        out = [f"- **{_tc(plan)}**{spread}."]
     checks = cross_check_lines(tc)
     if checks:
         out.append("- Cross-checks of Tc (other methods; not the plan's Tc):")
@@ -249,7 +251,7 @@ def figures(plan, out):
     ax.errorbar(t, c["correlation_length_nm"], yerr=c["correlation_length_err_nm"], fmt="o",
                 color=BLUE, ms=4, label=r"$\xi$ (second moment)")
     if "correlation_length_smoothed_nm" in c:
-        ax.plot(t, c["correlation_length_smoothed_nm"], "-", color=BLUE, lw=1.2,
+        ax.plot(t, c["correlation_length_smoothed_nm"], "-", color="k", lw=0.8,
                 label=r"$\xi$ smoothed (the plan's curve)")
     ax.plot(t, c["mean_domain_diameter_nm"], "s--", color=GREEN, ms=4, label="mean domain d")
     ax.plot(t, c["typical_domain_diameter_nm"], "^:", color=PURPLE, ms=4, label="typical domain d")
