@@ -75,13 +75,24 @@ def _crossing_deg(t, ua, ea, ub, eb, idx, degree, t_guess):
     return float(r), float(np.polynomial.polynomial.polyval(r - t0, ca))
 
 
+def side_significance(z, k_max=3):
+    """Evidence on one side of a crossing: the largest combined z (Stouffer, sum z / sqrt k)
+    of the k = 1..k_max points nearest to it (``z`` ordered from the crossing outwards);
+    -inf without points."""
+    z = np.asarray(z, dtype=np.float64)
+    if z.size == 0:
+        return -np.inf
+    c = np.cumsum(z[:k_max]) / np.sqrt(np.arange(1, min(k_max, z.size) + 1))
+    return float(np.max(c))
+
+
 def _rough_crossing(t, ua, ub, ea=None, eb=None):
     """Bracket the crossing by linear interpolation of the data.
 
     Where several sign changes of d = U_large - U_small occur (noise in the ordered plateau,
-    where both curves sit at 2/3 with tiny errors, can cross them), the most significant
-    change from d > 0 (below Tc) to d < 0 (above) is taken: the one whose smaller side, in
-    units of the combined error, is largest.
+    where both curves sit at 2/3, can cross them), the most significant change from d > 0
+    (below Tc) to d < 0 (above) is taken: the one whose weaker side is strongest, a side's
+    strength being :func:`side_significance` of d in units of its combined error.
     """
     d = ub - ua  # larger size minus smaller: > 0 below Tc, < 0 above
     sig = np.ones_like(d) if ea is None or eb is None else np.sqrt(ea**2 + eb**2)
@@ -91,7 +102,8 @@ def _rough_crossing(t, ua, ub, ea=None, eb=None):
         changes = np.nonzero(np.sign(d[:-1]) != np.sign(d[1:]))[0]
     if changes.size == 0:
         return None
-    strength = np.minimum(np.abs(z[changes]), np.abs(z[changes + 1]))
+    strength = [min(side_significance(z[: k + 1][::-1]), side_significance(-z[k + 1:]))
+                for k in changes]
     k = changes[int(np.argmax(strength))]
     return float(t[k] + (t[k + 1] - t[k]) * d[k] / (d[k] - d[k + 1]))
 

@@ -4,9 +4,11 @@ Every estimator of :mod:`thinfilm.analysis.critical` and :mod:`thinfilm.analysis
 run on the sweep table, and each estimate is checked against the data it stands on:
 
 * a Binder crossing of two sizes counts only when the difference U4(L_large) - U4(L_small) is
-  significantly positive (> 2 standard errors) at a temperature below the crossing and
-  significantly negative above it, and, for an easy-axis film (2D Ising class), when U4 of
-  the larger size falls through the universal value U* = 0.61069 within the sweep;
+  significantly positive below the crossing and significantly negative above it (combined
+  z = sum z / sqrt k of the k = 1..3 nearest points on that side above 2; for an easy-axis
+  film U4 of the larger size lying 2 errors above U* below it, or below U* above it, shows
+  the side as well), and, for an easy-axis film (2D Ising class), when U4 of the larger size
+  falls through the universal value U* = 0.61069 within the sweep;
 * a susceptibility peak counts only when points on both sides lie significantly (> 2
   combined standard errors) below the largest value and, for an easy-axis film, U4 of that
   size falls through U* across it;
@@ -123,7 +125,7 @@ def clean_json(v):
 
 def _pair(table, a, b, ising, n_boot, seed):
     """Binder crossing of sizes a < b with its bracketing check (a cross-check entry)."""
-    from thinfilm.analysis.critical import tc_from_binder_crossing
+    from thinfilm.analysis.critical import side_significance, tc_from_binder_crossing
 
     da, db = table[a], table[b]
     ta, tb = np.round(da["temperature_K"], 9), np.round(db["temperature_K"], 9)
@@ -154,11 +156,15 @@ def _pair(table, a, b, ising, n_boot, seed):
     reasons = []
     if not (t[0] < tc < t[-1]):
         reasons.append("the crossing lies at the end of the sweep")
-    if not np.any(z[below] > Z_SIDE):
-        reasons.append(f"no temperature below it where U4(L = {b}) exceeds U4(L = {a}) by more "
+    # a side shows its phase by U4(L_large) - U4(L_small) or, in the Ising class, by
+    # U4(L_large) significantly above (below) the universal value
+    ord_u = ising and np.any(ub[below] - U_STAR_ISING > Z_SIDE * eb[below])
+    dis_u = ising and np.any(U_STAR_ISING - ub[above] > Z_SIDE * eb[above])
+    if side_significance(z[below][::-1]) <= Z_SIDE and not ord_u:
+        reasons.append(f"the points below it do not show U4(L = {b}) above U4(L = {a}) by more "
                        f"than {Z_SIDE:g} standard errors")
-    if not np.any(z[above] < -Z_SIDE):
-        reasons.append(f"no temperature above it where U4(L = {b}) lies below U4(L = {a}) by "
+    if side_significance(-z[above]) <= Z_SIDE and not dis_u:
+        reasons.append(f"the points above it do not show U4(L = {b}) below U4(L = {a}) by "
                        f"more than {Z_SIDE:g} standard errors")
     if ising and not (np.any(ub[below] > U_STAR_ISING) and np.any(ub[above] < U_STAR_ISING)):
         reasons.append(f"U4(L = {b}) does not fall through the universal value "
