@@ -170,7 +170,7 @@ def test_digits_follow_the_error(v, e, text):
 def test_tc_text_is_the_one_text_of_tc():
     r = tc_estimate(table(np.arange(20.0, 33.0, 1.0), (16, 32), 26.3), anisotropy=1.0)
     assert tc_text(r) == f"Tc = {fmt_pm(r['tc_K'], r['tc_err_K'])} (Binder crossing L = 16/32)"
-    assert tc_text({"status": "above_sweep"}) == "Tc not determined (above sweep)"
+    assert tc_text({"status": "above_sweep"}) == "Tc not determined (Tc lies above the sweep)"
 
 
 def test_rule_reads_an_observables_table_directly():

@@ -29,8 +29,8 @@ import numpy as np
 
 from thinfilm._numbers import fmt_pm
 
-__all__ = ["RULE", "U_STAR_ISING", "MIN_EFFECTIVE", "choose_tc", "split_by_size", "tc_text",
-           "cross_check_lines", "mode_keys"]
+__all__ = ["RULE", "STATUS_TEXT", "U_STAR_ISING", "MIN_EFFECTIVE", "choose_tc", "split_by_size",
+           "tc_text", "cross_check_lines", "mode_keys"]
 
 #: U4 at Tc of the 2D Ising class on periodic square lattices, U* = 0.61069 (Kamieniarz and
 #: Bloete, J. Phys. A 26, 201 (1993); value from memory).
@@ -53,6 +53,13 @@ RULE = ("Tc is, in this order of preference: the Binder crossings extrapolated t
         "sides). The error combines the statistical error and the largest distance to another "
         "counted estimate (the other crossings, the U4 collapse, the susceptibility peak of the "
         "largest size) in quadrature.")
+
+#: Words for each status of :func:`choose_tc`.
+STATUS_TEXT = {"found": "found", "above_sweep": "Tc lies above the sweep",
+               "below_sweep": "Tc lies below the sweep",
+               "not_bracketed": "the data do not bracket it",
+               "unequilibrated": "the set did not equilibrate",
+               "too_few_temperatures": "too few temperatures", "no_data": "no data"}
 
 _KEYS = {
     "mc-set": {"samples": "dynamics.sweeps.samples", "warmup": "dynamics.sweeps.warmup"},
@@ -489,7 +496,7 @@ def tc_text(rec, *, pm="+-", symbol="Tc"):
     text of Tc that every output prints."""
     if not rec or rec.get("status") not in (None, "found") or rec.get("tc_K") is None:
         status = (rec or {}).get("status") or "no estimate"
-        return f"{symbol} not determined ({status.replace('_', ' ')})"
+        return f"{symbol} not determined ({STATUS_TEXT.get(status, status.replace('_', ' '))})"
     how = rec.get("method_text") or str(rec.get("method") or "").replace("_", " ")
     return f"{symbol} = {fmt_pm(rec['tc_K'], rec.get('tc_err_K'), pm=pm)}" + (
         f" ({how})" if how else "")

@@ -3,7 +3,10 @@
 :func:`make_plan` runs (through the given runner, by default a plain sweep) or reuses a temperature sweep in a
 folder and answers, for the largest simulated size:
 
-* Tc with its error (from ``tc.json``; the susceptibility peak when that has none);
+* Tc with its error, by the stated rule of :mod:`thinfilm.analysis.tc_rule` applied to the
+  sweep's observables.csv (the same record as the folder's ``tc.json``, rewritten when it
+  holds a value from an earlier rule); when the data do not bracket Tc, the plan says what they
+  show and what to change, and gives no Tc, window or schedule;
 * the temperature window in which the domain pattern breaks up: from where the domain size
   (equivalent diameter) falls below the field of view to where the correlation length falls
   below the resolution, each edge with a bootstrap error (:mod:`thinfilm.plan_curves`);
@@ -432,10 +435,12 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
                 "box_nm": [float(x) for x in llg_model.lattice.box_nm], "duration_ps": llg_s * 1e12,
                 "damping": sc.dynamics.damping, "runs": runs},
         "points": points, "bootstrap": {"n_boot": n_boot, "seed": seed},
-        "sweep_curves": {"temperature_K": t, "m_abs": a["m_abs"], "correlation_length_nm": a["xi_nm"],
+        "sweep_curves": {"temperature_K": t, "m_abs": a["m_abs"],
+                         "correlation_length_nm": a["xi_nm"],
                          "correlation_length_err_nm": a["xi_err_nm"],
                          "correlation_length_smoothed_nm": a["xi_smooth_nm"],
-                         "correlation_length_extrapolation_input_nm": a["xi_extrapolation_input_nm"],
+                         "correlation_length_extrapolation_input_nm":
+                             a["xi_extrapolation_input_nm"],
                          "mean_domain_diameter_nm": a["d_mean_nm"],
                          "typical_domain_diameter_nm": a["d_typ_nm"]},
     })

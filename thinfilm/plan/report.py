@@ -102,7 +102,7 @@ def _tc_lines(plan):
     disagreement warning and the disorder spread."""
     tc = plan["tc"]
     if tc["status"] != "found":
-        out = [f"- **Tc not determined** ({tc['status'].replace('_', ' ')}): {tc['message']}",
+        out = [f"- **{tc_text(tc)}**: {tc['message']}",
                f"- **What to change**: {tc['fix']}."]
     else:
         spread = (f"; the error covers the other counted estimates (statistical "
@@ -459,8 +459,7 @@ def no_plan_figures(plan, out):
     axes[0].set(xlabel="T (K)", ylabel="U4 (1)", title="Binder cumulant")
     axes[1].set(xlabel="T (K)", ylabel=r"$\langle|m|\rangle$ (per spin)",
                 title="order parameter")
-    status = plan["tc"]["status"].replace("_", " ")
-    fig.suptitle(f"{plan['scenario'][:40]}: no Tc ({status})")
+    fig.suptitle(f"{plan['scenario'][:40]}: {tc_text(plan['tc'])}")
     shared_legend(fig)
     path = save_png(fig, out / f"{_stem(plan)}_sweep.png", dpi=120)
     write_captions(out, {path.name: (
@@ -494,7 +493,7 @@ def no_plan_summary(plan):
     tc = plan["tc"]
     return "\n".join([
         f"heating plan for {plan['scenario']} (sweep L = {plan['size']}, {plan['sweep']})",
-        f"  Tc           not determined ({tc['status'].replace('_', ' ')}): {tc['message']}",
+        f"  Tc           {tc_text(tc).removeprefix('Tc ')}: {tc['message']}",
         f"  fix          {tc['fix']}",
         "  plan         none: no schedule, break-up or resolved window without Tc",
     ])
