@@ -12,17 +12,21 @@ plan.md, plan.json, tc.json, captions.md.
 import json
 import math
 import re
+import warnings
 
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from sweep_helpers import tiny_sweep
 
 from thinfilm._io import write_csv, write_json
 from thinfilm._numbers import fmt_pm
 from thinfilm.analysis.tc_rule import U_STAR_ISING
+from thinfilm.input.errors import ThinFilmWarning
 from thinfilm.input.scenario import load_scenario
 from thinfilm.plan.heating_plan import make_plan
+from thinfilm.runs.sweep import run_sweep
 
 FAST = {"llg_size": 4, "llg_duration": "1 ps", "n_boot": 60, "n_points": 8}
 C_U = (2 / 3) / U_STAR_ISING - 1.0
@@ -202,3 +206,18 @@ def test_unreadable_tc_json_is_replaced_not_a_traceback(tmp_path, bad):
     res = make_plan(sc, tmp_path, resolution="2 nm", exposure="10 ms", reuse=True,
                     progress=False, **FAST)
     assert json.loads((tmp_path / "tc.json").read_text())["tc_K"] == res["plan"]["tc_K"]
+
+
+def test_a_short_llg_set_is_told_to_lengthen_its_duration_not_its_sweeps(tmp_path):
+    # issue case: a warning advised dynamics.sweeps.samples, which an llg-set refuses
+    # (thinfilm.input.modes.KEY_MODES); the key that lengthens an LLG set is dynamics.duration
+    sc = tiny_sweep(sizes=(4,), temps=("2 K", "3 K"), method="llg")
+    assert sc.mode == "llg-set"
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        out = run_sweep(sc, tmp_path / "llg", workers=1, progress=False)
+    texts = [str(w.message) for w in caught if issubclass(w.category, ThinFilmWarning)]
+    advice = [t for t in texts if "raise" in t]
+    assert advice and all("dynamics.duration" in t and "sweeps" not in t for t in advice)
+    tc = json.loads((out / "tc.json").read_text())
+    assert tc["tc_K"] is None and "dynamics.sweeps" not in json.dumps(tc)
