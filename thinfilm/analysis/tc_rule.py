@@ -477,10 +477,11 @@ def choose_tc(table, *, anisotropy=None, mode=None, n_boot=400, seed=0):
     disagreement = None
     if off:
         disagreement = ("the Tc estimates disagree beyond their statistical errors: "
-                        f"{chosen['label']} {_fmt(tc, stat)} against "
                         + ", ".join(f"{e['label']} {_fmt(e['tc_K'], e['tc_err_K'])}" for e in off)
-                        + "; the quoted error includes the largest difference. Larger sizes "
-                          "or more samples near Tc would tell which is right.")
+                        + f" against Tc from the {chosen['label']} (statistical error "
+                          f"{fmt_pm(stat, None, digits=2)}); the quoted error of Tc includes the "
+                          "largest difference. Larger sizes or more samples near Tc would tell "
+                          "which is right.")
     u_cross = chosen.get("u_cross")
     return clean_json(dict(base, status="found", tc_K=tc, tc_err_K=math.hypot(stat, sys),
                            tc_stat_err_K=stat, tc_sys_err_K=sys, method=chosen["method"],

@@ -110,7 +110,7 @@ def beyond_lines(plan):
         out.append("- Half-width about Tc of the window where the extrapolated xi exceeds the "
                    "resolution (from the fitted amplitude, independent of the error of Tc): "
                    + ", ".join(
-                       f"{s} Tc {fmt_pm(v[0], v[1])}" for s, v in hw.items()) + ".")
+                       f"{s} Tc {fmt_pm(v[0], v[1], digits=2)}" for s, v in hw.items()) + ".")
     if b.get("tc_note"):
         out.append(f"- Note: {b['tc_note']}.")
     return out
