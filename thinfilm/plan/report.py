@@ -64,6 +64,14 @@ def _resolved_text(plan):
     w = plan["resolved_window_K"]
     if w is None:
         return "none"
+    if plan.get("resolved_window_extrapolated"):
+        # the edges are Tc -+ half-widths: their width is known far better than their position
+        hw = plan["extrapolation"]["resolved_halfwidth_K"]
+        up = hw["above"]
+        down = hw.get("below", up)
+        return (f"Tc - {fmt_pm(down[0], down[1], digits=2)} .. Tc + "
+                f"{fmt_pm(up[0], up[1], digits=2)} (extrapolated beyond the lattice; the "
+                f"position carries the error of Tc)")
     errs = plan.get("resolved_window_err_K") or [None, None]
     bounds = plan.get("resolved_window_bounds") or [None, None]
     return f"{_edge_text(w[0], errs[0], bounds[0])} .. {_edge_text(w[1], errs[1], bounds[1])}"
