@@ -311,14 +311,14 @@ def _describe(table, sizes, ising, mode, entries):
         return ("above_sweep",
                 f"ordered at every temperature up to {hi:g} K ({shown}; {what}): Tc lies above "
                 f"the sweep{relax}.",
-                "extend the temperature range upward (temperature: stop)")
+                f"extend the temperature range upward (temperatures above {hi:g} K)")
     if disordered_bottom and not ordered_top:
         what = (f"U4 stays below the universal value {thr:g}" if fu.any() else
                 "the susceptibility falls from the start")
         return ("below_sweep",
                 f"disordered at every temperature from {lo:g} K ({shown}; {what}): Tc lies "
                 f"below the sweep{relax}.",
-                "extend the temperature range downward (temperature: start)")
+                f"extend the temperature range downward (temperatures below {lo:g} K)")
     notes = "; ".join(f"{e['label']}: {e['note']}" for e in entries if e.get("note")
                       and e["method"] in ("binder_crossing", "susceptibility_peak"))
     why = notes or (peak or {}).get("note") or "no estimate is bracketed by the data"
