@@ -435,8 +435,15 @@ def choose_tc(table, *, anisotropy=None, mode=None, n_boot=400, seed=0):
     else:
         chosen = None
     if len(sizes) >= 2:
-        guess = chosen["tc_K"] if chosen else float(np.median(table[sizes[-1]]["temperature_K"]))
-        fit, why = _collapse(table, sizes, guess)
+        # the collapse's window selection depends on its starting Tc: try the chosen Tc, the
+        # counted crossings (largest sizes first), then the middle of the sweep
+        guesses = ([chosen["tc_K"]] if chosen else []) + [p["tc_K"] for p in
+                                                          reversed(counted_pairs)]
+        guesses.append(float(np.median(table[sizes[-1]]["temperature_K"])))
+        for guess in guesses:
+            fit, why = _collapse(table, sizes, guess)
+            if fit is not None:
+                break
         if fit is not None:
             inside = base["range_K"][0] < fit["tc_K"] < base["range_K"][1]
             both = fit["x_range"][0] < 0 < fit["x_range"][1]
@@ -456,7 +463,8 @@ def choose_tc(table, *, anisotropy=None, mode=None, n_boot=400, seed=0):
         else:
             entries.append({"method": "u4_collapse", "label": "U4 collapse", "sizes": sizes,
                             "tc_K": None, "tc_err_K": None, "bracketed": False,
-                            "in_error": True, "note": f"no collapse: {why}"})
+                            "in_error": True,
+                            "note": "no collapse: " + str(why).removeprefix("collapse: ")})
     base["cross_checks"] = entries
     base["pairs"] = [{"sizes": p["sizes"], "tc_K": p["tc_K"], "tc_err_K": p["tc_err_K"],
                       "u_cross": p.get("u_cross"), "u_cross_err": p.get("u_cross_err"),

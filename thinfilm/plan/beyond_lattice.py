@@ -16,7 +16,7 @@ import math
 import numpy as np
 
 from thinfilm._io import write_csv
-from thinfilm._numbers import fmt_value
+from thinfilm._numbers import fmt_value, round_pm
 from thinfilm.analysis.universality import check_universality
 from thinfilm.input.errors import InputError
 from thinfilm.model.parameters import build_model
@@ -117,6 +117,6 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
         if widths and tc_err_K and max(widths) < tc_err_K:
             res["tc_note"] = (f"the resolved window (half-width {fmt_value(max(widths), None, 2)}"
                               f" K) is narrower than the error of Tc "
-                              f"({fmt_value(tc_err_K, None, 2)} K): locate Tc in the "
+                              f"({round_pm(tc_K, tc_err_K)[1]} K): locate Tc in the "
                               f"experiment and step by less than the half-width around it")
     return clean_json(res)
