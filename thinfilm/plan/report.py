@@ -138,11 +138,21 @@ def _tc_lines(plan):
     return out
 
 
+def _tau_range(plan):
+    """'2.2-12 ps' without the unit: the shortest and longest run's tau with the digits of
+    their errors, as in the runs table."""
+    runs = plan["llg"]["runs"]
+    lo = min(runs, key=lambda r: r["tau_ps"])
+    hi = max(runs, key=lambda r: r["tau_ps"])
+    return (f"{fmt_value(lo['tau_ps'], lo.get('tau_err_ps'), 3)}-"
+            f"{fmt_value(hi['tau_ps'], hi.get('tau_err_ps'), 3)}")
+
+
 def timescale_note(plan):
     """What the comparison of ps-ns fluctuation times with the exposure implies."""
     exp = plan["instrument"]["exposure_s"]
-    taus = [r["tau_ps"] for r in plan["llg"]["runs"]]
-    tmin, tmax = min(taus), max(taus)
+    trange = _tau_range(plan)
+    tmax = max(r["tau_ps"] for r in plan["llg"]["runs"])
     llg = plan["llg"]
     side = llg["box_nm"][0]
     base = (f"The simulated lattice for the dynamics is small ({llg['size']} x {llg['size']} "
@@ -150,12 +160,12 @@ def timescale_note(plan):
             f"time scales (ms to hours) are outside the model.")
     ratio = exp / (tmax * 1e-12)
     if ratio > 1e3:
-        return (f"The simulated fluctuation times ({tmin:.3g}-{tmax:.3g} ps) are about "
+        return (f"The simulated fluctuation times ({trange} ps) are about "
                 f"{math.log10(ratio):.0f} orders of magnitude shorter than the exposure "
                 f"({exp:g} s): every image is a time average of the magnetisation. Above Tc the "
                 f"film appears uniform grey; below Tc it shows the frozen large domains at the "
                 f"reduced contrast <|m|>(T). " + base)
-    return (f"The simulated fluctuation times ({tmin:.3g}-{tmax:.3g} ps) are comparable to or "
+    return (f"The simulated fluctuation times ({trange} ps) are comparable to or "
             f"longer than part of the exposure ({exp:g} s): the pattern is partly frozen during "
             f"an image (see the verdict per temperature). " + base)
 
@@ -415,7 +425,6 @@ def summary_text(plan):
     blo, bhi = plan["breakup_window_bounds"]
     sched = plan["schedule_K"]
     verdicts = sorted({p["verdict"] for p in plan["points"]})
-    taus = [r["tau_ps"] for r in plan["llg"]["runs"]]
     return "\n".join([
         f"heating plan for {plan['scenario']} (sweep L = {plan['size']}, {plan['sweep']})",
         f"  instrument   resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s"
@@ -429,7 +438,7 @@ def summary_text(plan):
         f"  break-up     {_edge_text(lo, elo, blo)} .. {_edge_text(hi, ehi, bhi)}",
         "  resolved     " + ("none: " + plan["resolved_note"] if plan["resolved_window_K"] is None
                             else _resolved_text(plan)),
-        f"  fluctuation  {min(taus):.3g}-{max(taus):.3g} ps (LLG, {plan['llg']['size']}^2 sites); "
+        f"  fluctuation  {_tau_range(plan)} ps (LLG, {plan['llg']['size']}^2 sites); "
         f"verdicts: {', '.join(verdicts)}",
         f"  schedule     {len(sched)} points {sched[0]:g}..{sched[-1]:g} K: "
         + ", ".join(f"{s:g}" for s in sched),
