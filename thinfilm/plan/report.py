@@ -131,8 +131,8 @@ def _tc_lines(plan):
     if plan.get("tc_spread_K"):
         out.append(f"- Sample-to-sample spread of Tc over {len(plan['tc_realisations_K'])} "
                    f"disorder realisations: {fmt_value(plan['tc_spread_K'], None, 2)} K (Tc of "
-                   "each: " + ", ".join(f"{x:.4g}" for x in plan["tc_realisations_K"]
-                                        if x is not None)
+                   "each: " + ", ".join(fmt_value(x, plan["tc_spread_K"])
+                                        for x in plan["tc_realisations_K"] if x is not None)
                    + " K); a real film's Tc can lie anywhere in that range, so the heating range "
                    "should cover Tc +- 2 spreads.")
     return out
