@@ -38,6 +38,8 @@ def _tc_text(tc, tex=True):
 
 def _tc_caption(tc):
     text = _tc_text(tc, tex=False)
+    if not text and tc and tc.get("message"):  # the sweep does not determine Tc: say why
+        return f" No Tc line: {tc['message']}"
     return f" Dashed vertical line: {text}; grey band: its error." if text else ""
 
 
