@@ -420,6 +420,9 @@ def choose_tc(table, *, anisotropy=None, mode=None, n_boot=400, seed=0):
     drift = _drift(pairs) if ising and len(pairs) >= 2 else None
     if drift:
         entries.append(drift)
+        if not base["range_K"][0] < drift["tc_K"] < base["range_K"][1]:
+            drift.update(bracketed=False, note="not bracketed: the extrapolation leaves the sweep")
+            drift = None
     for i, L in enumerate(sizes):
         entries.append(_peak(table[L], L, n_boot, seed + 101 + i, in_error=(L == sizes[-1]),
                              ising=ising))
