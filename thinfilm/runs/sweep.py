@@ -24,6 +24,7 @@ import numpy as np
 from tqdm import tqdm
 
 from thinfilm._io import write_csv, write_json, write_npz
+from thinfilm.analysis.tc_rule import mode_keys
 from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning, option
 from thinfilm.runs.folder import versions
 from thinfilm.runs.sweep_point import (
@@ -328,7 +329,8 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
         _run_chains(sc, out, chains, rows, executor, bar, window)
         extra = []
         if sc.sweep.refine == "near-tc":
-            extra = refine_temperatures(rows, sc.sweep.temperatures_K)
+            extra = refine_temperatures(rows, sc.sweep.temperatures_K,
+                                            anisotropy=sc.material.anisotropy_J)
             manifest["refined_temperatures_K"] = extra
             if extra:
                 rchains, parents = _refine_chains(sc, chains, extra)
@@ -379,7 +381,7 @@ def _finish(out, sc, manifest, rows, started):
     keys = sorted(rows)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        tc = tc_estimate(rows)
+        tc = tc_estimate(rows, anisotropy=sc.material.anisotropy_J)
     tc["warnings"] = sorted({str(w.message) for w in caught})
     select_second_moment(rows, tc.get("tc_K"))
     length_convergence(rows, _film_side(sc))
@@ -401,4 +403,4 @@ def _finish(out, sc, manifest, rows, started):
     if low:
         warnings.warn(f"{len(low)} of {len(keys)} sweep points have fewer than 50 effectively "
                       f"independent samples (e.g. {low[0]}); their error bars are unreliable: "
-                      f"raise dynamics.sweeps.samples", ThinFilmWarning, stacklevel=3)
+                      f"raise {mode_keys(sc.mode)['samples']}", ThinFilmWarning, stacklevel=3)
