@@ -19,6 +19,14 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     realisations: :mod:`thinfilm.runs.ensemble_sweep`), otherwise as one time-resolved
     stochastic LLG run (:mod:`thinfilm.runs.time_resolved`). See :mod:`thinfilm.input.modes`.
     """
+    if not hasattr(source, "is_sweep"):
+        from thinfilm.input.coarse_spec import is_coarse
+
+        if is_coarse(source):  # a coarse film (stochastic LLB on nm cells)
+            from thinfilm.runs.coarse_run import run_coarse
+
+            run_coarse(source, out_dir, resume=resume, overwrite=overwrite, progress=progress)
+            return Path(out_dir)
     sc = _scenario(source)
     if sc.is_sweep:
         from thinfilm.runs.sweep import run_sweep
