@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 
 from thinfilm.api import run
-from thinfilm.coarse.table import ParameterTable
 from thinfilm.input.coarse_spec import load_coarse
 from thinfilm.input.errors import ScenarioError
+from thinfilm.input.parameter_table import ParameterTable
 from thinfilm.runs.coarse_run import run_coarse
 from thinfilm.runs.folder import load_snapshot
 

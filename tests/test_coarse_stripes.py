@@ -2,8 +2,8 @@
 
 import pytest
 
-from thinfilm.coarse.stripe_period import coarse_stripe_period
-from thinfilm.coarse.stripe_theory import equilibrium_width, stripe_energy
+from thinfilm.analysis.stripe_theory import equilibrium_width, stripe_energy
+from thinfilm.engines.llb_stripes import coarse_stripe_period
 
 # invented perpendicular film: A = 20 pJ/m, Ku = 0.67 MJ/m^3, Ms = 1 MA/m, t = 4 nm
 FILM = {"A": 20e-12, "Ku": 0.67e6, "Ms": 1.0e6}
@@ -25,7 +25,7 @@ def test_sharp_wall_series_tends_to_the_uniform_state():
 def test_period_against_bloch_wall_domain_theory(cell_nm):
     # Theory: the thin-film stripe energy of Kaplan and Gehring, J. Magn. Magn. Mater. 128,
     # 111 (1993) (surface-charge series, g(kt) = (1 - exp(-kt)) / kt) with Bloch walls of the
-    # tanh profile (variational form factor; thinfilm.coarse.stripe_theory): period 1054 nm,
+    # tanh profile (variational form factor; thinfilm.analysis.stripe_theory): period 1054 nm,
     # wall parameter 14.8 nm. Measured: 1068 nm on 2 nm cells (+1.3 %), 1027 nm on 4 nm cells
     # (-2.6 %; 890 nm on 8 nm cells, where the cell is half the wall parameter). Tolerance 5 %:
     # twice the largest deviation on cells at most a quarter of the wall parameter (the

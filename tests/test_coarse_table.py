@@ -3,9 +3,9 @@
 import numpy as np
 import pytest
 
-from thinfilm.coarse.sweep import AtomisticFilm, checks, measure_table
-from thinfilm.coarse.table import ParameterTable, TableError
+from thinfilm.input.parameter_table import ParameterTable, TableError
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
+from thinfilm.runs.parameter_sweep import AtomisticFilm, checks, measure_table
 
 FILM = AtomisticFilm(0.25, 0.5, 2 * MU_B_J_PER_T, 20 * MEV_J, 2 * MEV_J)
 

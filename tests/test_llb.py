@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from thinfilm.coarse.table import ParameterTable
 from thinfilm.engines.llb import CoarseFilm
+from thinfilm.input.parameter_table import ParameterTable
 from thinfilm.input.units import KB_J_PER_K
 
 

@@ -1,6 +1,6 @@
 """T = 0 stripe period of the coarse film on 2, 4 and 8 nm cells against thin-film domain
 theory (Kaplan and Gehring, J. Magn. Magn. Mater. 128, 111 (1993) surface-charge series; Bloch
-walls of the tanh profile, variational: thinfilm.coarse.stripe_theory). Also prints the
+walls of the tanh profile, variational: thinfilm.analysis.stripe_theory). Also prints the
 sharp-wall form of the same series, which misses by an order of magnitude when the wall is
 much wider than the film (t = 4 nm, wall parameter 15 nm).
 
@@ -11,8 +11,8 @@ t_nm]   (about two minutes)
 import argparse
 import time
 
-from thinfilm.coarse.stripe_period import coarse_stripe_period
-from thinfilm.coarse.stripe_theory import equilibrium_width
+from thinfilm.analysis.stripe_theory import equilibrium_width
+from thinfilm.engines.llb_stripes import coarse_stripe_period
 
 
 def main():

@@ -28,14 +28,14 @@ from pathlib import Path
 import numpy as np
 
 from thinfilm._io import write_csv
-from thinfilm.coarse.measure import measure_point
-from thinfilm.coarse.sweep import AtomisticFilm, measure_table
-from thinfilm.coarse.table import COLUMNS, ParameterTable
 from thinfilm.engines.llb import CoarseFilm
 from thinfilm.engines.montecarlo import MonteCarlo
+from thinfilm.input.parameter_table import COLUMNS, ParameterTable
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 from thinfilm.model.lattice import Lattice
 from thinfilm.model.parameters import Model
+from thinfilm.runs.macro_measure import measure_point
+from thinfilm.runs.parameter_sweep import AtomisticFilm, measure_table
 
 FILM = AtomisticFilm(0.25, 0.5, 2 * MU_B_J_PER_T, 20 * MEV_J, 2 * MEV_J)
 FRACTIONS = (0.3, 0.6, 0.85)
@@ -90,7 +90,7 @@ def main():
     for k, T in enumerate(temps):
         r, _ = measure_point(FILM, L, T, seed=11 + k, warmup=1500, samples=2000)
         rows.append(r)
-        print(f"atomistic {L} x {L} at {T:g} K: <|m|> = {r['m_e']:.4f} +- {r['m_e_err']:.4f}, "
+        print(f"atomistic {L} x {L} at {T:g} K: <|m|> = {r['m_e']:.4f} +- {r['m_e_err']:.5f}, "
               f"K = {r['K_J_per_m3']:.3e} J/m^3, A = {r['A_J_per_m']:.3e} J/m  "
               f"[{time.time() - t0:.0f} s]", flush=True)
     table = ParameterTable(*(np.array([r[c] for r in rows]) for c in COLUMNS),
@@ -123,8 +123,8 @@ def main():
                 dev = 100 * (m / ma - 1)
                 if path == "llb":
                     worst = max(worst, abs(dev))
-                print(f"  {f:.2f} Tc  {cell:g} nm  {path:19s} <|m|> = {m:.4f} +- {e:.4f}  "
-                      f"atomistic {ma:.4f} +- {ea:.4f}  deviation {dev:+.2f} %"
+                print(f"  {f:.2f} Tc  {cell:g} nm  {path:19s} <|m|> = {m:.4f} +- {e:.5f}  "
+                      f"atomistic {ma:.4f} +- {ea:.5f}  deviation {dev:+.2f} %"
                       + (f"  (cell correction {100 * corr:.1f} %)" if path == "llb" else ""),
                       flush=True)
                 lines.append([f, T, cell, path, m, e, ma, ea, dev, corr])

@@ -2,7 +2,7 @@
 
 Cells are prisms b x b x t (b the cell size, t the film thickness) on a square grid; each
 carries the reduced magnetisation m = M / Ms(0), a vector whose length is free. The
-temperature enters only through the parameter table (:mod:`thinfilm.coarse.table`): m_e(T),
+temperature enters only through the parameter table (:mod:`thinfilm.input.parameter_table`): m_e(T),
 chi_par(T), chi_perp(T) (through K(T)), K(T), A(T), measured on the atomistic film or built
 from a lab Ms(T). The energy density of the coarse film below Tc (Garanin, Phys. Rev. B 55,
 3050 (1997)):
@@ -10,7 +10,7 @@ from a lab Ms(T). The energy density of the coarse film below Tc (Garanin, Phys.
     f = (A / m_e^2) |grad m|^2 + (K / m_e^2) (m_x^2 + m_y^2)
         + (Ms0 / (8 chi_par mu^2)) (m^2 - mu^2)^2 - Ms0 m.B + dipolar
 
-with mu the cells' longitudinal length (:mod:`thinfilm.coarse.renorm`: m_e corrected for the
+with mu the cells' longitudinal length (:mod:`thinfilm.model.coarse_cell`: m_e corrected for the
 coarse film's own fluctuations; mu = m_e without the correction). Above Tc the longitudinal
 term is the mean-field form of Garanin's LLB, -(1/chi_par) (1 + (3/5) Tc m^2 / (T - Tc)) m, and
 the transverse and exchange coefficients are held at their values at the last table row below
@@ -30,9 +30,9 @@ import math
 
 import numpy as np
 
-from thinfilm.coarse.renorm import cell_magnetisation
 from thinfilm.engines._kernels.llb import llb_field, llb_heun
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MU0
+from thinfilm.model.coarse_cell import cell_magnetisation
 from thinfilm.model.lattice import Lattice
 
 __all__ = ["CoarseFilm", "MAX_CORRECTION"]
@@ -161,13 +161,19 @@ class CoarseFilm:
         return out
 
     def stable_time_step(self, p):
-        """Largest rate of the linearised motion -> a time step (s) with margin 5."""
+        """Largest rate of the linearised motion -> a time step (s) with margin 10: transverse
+        fields precess and relax (gamma (1 + a_perp) H), the longitudinal field only relaxes
+        (gamma a_par / chi_par, the stiff rate of the LLB at low T)."""
         stiff = 8 * abs(p["cex_T"]) + abs(p["kperp_T"]) + float(np.linalg.norm(self.field_T))
-        if p["temperature_K"] > 0:
-            stiff += 1.0 / p["chi_par_per_T"]
         if self._dip is not None:
             stiff += MU0 * self.ms0
-        return 0.2 / (self.gamma * (1 + max(p["alpha_par"], p["alpha_perp"])) * stiff)
+        rate = (1 + p["alpha_perp"]) * stiff
+        if p["temperature_K"] > 0:
+            lon = 1.0 / p["chi_par_per_T"]
+            if p["above_tc"]:
+                lon *= 1 + abs(p["long_b_T"]) * p["chi_par_per_T"]
+            rate += max(p["alpha_par"], 1e-3) * lon
+        return 0.1 / (self.gamma * rate)
 
     # ------------------------------------------------------------------ dynamics
     def _dipolar(self):

@@ -6,8 +6,8 @@ or coarse film").
       cells: [256, 256]          # Nx, Ny cells
       cell_size: 4 nm            # prism cells cell_size x cell_size x thickness
       edges: periodic            # or open
-      parameters: film.csv       # the parameter table (thinfilm.coarse.table), relative paths
-                                 # from the scenario's folder
+      parameters: film.csv       # the parameter table (thinfilm.input.parameter_table),
+                                 # relative paths from the scenario's folder
       dipolar: true              # prism-cell dipolar field
       coupling: 0.1              # the LLB coupling lambda (damping)
       renormalise: true          # cell renormalisation of m_e (false: double counting)
@@ -28,8 +28,8 @@ from pathlib import Path
 
 import yaml
 
-from thinfilm.coarse.table import ParameterTable, TableError
 from thinfilm.input.errors import ScenarioError
+from thinfilm.input.parameter_table import ParameterTable, TableError
 from thinfilm.input.reader import Reader
 from thinfilm.input.units import parse_quantity
 

@@ -13,7 +13,7 @@ from types import SimpleNamespace
 import numpy as np
 import yaml
 
-from thinfilm.input.continuum import continuum_to_lattice
+from thinfilm.input.continuum import continuum_to_lattice, warn_continuum_cells
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
@@ -408,35 +408,10 @@ def load_scenario(source):
         dyn = replace(dyn, moves=("metropolis",))
     initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes
                                  else lat)
-    _warn_continuum_cells(path, lat, mat, temps)
+    warn_continuum_cells(path, lat.spacing_nm, bool(mat.continuum), max(temps))
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, initial, every,
                     snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments,
                     disorder, initial_width_nm=width_nm)
-
-
-COARSE_SPACING_NM = 0.6  # a continuum film on sites at least this far apart is a cell model
-
-
-def _warn_continuum_cells(path, lat, mat, temps):
-    """One-paragraph warning: continuum parameters on nm cells at a finite temperature."""
-    if not mat.continuum or lat.spacing_nm < COARSE_SPACING_NM or max(temps) <= 0:
-        return
-    import warnings
-
-    from thinfilm.input.errors import ThinFilmWarning
-
-    warnings.warn(
-        f"{path}: lattice.spacing {lat.spacing_nm:g} nm with continuum parameters at "
-        f"{max(temps):g} K puts one classical spin on each {lat.spacing_nm:g} nm cell with the "
-        "parameters as given and the thermal field of the full temperature. Measured A, Ku and "
-        "Ms already contain the thermal fluctuations of the real film, and the cell spins add "
-        "their own on top, so the fluctuations are counted twice; and since J = 2 A t does not "
-        "depend on the cell while K and mu_s grow with its area, Tc and m(T) change with the "
-        "cell size (validation/coarse_vs_atomistic.py: 7-10 % too high at 0.3 Tc on 1-4 nm "
-        "cells). Use this only at T = 0 or for atomic spacings; for a film at the scale of an "
-        "image at finite temperature use a coarse_film scenario (stochastic LLB fed by the "
-        "temperature-dependent parameters, README 'Atomistic lattice or coarse film').",
-        ThinFilmWarning, stacklevel=3)
 
 
 def thermal_energy_meV(temperature_K):

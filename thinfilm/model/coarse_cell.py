@@ -16,7 +16,7 @@ one loop (Gaussian fluctuations and the cubic term of the LLB longitudinal energ
 with V = b^2 t the cell volume and q_k^2 = (4 - 2 cos k_x b - 2 cos k_y b) / b^2 over the
 coarse grid's wave vectors. The transverse and exchange coefficients of the coarse film use
 the table's m_e (so its transverse structure factor is the atomistic one, see
-:mod:`thinfilm.coarse.measure`); only the longitudinal length is renormalised. The dipolar
+:mod:`thinfilm.runs.macro_measure`); only the longitudinal length is renormalised. The dipolar
 field is left out of this correction. The correction is first order in the fluctuations: it
 stops being small where the atomistic correlation length reaches the cell size (near Tc);
 :func:`cell_magnetisation` returns the relative size of the correction so a caller can refuse.

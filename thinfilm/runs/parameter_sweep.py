@@ -20,8 +20,8 @@ from pathlib import Path
 import numpy as np
 
 from thinfilm._io import write_json
-from thinfilm.coarse.measure import AtomisticFilm, measure_point
-from thinfilm.coarse.table import COLUMNS, ParameterTable
+from thinfilm.input.parameter_table import COLUMNS, ParameterTable
+from thinfilm.runs.macro_measure import AtomisticFilm, measure_point
 
 __all__ = ["measure_table", "checks", "AtomisticFilm"]
 

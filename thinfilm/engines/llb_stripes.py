@@ -5,7 +5,7 @@ Bloch walls and relaxed by the LLB at T = 0 (the LLG with |m| = 1, coupling 1); 
 per area (exchange, anisotropy, prism-cell dipolar) is computed for periods on a grid around a
 guess, and the period of least energy is the vertex of a parabola in ln P through the five
 lowest points. The walls' positions are free, so the domain widths inside the period relax
-too. Compared with :mod:`thinfilm.coarse.stripe_theory` in tests/test_coarse_stripes.py and
+too. Compared with :mod:`thinfilm.analysis.stripe_theory` in tests/test_coarse_stripes.py and
 validation/coarse_stripe_period.py.
 """
 
@@ -13,8 +13,8 @@ import math
 
 import numpy as np
 
-from thinfilm.coarse.table import ParameterTable
 from thinfilm.engines.llb import CoarseFilm
+from thinfilm.input.parameter_table import ParameterTable
 
 __all__ = ["relaxed_stripe_energy", "coarse_stripe_period"]
 
