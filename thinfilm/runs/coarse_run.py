@@ -113,7 +113,7 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
     bar = tqdm(total=len(temps), initial=k0, unit="T", disable=(not progress) or None,
                desc="coarse film", leave=False)
     last = time.time()
-    area = (sc.cell_nm * 1e-9) ** 2 * table.thickness_nm * 1e-9
+    cell_area = (sc.cell_nm * 1e-9) ** 2
     try:
         for k in range(k0, len(temps)):
             T = temps[k]
@@ -132,8 +132,7 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
                 film.advance(n, T, dt=dt)
                 done += n
                 meas = film.measure()
-                e = sum(film.energy_density(T).values()) * area / (sc.cell_nm * 1e-9) ** 2 \
-                    * (sc.cell_nm * 1e-9) ** 2 / MEV_J if done == n_steps else float("nan")
+                e = sum(film.energy_density(T).values()) * cell_area / MEV_J  # per cell
                 mv = meas["m_vector"]
                 rows.append([film.time_s * 1e12, T, sc.field_T[2], mv[0], mv[1], mv[2],
                              mv[2], e, *sc.field_T])
