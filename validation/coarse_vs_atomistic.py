@@ -9,7 +9,8 @@ K = 2 meV per site (K/J = 0.1), no dipolar field; periodic film of side F nm (de
 3. The coarse film (stochastic LLB, :mod:`thinfilm.engines.llb`) of the same side on 1, 2, 4 nm
    cells, with the cell renormalisation, gives <|m|>; so do the coarse film without it and the
    naive path (the continuum A(0), K(0), Ms(0) on one unit spin per cell at the full T,
-   Metropolis Monte Carlo).
+   Metropolis Monte Carlo). The transverse structure factor per area S_perp(k) of the coarse
+   film is compared with the atomistic one on the shells |n| <= 4 (k < pi / 4 nm).
 
 Acceptance: |<|m|>_coarse / <|m|>_atomistic - 1| <= 2 % where the engine accepts the cell (it
 refuses where its one-loop correction exceeds MAX_CORRECTION); the statistical error of each
@@ -48,13 +49,18 @@ def coarse_m(table, cell, side, T, *, renormalise=True, seed=5, n_eq=4000, n_mea
     cf = CoarseFilm(table, cell, n, n, renormalise=renormalise, coupling=1.0, seed=seed)
     p = cf.parameters(T)
     cf.advance(n_eq, T)
-    ms = []
+    ms, sk = [], []
     for _ in range(n_meas):
         cf.advance(every, T)
         ms.append(cf.measure()["m_abs"])
+        sk.append(cf.transverse_structure_factor()[1])
     ms = np.array(ms)
-    # blocks of 20 samples for the error
+    sk = np.array(sk)
+    # blocks of 20 samples for the errors
     blocks = ms[: len(ms) // 20 * 20].reshape(20, -1).mean(axis=1)
+    skb = sk[: len(sk) // 20 * 20].reshape(20, -1, sk.shape[1]).mean(axis=1)
+    p["s_perp_nm2"] = skb.mean(axis=0)
+    p["s_perp_nm2_err"] = skb.std(axis=0, ddof=1) / np.sqrt(20)
     return ms.mean(), blocks.std(ddof=1) / np.sqrt(len(blocks)), p
 
 
@@ -123,6 +129,15 @@ def main():
                 dev = 100 * (m / ma - 1)
                 if path == "llb":
                     worst = max(worst, abs(dev))
+                    sa, ea_k = np.array(r["s_perp_nm2"]), np.array(r["s_perp_nm2_err"])
+                    sc, ec = p["s_perp_nm2"], p["s_perp_nm2_err"]
+                    kk = np.array(r["k_per_nm"])
+                    sel = kk < np.pi / 4.0
+                    z = (sc - sa) / np.hypot(ea_k, ec)
+                    print(f"      S_perp(k), {sel.sum()} shells k = {kk[sel].min():.3f}-"
+                          f"{kk[sel].max():.3f} /nm (< pi / 4 nm): coarse / atomistic "
+                          f"{np.min(sc[sel] / sa[sel]):.3f}-{np.max(sc[sel] / sa[sel]):.3f}, "
+                          f"largest |z| {np.max(np.abs(z[sel])):.1f}")
                 print(f"  {f:.2f} Tc  {cell:g} nm  {path:19s} <|m|> = {m:.4f} +- {e:.5f}  "
                       f"atomistic {ma:.4f} +- {ea:.5f}  deviation {dev:+.2f} %"
                       + (f"  (cell correction {100 * corr:.1f} %)" if path == "llb" else ""),

@@ -242,6 +242,23 @@ class CoarseFilm:
                "dipolar": dip}
         return {k: v / area for k, v in tot.items()}
 
+    def transverse_structure_factor(self, shells=4):
+        """S_perp(k) per film area (nm^2) of the current state on the shells 0 < |n| <= shells,
+        k = 2 pi |n| / (N b): (b^2 / N) |sum_i m_i,x exp(i k.r_i)|^2 averaged over x, y and the
+        vectors of a shell. Returns (k in 1/nm, S)."""
+        fx = np.fft.fft2(self.m[..., 0])
+        fy = np.fft.fft2(self.m[..., 1])
+        pw = 0.5 * (np.abs(fx) ** 2 + np.abs(fy) ** 2) / (self.nx * self.ny) * self.cell_nm**2
+        ks, ss = [], []
+        vals = sorted({a * a + b * b for a in range(-shells, shells + 1)
+                       for b in range(-shells, shells + 1) if 0 < a * a + b * b <= shells**2})
+        for v in vals:
+            pts = [(a % self.nx, b % self.ny) for a in range(-shells, shells + 1)
+                   for b in range(-shells, shells + 1) if a * a + b * b == v]
+            ss.append(float(np.mean([pw[j, i] for i, j in pts])))
+            ks.append(2 * np.pi * np.sqrt(v) / (self.nx * self.cell_nm))
+        return np.array(ks), np.array(ss)
+
     def measure(self):
         """Mean reduced magnetisation vector, its length |<m>| and the mean cell length."""
         mv = self.m.reshape(-1, 3).mean(axis=0)

@@ -156,8 +156,17 @@ def measure_point(film, L, temperature_K, *, seed, warmup=1000, samples=2000, ev
         return np.array([me, mz.mean(), chi_par, chi_perp, icpt / c, slope / c])
 
     val, err = _jackknife(values, blocks)
+    # transverse structure factor per film area (nm^2) on the shells |n|^2, k = 2 pi |n| / L a
+    n2 = np.array([s[2] ** 2 + s[3] ** 2 for s in shells])
+    shell_n2 = np.unique(n2[n2 > 0])
+    sk_blocks = np.array([s_perp[i].mean(axis=0) for i in idx])
+    per_shell = np.array([sk_blocks[:, n2 == v].mean(axis=1) for v in shell_n2]).T
+    sk_mean = per_shell.mean(axis=0) * film.spacing_nm**2
+    sk_err = per_shell.std(axis=0, ddof=1) / np.sqrt(nb) * film.spacing_nm**2
     names = ["m_e", "m_z_abs", "chi_par_per_T", "chi_perp_per_T", "K_J_per_m3", "A_J_per_m"]
-    out = {"temperature_K": float(temperature_K), "L": int(L)}
+    out = {"temperature_K": float(temperature_K), "L": int(L),
+           "k_per_nm": (2 * np.pi * np.sqrt(shell_n2) / (L * film.spacing_nm)).tolist(),
+           "s_perp_nm2": sk_mean.tolist(), "s_perp_nm2_err": sk_err.tolist()}
     for k, name in enumerate(names):
         out[name] = float(val[k])
         out[name + "_err"] = float(err[k])
