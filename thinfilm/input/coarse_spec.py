@@ -62,7 +62,7 @@ class CoarseScenario:
     raw: dict
 
     def table(self):
-        return ParameterTable.from_csv(self.table_path)
+        return ParameterTable.read(self.table_path)
 
     def describe(self):
         return {"name": self.name, "source": self.source, "kind": "coarse film",
@@ -157,7 +157,7 @@ def load_coarse(source):
     if not p.is_absolute() and path != "<dict>":
         p = Path(path).parent / p
     try:
-        table = ParameterTable.from_csv(p)
+        table = ParameterTable.read(p)
     except TableError as exc:
         raise ScenarioError(str(exc), path=path, key="coarse_film.parameters") from None
     coupling = c.number("coupling", default=0.1, lo=0.0)

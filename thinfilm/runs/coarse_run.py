@@ -14,7 +14,6 @@ Where the engine refuses a temperature (the cell is not large against the correl
 why; the atomistic lattice is the tool at those temperatures.
 """
 
-import shutil
 import time
 
 import numpy as np
@@ -71,7 +70,7 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
     sc = load_coarse(source)
     table = sc.table()
     folder = RunFolder(out_dir, resume=resume, overwrite=overwrite)
-    shutil.copyfile(sc.table_path, folder.file("parameters.csv"))
+    table.to_csv(folder.file("parameters.csv"))  # a lab table with its filled-in columns
     film = CoarseFilm(table, sc.cell_nm, sc.nx, sc.ny, periodic=sc.periodic, dipolar=sc.dipolar,
                       field_T=sc.field_T, coupling=sc.coupling, renormalise=sc.renormalise,
                       seed=sc.seed)
