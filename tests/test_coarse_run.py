@@ -70,3 +70,23 @@ def test_bad_input_names_key_and_value(tmp_path):
     sc["coarse_film"] = dict(sc["coarse_film"], cells=[16])
     with pytest.raises(ScenarioError, match="coarse_film.cells"):
         load_coarse(sc)
+
+
+def test_continuum_parameters_on_nm_cells_warn_of_double_counting():
+    # the old path: room-temperature continuum parameters on 4 nm cells at 300 K
+    import warnings
+
+    from thinfilm.input.errors import ThinFilmWarning
+    from thinfilm.input.scenario import load_scenario
+
+    sc = {"lattice": {"shape": "square", "cells": [8, 8], "spacing": "4 nm"},
+          "material": {"stiffness": "10 pJ/m", "anisotropy_density": "0.9 MJ/m^3",
+                       "magnetisation": "1.1 MA/m", "thickness": "0.8 nm"},
+          "temperature": "300 K"}
+    with pytest.warns(ThinFilmWarning, match="counted twice.*cell size"):
+        load_scenario(sc)
+    # atomic spacing or T = 0: no warning
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        load_scenario(dict(sc, temperature="0 K"))
+        load_scenario(dict(sc, lattice=dict(sc["lattice"], spacing="0.3 nm")))
