@@ -100,3 +100,42 @@ def test_large_cell_correction_is_refused():
     cf = CoarseFilm(tab, 1.0, 64, 64)
     with pytest.raises(ValueError, match="not large against the correlation length"):
         cf.parameters(150.0)
+
+
+def test_above_tc_cells_sample_the_mean_field_free_energy():
+    # Above Tc the longitudinal field is Garanin's mean-field form -(1/chi)(1 + (3/5) Tc m^2 /
+    # (T - Tc)) m, i.e. f = (Ms0 / chi) (m^2 / 2 + 3 Tc m^4 / (20 (T - Tc))), and the
+    # anisotropy coefficient is held at the last row below Tc. Independent cells (A = 0) with
+    # a_par = a_perp above Tc sample exp(-V f / kB T) exactly (Fokker-Planck, as above):
+    # <m^2> against quadrature; tolerance three standard errors plus 0.5 %.
+    tc, ms0, t_nm, cell = 200.0, 6e5, 0.5, 1.0
+    T = np.array([150.0, 199.0, 260.0])
+    tab = ParameterTable(T, [0.6, 0.3, 0.0], [0.02, 0.05, 0.01], [0.05, 0.05, 0.05],
+                         [1e5, 2e4, 0.0], [0.0, 0.0, 0.0], ms0_A_per_m=ms0, tc_K=tc,
+                         thickness_nm=t_nm)
+    temp = 240.0
+    cf = CoarseFilm(tab, cell, 48, 48, renormalise=False, coupling=1.0, seed=9)
+    p = cf.parameters(temp)
+    assert p["above_tc"] and p["alpha_par"] == p["alpha_perp"]
+    m = np.zeros((48, 48, 3))
+    m[..., 2] = 0.1
+    cf.m[...] = m
+    cf.advance(3000, temp)
+    m2 = []
+    for _ in range(60):
+        cf.advance(50, temp)
+        m2.append(np.mean(np.sum(cf.m**2, axis=-1)))
+    chi = p["chi_par_per_T"]
+    kp = p["kperp_T"]
+    vol = (cell * 1e-9) ** 2 * t_nm * 1e-9
+    beta = vol / (KB_J_PER_K * temp)
+
+    def f(r, c):
+        return ms0 / chi * (r * r / 2 + 3 * tc * r**4 / (20 * (temp - tc))) \
+            + ms0 * kp / 2 * r * r * (1 - c * c)
+
+    w = lambda c, r: r * r * math.exp(-beta * f(r, c))  # noqa: E731
+    z = integrate.dblquad(w, 0, 1.5, -1, 1, epsrel=1e-9)[0]
+    ref = integrate.dblquad(lambda c, r: r * r * w(c, r), 0, 1.5, -1, 1, epsrel=1e-9)[0] / z
+    err = np.std(m2) / math.sqrt(len(m2))
+    assert abs(np.mean(m2) / ref - 1) < 0.005 + 3 * err / ref
