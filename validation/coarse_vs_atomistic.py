@@ -127,6 +127,10 @@ def main():
                     lines.append([f, T, cell, path, None, None, ma, ea, None, None])
                     continue
                 dev = 100 * (m / ma - 1)
+                print(f"  {f:.2f} Tc  {cell:g} nm  {path:19s} <|m|> = {m:.4f} +- {e:.5f}  "
+                      f"atomistic {ma:.4f} +- {ea:.5f}  deviation {dev:+.2f} %"
+                      + (f"  (cell correction {100 * corr:.1f} %)" if path == "llb" else ""),
+                      flush=True)
                 if path == "llb":
                     worst = max(worst, abs(dev))
                     sa, ea_k = np.array(r["s_perp_nm2"]), np.array(r["s_perp_nm2_err"])
@@ -138,10 +142,6 @@ def main():
                           f"{kk[sel].max():.3f} /nm (< pi / 4 nm): coarse / atomistic "
                           f"{np.min(sc[sel] / sa[sel]):.3f}-{np.max(sc[sel] / sa[sel]):.3f}, "
                           f"largest |z| {np.max(np.abs(z[sel])):.1f}")
-                print(f"  {f:.2f} Tc  {cell:g} nm  {path:19s} <|m|> = {m:.4f} +- {e:.5f}  "
-                      f"atomistic {ma:.4f} +- {ea:.5f}  deviation {dev:+.2f} %"
-                      + (f"  (cell correction {100 * corr:.1f} %)" if path == "llb" else ""),
-                      flush=True)
                 lines.append([f, T, cell, path, m, e, ma, ea, dev, corr])
     write_csv(out / "coarse_vs_atomistic.csv", header, lines)
     print(f"largest |deviation| of the renormalised coarse film where accepted: {worst:.2f} % "
