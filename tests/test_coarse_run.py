@@ -40,7 +40,7 @@ def test_run_folder_layout_and_bitwise_resume(tmp_path):
     assert man["kind"] == "coarse-film" and man["finished"]
     assert len(man["temperatures"]) == 2
     for name in ("timeseries.csv", "temperatures.csv", "parameters.csv", "checkpoint.npz",
-                 "snapshots/final.npz"):
+                 "snapshots/final.npz", "plots/temperatures.png"):
         assert (out / name).is_file(), name
     snap = load_snapshot(out / "snapshots" / "final.npz")
     assert snap["spins"].shape == (16, 16, 3)

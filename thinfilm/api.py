@@ -26,6 +26,7 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
             from thinfilm.runs.coarse_run import run_coarse
 
             run_coarse(source, out_dir, resume=resume, overwrite=overwrite, progress=progress)
+            plot_run(out_dir)
             return Path(out_dir)
     sc = _scenario(source)
     if sc.is_sweep:
@@ -78,6 +79,10 @@ def plot_run(run_dir):
 
     if kind == "sweep":
         return plots.plot_sweep(run_dir)
+    if kind == "coarse-film":
+        from thinfilm.render.coarse_plots import plot_coarse
+
+        return [plot_coarse(run_dir), *plots.plot_timeseries(run_dir)]
     return plots.plot_timeseries(run_dir)
 
 
