@@ -5,7 +5,9 @@ L x L periodic square lattice of spacing a, film thickness t, moment mu_s = Ms(0
 site and easy axis z:
 
 * m_e(T) = <|m|>, the film's mean reduced magnetisation (m = mean spin);
-* chi_par = N mu_s var(|m|) / (kB T) and chi_perp = N mu_s <m_x^2 + m_y^2> / (2 kB T), in 1/T
+* chi_par = N mu_s var(|m_z|) / (kB T) (and chi_zz = N mu_s <m_z^2> / (kB T), the
+  susceptibility of a film without order, used by the sweep above Tc) and
+  chi_perp = N mu_s <m_x^2 + m_y^2> / (2 kB T), in 1/T
   (response of the reduced magnetisation to a field in tesla; fluctuation-dissipation);
 * K(T) and A(T) from the transverse structure factor. The free energy of slow transverse
   deviations u of the unit vector m / m_e is t int [A(T) (grad u)^2 + K(T) u^2] d^2r, so per
@@ -153,7 +155,8 @@ def measure_point(film, L, temperature_K, *, seed, warmup=1000, samples=2000, ev
         y = 1.0 / sk
         slope, icpt = np.polyfit(q2, y, 1)
         c = 2 * vol_site / (kt * me**2)
-        return np.array([me, mz.mean(), chi_par, chi_perp, icpt / c, slope / c])
+        chi_zz = n * mu * np.mean(mz * mz) / kt  # zero-mean form, for rows above Tc
+        return np.array([me, mz.mean(), chi_par, chi_perp, icpt / c, slope / c, chi_zz])
 
     val, err = _jackknife(values, blocks)
     # transverse structure factor per film area (nm^2) on the shells |n|^2, k = 2 pi |n| / L a
@@ -163,7 +166,8 @@ def measure_point(film, L, temperature_K, *, seed, warmup=1000, samples=2000, ev
     per_shell = np.array([sk_blocks[:, n2 == v].mean(axis=1) for v in shell_n2]).T
     sk_mean = per_shell.mean(axis=0) * film.spacing_nm**2
     sk_err = per_shell.std(axis=0, ddof=1) / np.sqrt(nb) * film.spacing_nm**2
-    names = ["m_e", "m_z_abs", "chi_par_per_T", "chi_perp_per_T", "K_J_per_m3", "A_J_per_m"]
+    names = ["m_e", "m_z_abs", "chi_par_per_T", "chi_perp_per_T", "K_J_per_m3", "A_J_per_m",
+             "chi_zz_per_T"]
     out = {"temperature_K": float(temperature_K), "L": int(L),
            "k_per_nm": (2 * np.pi * np.sqrt(shell_n2) / (L * film.spacing_nm)).tolist(),
            "s_perp_nm2": sk_mean.tolist(), "s_perp_nm2_err": sk_err.tolist()}

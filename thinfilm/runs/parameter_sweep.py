@@ -42,6 +42,9 @@ def measure_table(film, L, temperatures_K, *, seed=1, warmup=1000, samples=2000,
             progress(k + 1, len(temps), r)
     chi = np.array([r["chi_par_per_T"] for r in rows])
     tc = temps[int(np.argmax(chi))]
+    for r in rows:  # no order above Tc: the longitudinal susceptibility is N mu <m_z^2> / kT
+        if r["temperature_K"] > tc:
+            r["chi_par_per_T"], r["chi_par_per_T_err"] = r["chi_zz_per_T"], r["chi_zz_per_T_err"]
     errors = {c: np.array([r[c + "_err"] for r in rows]) for c in COLUMNS[1:]}
     table = ParameterTable(*(np.array([r[c] for r in rows]) for c in COLUMNS), errors=errors,
                            ms0_A_per_m=film.ms0_A_per_m, tc_K=tc,
@@ -50,6 +53,8 @@ def measure_table(film, L, temperatures_K, *, seed=1, warmup=1000, samples=2000,
                            assumptions=(
                                "Tc is the sweep temperature of the largest chi_par "
                                f"(finite-size estimate on {L} x {L} sites)",
+                               "chi_par above Tc is N mu <m_z^2> / kB T (below: the "
+                               "variance of |m_z|)",
                                "K and A from a straight-line fit of 1/S_perp(k) against q^2 over "
                                "|k| <= 4 (2 pi / L); valid while the transverse modes are "
                                "Gaussian (below Tc)"))
