@@ -75,3 +75,14 @@ def test_missing_header_is_named(tmp_path):
     p.write_text("# Ms0_A_per_m = 1e6\ntemperature_K,Ms_A_per_m\n100,9e5\n200,8e5\n")
     with pytest.raises(TableError, match="bad.csv.*thickness_nm.*A0_J_per_m"):
         ParameterTable.read(p)
+
+
+def test_example_lab_scenario_loads():
+    from pathlib import Path
+
+    from thinfilm.input.coarse_spec import load_coarse
+
+    path = Path(__file__).resolve().parents[1] / "scenarios" / "coarse" / "lab_film.yaml"
+    sc = load_coarse(path)
+    tab = sc.table()
+    assert tab.source.startswith("lab table") and len(tab.assumptions) == 5
