@@ -111,11 +111,7 @@ class CoarseFilm:
         t = float(temperature_K)
         out = {"temperature_K": t}
         above = math.isfinite(tc) and t >= tc
-        if t <= 0.0:
-            par = tab.at(tab.temperature_K[0]) if tab.temperature_K[0] > 0 else tab.at(0.0)
-            par = dict(par, m_e=1.0 if tab.temperature_K[0] > 0 else par["m_e"])
-        else:
-            par = tab.at(t)
+        par = tab.at(t)  # outside the table (T = 0 included): ValueError
         out.update(par)
         ms0 = self.ms0
         if above:

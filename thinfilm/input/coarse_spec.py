@@ -172,7 +172,7 @@ def load_coarse(source):
         spread = g.number("anisotropy_spread", default=0.1, lo=0.0, hi=0.9)
     temps = _temperatures(r)
     lo, hi = table.temperature_K[0], table.temperature_K[-1]
-    bad = [t for t in temps if not (lo - 1e-9 <= t <= hi + 1e-9) and t != 0.0]
+    bad = [t for t in temps if not (lo - 1e-9 <= t <= hi + 1e-9)]
     if bad:
         raise r.error(f"{bad[0]:g} K lies outside the parameter table {p} ({lo:g} K to "
                       f"{hi:g} K): the table does not determine the film there", "temperatures")

@@ -6,8 +6,10 @@ folder has the layout of an atomistic run (manifest.json, timeseries.csv, snapsh
 the reduced magnetisation m = M / Ms(0) of every cell as ``spins``, checkpoint.npz), plus the
 parameter table it used (parameters.csv) and temperatures.csv (one row per temperature: the
 mean |<m>| over the second half of the hold with its error from 10 blocks, and the cell
-renormalisation). A checkpoint is written after every temperature and every 15 s; the noise
-is keyed by the step number, so a resumed run repeats the uninterrupted one bit for bit.
+renormalisation). A checkpoint is written after every temperature and every 15 s (then with
+the steps made at the current temperature); the noise is keyed by the step number and the
+time step is a function of the temperature, so a resumed run repeats the uninterrupted one
+bit for bit.
 
 Where the engine refuses a temperature (the cell is not large against the correlation length,
 :data:`thinfilm.engines.llb.MAX_CORRECTION`) the schedule stops there and the manifest says
@@ -85,6 +87,8 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
         film.step = int(ck["step"])
         film.time_s = float(ck["time_s"])
         k0 = int(ck["next_temperature"])
+        done0 = int(ck["done_steps"]) if "done_steps" in ck else 0
+        m_abs0 = [float(v) for v in ck["m_abs_partial"]] if "m_abs_partial" in ck else []
         rows = [list(r) for r in ck["rows"]]
         per_t = [list(r) for r in ck["per_t"]]
         n_snap = int(ck["n_snapshots"])
@@ -92,6 +96,7 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
         me0 = table.at(temps[0])["m_e"] if temps[0] > 0 else 1.0
         film.m[...] = initial_m(sc, lat, max(me0, 0.05))
         k0, rows, per_t, n_snap = 0, [], [], 0
+        done0, m_abs0 = 0, []
     manifest = {"kind": "coarse-film", "scenario": sc.describe(), "lattice": lat.describe(),
                 "table": table.describe(), "engine": "stochastic Landau-Lifshitz-Bloch",
                 "columns": {"time_ps": "ps", "temperature_K": "K", "mx": "reduced M/Ms(0)",
@@ -100,10 +105,12 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
                 "temperatures": []}
     folder.write_manifest(manifest)
 
-    def save_ck(k_next):
+    def save_ck(k_next, done=0, m_abs=()):
+        """Checkpoint before temperature k_next, ``done`` of its steps made (0: not begun)."""
         folder.write_timeseries(rows)
         folder.write_checkpoint(m=film.m, step=film.step, time_s=film.time_s,
-                                next_temperature=k_next,
+                                next_temperature=k_next, done_steps=done,
+                                m_abs_partial=np.asarray(m_abs, dtype=float),
                                 rows=np.asarray(rows, dtype=float).reshape(-1, 11),
                                 per_t=np.asarray(per_t, dtype=float).reshape(-1, 6),
                                 n_snapshots=n_snap)
@@ -125,7 +132,7 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
             n_steps = max(ROWS_PER_TEMPERATURE, int(round(sc.hold_s / dt)))
             every = max(1, n_steps // ROWS_PER_TEMPERATURE)
             snap_at = set(np.linspace(every, n_steps, sc.snapshots).astype(int) // every * every)
-            done, m_abs = 0, []
+            done, m_abs = (done0, list(m_abs0)) if k == k0 else (0, [])
             while done < n_steps:
                 n = min(every, n_steps - done)
                 film.advance(n, T, dt=dt)
@@ -143,6 +150,7 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
                                           field_T=np.asarray(sc.field_T))
                     n_snap += 1
                 if time.time() - last > CHECKPOINT_EVERY_S and done < n_steps:
+                    save_ck(k, done, m_abs)
                     last = time.time()
             per_t.append([T, float(np.mean(m_abs)), _blocks_err(m_abs), p["mu"],
                           p["renormalisation"], dt])
