@@ -38,8 +38,9 @@ from thinfilm.model.lattice import Lattice
 __all__ = ["CoarseFilm", "MAX_CORRECTION"]
 
 MAX_CORRECTION = 0.10  # refuse a cell renormalisation larger than this (relative): measured
-# against the atomistic film, the one-loop correction is good to 1.5 % up to 8 % and misses
-# by 6 % at 17 % (validation/coarse_vs_atomistic.py)
+# against the atomistic film (validation/coarse_vs_atomistic.py), the one-loop correction is
+# good to 1 % up to 5.5 %; at 13 % and 15 % (forced past the limit) the coarse film came out
+# 3 % and 11 % low, and a self-consistent (Hartree) form of the correction helps little
 
 
 class CoarseFilm:
