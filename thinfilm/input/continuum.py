@@ -90,7 +90,7 @@ def warn_continuum_cells(path, spacing_nm, continuum, t_max):
         "Ms already contain the thermal fluctuations of the real film, and the cell spins add "
         "their own on top, so the fluctuations are counted twice; and since J = 2 A t does not "
         "depend on the cell while K and mu_s grow with its area, Tc and m(T) change with the "
-        "cell size (validation/coarse_vs_atomistic.py: 7-10 % too high at 0.3 Tc on 1-4 nm "
+        "cell size (validation/coarse_vs_atomistic.py: 6.6-10 % too high at 0.3 Tc on 1-4 nm "
         "cells). Use this only at T = 0 or for atomic spacings; for a film at the scale of an "
         "image at finite temperature use a coarse_film scenario (stochastic LLB fed by the "
         "temperature-dependent parameters, README 'Atomistic lattice or coarse film').",
