@@ -48,3 +48,19 @@ def test_rate_is_garanin_form():
            - g * at * np.cross(m, np.cross(m, hh)) / m2)
     got = np.array(_rate(*m, *hh, 0.0, 0.0, 0.0, g, ap, at))
     assert np.allclose(got, ref, rtol=1e-13)
+
+
+def test_noise_rows_are_standard_normal_and_zero_sigma_clears():
+    # counter-based Box-Muller rows (thinfilm.engines._kernels.rng): mean 0, variance sigma^2
+    # (3 x 64 x 64 normals: standard error of the variance 1.6 %; tolerance 5 %); a zero sigma
+    # must overwrite the previous step's numbers (no stale noise above Tc, where a_par = a_perp)
+    from thinfilm.engines._kernels.llb import _noise
+
+    za = np.zeros((64, 64, 3))
+    zp = np.zeros((64, 64, 3))
+    _noise(64, 64, 3, 7, 0.5, 2.0, za, zp)
+    assert abs(za.std() / 0.5 - 1) < 0.05 and abs(zp.std() / 2.0 - 1) < 0.05
+    assert abs(za.mean()) < 0.05 * 0.5
+    assert not np.allclose(za[0, :, 0], za[1, :, 0])  # rows differ
+    _noise(64, 64, 3, 8, 0.5, 0.0, za, zp)
+    assert np.all(zp == 0.0)

@@ -75,7 +75,8 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
     table.to_csv(folder.file("parameters.csv"))  # a lab table with its filled-in columns
     film = CoarseFilm(table, sc.cell_nm, sc.nx, sc.ny, periodic=sc.periodic, dipolar=sc.dipolar,
                       field_T=sc.field_T, coupling=sc.coupling, renormalise=sc.renormalise,
-                      seed=sc.seed)
+                      seed=sc.seed,
+                      dipolar_precision="single" if min(sc.temperatures_K) > 0 else "double")
     ks = grain_kscale(sc, film.lattice)
     if ks is not None:
         film.kscale = np.ascontiguousarray(ks)

@@ -15,14 +15,15 @@ dipolar fields). The motion, in the stochastic form of Evans et al., Phys. Rev. 
 
 with zeta_perp a field of variance s_perp^2 per component and step and zeta_ad a rate of
 variance s_ad^2 (the driver computes both). Heun scheme (Stratonovich), the same noise in the
-predictor and the corrector. Noise of step n, cell (i, j): ``normals3(key(seed, stream, n),
-i nx + j)`` with streams 20 (zeta_ad) and 21 (zeta_perp): independent of the thread count.
+predictor and the corrector. Noise of step n, row i: ``normals_row(key(seed, stream, n),
+i ceil(3 nx / 2), ...)`` with streams 20 (zeta_ad) and 21 (zeta_perp): independent of the
+thread count.
 """
 
 import numba as nb
 import numpy as np
 
-from thinfilm.engines._kernels.rng import key, normals3
+from thinfilm.engines._kernels.rng import key, normals_row
 
 __all__ = ["llb_field", "llb_heun", "STREAM_AD", "STREAM_PERP"]
 
@@ -90,19 +91,20 @@ def _rate(mx, my, mz, hx, hy, hz, px, py, pz, gamma, a_par, a_perp):
 
 @nb.njit(parallel=True, **_OPT)
 def _noise(nx, ny, seed, step, s_ad, s_perp, z_ad, z_perp):
+    """Row i of each stream: ``normals_row`` with counters from i * ceil(3 nx / 2), written in
+    (ny, nx, 3) order (component c of cell j is normal 3 j + c of the row)."""
     kad = key(seed, STREAM_AD, step)
     kpp = key(seed, STREAM_PERP, step)
+    per_row = (3 * nx + 1) // 2
     for i in nb.prange(ny):
-        for j in range(nx):
-            c = i * nx + j
-            a, b, d = normals3(kad, c)
-            z_ad[i, j, 0] = s_ad * a
-            z_ad[i, j, 1] = s_ad * b
-            z_ad[i, j, 2] = s_ad * d
-            a, b, d = normals3(kpp, c)
-            z_perp[i, j, 0] = s_perp * a
-            z_perp[i, j, 1] = s_perp * b
-            z_perp[i, j, 2] = s_perp * d
+        if s_ad > 0.0:
+            normals_row(kad, i * per_row, s_ad, z_ad[i].reshape(3 * nx))
+        else:
+            z_ad[i] = 0.0
+        if s_perp > 0.0:
+            normals_row(kpp, i * per_row, s_perp, z_perp[i].reshape(3 * nx))
+        else:
+            z_perp[i] = 0.0
 
 
 @nb.njit(parallel=True, **_OPT)
@@ -154,7 +156,8 @@ def llb_heun(m, dipolar, periodic, coef, kscale, field_T, dt, gamma, a_par, a_pe
              s_perp, seed, step0, n_steps, work, fix_len=0.0):
     """Advance m in place by n_steps Heun steps; returns the next step index.
 
-    coef = (cex, la, lb, kperp) in tesla; dipolar: callable m -> field (ny, nx, 3) or None;
+    coef = (cex, la, lb, kperp) in tesla; dipolar: callable (m, out) writing the field (T)
+    into out (ny, nx, 3), or None;
     s_ad: standard deviation of zeta_ad dt per step (dimensionless); s_perp: of zeta_perp (T);
     fix_len > 0 keeps |m| = fix_len (T = 0: the LLG limit). work: 6 arrays (ny, nx, 3).
     """
@@ -164,14 +167,13 @@ def llb_heun(m, dipolar, periodic, coef, kscale, field_T, dt, gamma, a_par, a_pe
     bx, by, bz = (float(v) for v in field_T)
     step = step0
     for _ in range(n_steps):
-        if s_ad > 0.0 or s_perp > 0.0:
-            _noise(nx, ny, seed, step, s_ad, s_perp, z_ad, z_perp)
+        _noise(nx, ny, seed, step, s_ad, s_perp, z_ad, z_perp)  # a zero sigma writes zeros
         if dipolar is not None:
-            hd[...] = dipolar(m)
+            dipolar(m, hd)
         llb_field(m, hd, periodic, cex, la, lb, kperp, kscale, bx, by, bz, h)
         _predict(m, h, z_ad, z_perp, dt, gamma, a_par, a_perp, fix_len, mp, d1)
         if dipolar is not None:
-            hd[...] = dipolar(mp)
+            dipolar(mp, hd)
         llb_field(mp, hd, periodic, cex, la, lb, kperp, kscale, bx, by, bz, h)
         _correct(m, mp, h, z_ad, z_perp, dt, gamma, a_par, a_perp, fix_len, d1)
         step += 1
