@@ -36,7 +36,12 @@ def _print_check(sc):
           f"{lat['spacing_nm']:g} nm, {lat['edges']} edges, {model.lattice.n_sites} sites, "
           f"{model.lattice.box_nm[0]:.4g} x {model.lattice.box_nm[1]:.4g} nm")
     print(f"  moment      {mat['moment_muB']:.4g} muB per site")
-    print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
+    if mat.get("calibration"):  # exchange set from a measured Tc (thinfilm/cli_lab.py)
+        from thinfilm.cli_lab import print_calibration
+
+        print_calibration(mat["calibration"], prefix="  exchange    ")
+    else:
+        print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
     print(f"  anisotropy  K = {mat['anisotropy_meV']:.4g} meV per site along {mat['axis']} "
           f"({'easy axis' if model.anisotropy_J > 0 else 'easy plane' if model.anisotropy_J < 0 else 'none'})")
     if mat.get("dipolar"):
@@ -85,8 +90,14 @@ def _print_check(sc):
 
 
 def _cmd_check(args):
+    from thinfilm.input.coarse_spec import is_coarse
     from thinfilm.input.scenario import load_scenario
 
+    if is_coarse(args.file):
+        from thinfilm.render.coarse_check import print_coarse_check
+
+        print_coarse_check(args.file)
+        return 0
     _print_check(load_scenario(args.file))
     return 0
 
@@ -248,6 +259,11 @@ def build_parser():
                    help='length of each stochastic LLG run for the fluctuation time, e.g. "200 ps"')
     s.add_argument("-q", "--quiet", action="store_true")
     s.set_defaults(func=_cmd_plan)
+
+    # --- lab data to the model and back (thinfilm/cli_lab.py) ---
+    from thinfilm.cli_lab import add_lab_commands
+
+    add_lab_commands(sub)
     return p
 
 

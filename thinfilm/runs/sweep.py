@@ -24,6 +24,7 @@ import numpy as np
 from tqdm import tqdm
 
 from thinfilm._io import write_csv, write_json, write_npz
+from thinfilm.analysis.tc_rule import mode_keys
 from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning, option
 from thinfilm.runs.folder import versions
 from thinfilm.runs.sweep_point import (
@@ -34,7 +35,14 @@ from thinfilm.runs.sweep_point import (
     point_name,
     point_seed,
 )
-from thinfilm.runs.sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
+from thinfilm.runs.sweep_tables import (
+    COLUMN_UNITS,
+    TABLE_EXTRA,
+    length_convergence,
+    refine_temperatures,
+    select_second_moment,
+    tc_estimate,
+)
 
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
@@ -321,7 +329,8 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
         _run_chains(sc, out, chains, rows, executor, bar, window)
         extra = []
         if sc.sweep.refine == "near-tc":
-            extra = refine_temperatures(rows, sc.sweep.temperatures_K)
+            extra = refine_temperatures(rows, sc.sweep.temperatures_K,
+                                            anisotropy=sc.material.anisotropy_J)
             manifest["refined_temperatures_K"] = extra
             if extra:
                 rchains, parents = _refine_chains(sc, chains, extra)
@@ -356,15 +365,30 @@ def _write_manifest(out, manifest, started, files):
     write_json(out / "manifest.json", m)
 
 
+def _film_side(sc):
+    """Shorter side (nm) of the film of size L, as a function of L."""
+    from thinfilm.model.lattice import Lattice
+
+    lat = sc.lattice
+
+    def side(size):
+        return float(min(Lattice(lat.shape, int(size), int(size), lat.spacing_nm,
+                                 lat.periodic).box_nm))
+    return side
+
+
 def _finish(out, sc, manifest, rows, started):
     keys = sorted(rows)
-    table = [[rows[k][c] for c in ROW_COLUMNS] for k in keys]
-    write_csv(out / "observables.csv", ROW_COLUMNS, table)
-    write_json(out / "columns.json", COLUMN_UNITS)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        tc = tc_estimate(rows)
+        tc = tc_estimate(rows, anisotropy=sc.material.anisotropy_J)
     tc["warnings"] = sorted({str(w.message) for w in caught})
+    select_second_moment(rows, tc.get("tc_K"))
+    length_convergence(rows, _film_side(sc))
+    columns = ROW_COLUMNS + TABLE_EXTRA
+    table = [[rows[k][c] for c in columns] for k in keys]
+    write_csv(out / "observables.csv", columns, table)
+    write_json(out / "columns.json", COLUMN_UNITS)
     write_json(out / "tc.json", tc)
     points = [f"points/{point_name(*k)}/{f}" for k in keys
               for f in ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv",
@@ -379,4 +403,4 @@ def _finish(out, sc, manifest, rows, started):
     if low:
         warnings.warn(f"{len(low)} of {len(keys)} sweep points have fewer than 50 effectively "
                       f"independent samples (e.g. {low[0]}); their error bars are unreliable: "
-                      f"raise dynamics.sweeps.samples", ThinFilmWarning, stacklevel=3)
+                      f"raise {mode_keys(sc.mode)['samples']}", ThinFilmWarning, stacklevel=3)
