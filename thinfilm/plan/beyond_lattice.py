@@ -155,8 +155,11 @@ def _large_request(scenario, out, cols, tc_K, film_side):
     """Large-lattice points for sweep temperatures near Tc where no size converged.
 
     Up to :data:`N_LARGE_PER_SIDE` sweep temperatures per side of Tc, the closest to Tc whose
-    length is known only through finite-size scaling; one size L, the smallest power of two
-    whose film side is at least 10 x (xi + 2 errors) at all of them (at most 1024). Writes the
+    length is known only through finite-size scaling. Each gets the smallest size L (a
+    multiple of 8, at most 1024) whose film side is at least 11 x (xi + its error): converged
+    by the 10 xi rule, yet not so large that the second moment loses its precision (its
+    S(0)/S(k_min) - 1 = (khat_min xi)^2 shrinks as (L/xi)^-2). Every asked temperature runs at
+    every asked size (one scenario), which also gives two sizes to compare. Writes the
     scenario ``large_lattice.yaml`` beside the plan when the scenario came from a file, and
     returns the request with the commands (None when nothing needs a larger lattice).
     """
@@ -173,25 +176,31 @@ def _large_request(scenario, out, cols, tc_K, film_side):
         pick += side[:N_LARGE_PER_SIDE]
     if not pick:
         return None
-    need = max(10.0 * (xi[i] + 2.0 * (err[i] if np.isfinite(err[i]) else 0.0)) for i in pick)
-    size = 64
-    while film_side(size) < need and size < 1024:
-        size *= 2
+    needs, sizes = [], set()
+    for i in pick:
+        need = 11.0 * (xi[i] + (err[i] if np.isfinite(err[i]) else 0.0))
+        size = 8
+        while film_side(size) < need and size < 1024:
+            size += 8
+        needs.append(need)
+        sizes.add(size)
+    size = max(sizes)
     temps = sorted(float(T[i]) for i in pick)
-    req = {"temperatures_K": temps, "size": size, "film_side_nm": film_side(size),
-           "needed_side_nm": need,
+    req = {"temperatures_K": temps, "sizes": sorted(sizes), "size": size,
+           "film_side_nm": film_side(size), "needed_side_nm": max(needs),
            "why": ("no lattice size of the sweep converged at these temperatures near Tc; their "
                    "lengths come from finite-size scaling alone"),
-           "enough": bool(film_side(size) >= need)}
+           "enough": bool(film_side(size) >= max(needs))}
     src = Path(str(scenario.source))
     if not src.is_file():
         req["commands"] = None
-        req["how"] = (f"run the scenario with sizes: [{size}], temperature: the list above, "
+        req["how"] = (f"run the scenario with sizes: {sorted(sizes)}, temperature: the list "
+                      f"above, "
                       f"sweep order independent and cluster moves into {out / LARGE_DIR}, then "
                       f"build the plan again with reuse")
         return req
     data = yaml.safe_load(src.read_text(encoding="utf-8"))
-    data["sizes"] = [size]
+    data["sizes"] = sorted(sizes)
     data["temperature"] = [f"{t:.6g} K" for t in temps]
     sweep = dict(data.get("sweep") or {})
     # the S(k) and C(r) fits, precise where L >> xi, average over the snapshots
@@ -204,7 +213,7 @@ def _large_request(scenario, out, cols, tc_K, film_side):
     data.pop("movie", None)
     data["name"] = f"{data.get('name', 'film')}-large-lattice"
     head = ("# Written by thinfilm plan: large-lattice points near Tc for the plan of "
-            f"{src.name}\n# (Monte Carlo with cluster moves, L = {size}).\n")
+            f"{src.name}\n# (Monte Carlo with cluster moves, L = {sorted(sizes)}).\n")
     yml = Path(out) / LARGE_YAML
     atomic_write_text(yml, head + yaml.safe_dump(data, sort_keys=False))
     req["scenario"] = LARGE_YAML
