@@ -29,9 +29,8 @@ EXTRAPOLATION_COLUMNS = {
     "correlation_length_flag": ("measured (inside the temperatures where a size converged), "
                                 "finite-size scaling (inside the fitted points, where no size "
                                 "converged), extrapolated, or refused"),
-    "converged_length_nm": ("nm, correlation_length_nm of the size converged in the film size "
-                            "with the smallest error at this sweep temperature; empty where "
-                            "none converged"),
+    "converged_length_nm": ("nm, correlation_length_nm of the largest size converged in the "
+                            "film size at this sweep temperature; empty where none converged"),
     "converged_length_err_nm": "nm, its standard error",
     "converged_size": "L of that size (empty where none converged)",
     "domain_diameter_nm": "nm, the same fit of 2 sqrt(mean_domain_area_nm2 / pi) above Tc",
