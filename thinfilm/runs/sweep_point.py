@@ -36,6 +36,7 @@ from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
 from thinfilm.input.units import MEV_J
 from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
+from thinfilm.runs.folder import SNAPSHOT_FORMAT
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
            "ROW_COLUMNS", "init_worker"]
@@ -396,7 +397,9 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
                                box_nm=box if lat.periodic else None)
         a = st["area_by_label_nm2"]
         for lab in range(1, a.size):
-            dom_rows.append((k, a[lab], 2.0 * math.sqrt(a[lab] / math.pi), int(st["signs"][lab])))
+            # 7 significant digits: an area is a whole number of site areas (exact to 1e-7)
+            dom_rows.append((k, f"{a[lab]:.7g}", f"{2.0 * math.sqrt(a[lab] / math.pi):.7g}",
+                             int(st["signs"][lab])))
         al = st["all"]
         means.append(al["mean_area_nm2"])
         weighted.append(al["area_weighted_mean_area_nm2"])
@@ -481,16 +484,23 @@ def _compute(task, sc, model, lat, method, t0):
     clock = "sweep" if method == "monte-carlo" else "time_ps"
     ts_cols = ("sample", clock, "energy_meV", "m_axis", "m_norm", "mx", "my", "mz")
     m_axis = mv @ model.axis
+    # per-sample values at 7 significant digits (float32 resolution, far below the sample's
+    # own scatter): the table of a 4000-sample point is half its size at full repr
     ts_rows = [(k, series["clock"][k] if method != "monte-carlo" else int(series["clock"][k]),
-                series["energy_J"][k] / MEV_J, m_axis[k], float(np.linalg.norm(mv[k])),
-                mv[k, 0], mv[k, 1], mv[k, 2]) for k in range(len(order))]
+                *(f"{v:.7g}" for v in (series["energy_J"][k] / MEV_J, m_axis[k],
+                                       float(np.linalg.norm(mv[k])), mv[k, 0], mv[k, 1],
+                                       mv[k, 2]))) for k in range(len(order))]
     details.update({"start": task.start, "n_snapshots": len(snaps), "n_sites": lat.n_sites,
                     "blocks": int(th["n_blocks"]),
                     "second_moment_form": "ordered" if ordered else "disordered",
                     "second_moment_undefined": sm_why,  # {form: reason, "" when defined}
                     "warnings": sorted({str(w.message) for w in caught}),
                     "compute_time_s": round(time.perf_counter() - t0, 3)})
-    final_arrays = {"spins": final, "positions_nm": lat.positions_nm,
+    # float32 like every snapshot (the next point of a chain starts from it renormalised, read
+    # back from the file both in a run and in a resumed one); no positions (rebuilt from shape,
+    # spacing and grid by the snapshot reader)
+    final_arrays = {"format": np.asarray(SNAPSHOT_FORMAT),
+                    "spins": np.asarray(final, dtype=np.float32),
                     "spacing_nm": lat.spacing_nm, "box_nm": np.asarray(lat.box_nm),
                     "shape": lat.shape, "periodic": lat.periodic, "time_ps": np.asarray(time_ps),
                     "temperature_K": np.asarray(task.temperature_K),
