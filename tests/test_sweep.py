@@ -12,6 +12,7 @@ from thinfilm.input.scenario import load_scenario
 from thinfilm.runs.folder import read_csv_table
 from thinfilm.runs.sweep import run_sweep, sweep_plan
 from thinfilm.runs.sweep_point import ROW_COLUMNS, PointTask, compute_point, point_name, point_seed
+from thinfilm.runs.sweep_tables import TABLE_EXTRA
 
 pytestmark = pytest.mark.filterwarnings("ignore::thinfilm.input.errors.ThinFilmWarning")
 
@@ -22,8 +23,9 @@ def test_sweep_folder_holds_tables_points_and_manifest(tmp_path):
     sc = tiny_sweep()
     out = run_sweep(sc, tmp_path / "s", workers=1, progress=False)
     tab = read_csv_table(out / "observables.csv")
-    assert list(tab) == list(ROW_COLUMNS)
+    assert list(tab) == list(ROW_COLUMNS + TABLE_EXTRA)
     assert list(tab["size"]) == [6, 6, 6, 8, 8, 8]
+    assert np.allclose(tab["film_side_nm"], 0.3 * tab["size"])  # square lattice, 0.3 nm
     assert np.allclose(tab["temperature_K"], [1.5, 2.5, 3.5] * 2)
     assert set(tab["method"]) == {"monte-carlo"}
     # order parameter falls through the transition (common practice: ferromagnet, |m| ~ 1 at
@@ -48,9 +50,14 @@ def test_sweep_folder_holds_tables_points_and_manifest(tmp_path):
             assert f"points/{point_name(L, t)}/point.json" in man["files"]
     d = out / "points" / "L8_T2.500K"
     with np.load(d / "final.npz") as z:
-        assert z["spins"].shape == (8, 8, 3) and z["positions_nm"].shape == (8, 8, 2)
+        assert z["spins"].shape == (8, 8, 3) and "positions_nm" not in z.files  # not per point
+        assert z["spins"].dtype == np.float32
         assert float(z["temperature_K"]) == 2.5 and str(z["shape"]) == "square"
-        assert np.allclose(np.linalg.norm(z["spins"], axis=-1), 1.0)
+        assert np.allclose(np.linalg.norm(z["spins"], axis=-1), 1.0, atol=1e-6)  # float32
+    from thinfilm.runs.folder import load_snapshot
+
+    pos = load_snapshot(d / "final.npz")["positions_nm"]  # rebuilt from shape and spacing
+    assert pos.shape == (8, 8, 2) and pos[0, 1, 0] == pytest.approx(pos[1, 0, 1])
     dom = read_csv_table(d / "domain_sizes.csv")
     assert {"area_nm2", "diameter_nm", "sign"} <= set(dom)
     # every site belongs to one domain: the areas of a snapshot add up to the film (exact)
@@ -123,11 +130,11 @@ def test_bad_sweep_inputs_name_the_key_and_value(tmp_path):
                             "material": {"moment": "1 muB", "exchange": "0.25 meV"},
                             "temperature": ["1 K", "2 K"]})
         run_sweep(sc, tmp_path / "y", workers=1)
-    with pytest.raises(InputError, match="--workers must be a positive integer, got 0"):
+    with pytest.raises(InputError, match="^workers must be a positive integer, got 0"):
         run_sweep(tiny_sweep(), tmp_path / "x", workers=0)
     sc = tiny_sweep(sizes=(6,), temps=("2 K", "3 K"))
     run_sweep(sc, tmp_path / "v", workers=1, progress=False)
-    with pytest.raises(InputError, match="already holds a run.*--resume"):
+    with pytest.raises(InputError, match="already holds a run.*resume=True.*overwrite=True"):
         run_sweep(sc, tmp_path / "v", workers=1)
     with pytest.raises(InputError, match="different scenario"):
         run_sweep(tiny_sweep(sizes=(6,), temps=("2 K", "4 K")), tmp_path / "v", resume=True,
