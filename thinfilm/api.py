@@ -33,6 +33,15 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     stochastic LLG run (:mod:`thinfilm.runs.time_resolved`). See :mod:`thinfilm.input.modes`.
     """
     _refuse_worker_import("run")
+    if not hasattr(source, "is_sweep"):
+        from thinfilm.input.coarse_spec import is_coarse
+
+        if is_coarse(source):  # a coarse film (stochastic LLB on nm cells)
+            from thinfilm.runs.coarse_run import run_coarse
+
+            run_coarse(source, out_dir, resume=resume, overwrite=overwrite, progress=progress)
+            plot_run(out_dir)
+            return Path(out_dir)
     sc = _scenario(source)
     if sc.is_sweep:
         from thinfilm.runs.sweep import run_sweep
@@ -84,6 +93,10 @@ def plot_run(run_dir):
 
     if kind == "sweep":
         return plots.plot_sweep(run_dir)
+    if kind == "coarse-film":
+        from thinfilm.render.coarse_plots import plot_coarse
+
+        return [plot_coarse(run_dir), *plots.plot_timeseries(run_dir)]
     return plots.plot_timeseries(run_dir)
 
 
