@@ -132,9 +132,10 @@ def test_table_lengths_match_the_exact_ising_length_on_monte_carlo_data():
         assert math.isfinite(val) and err > 0, (name, val, err)
         assert abs(val - exact) < 3 * err + allow * exact, (name, val, err, exact)
     # statistical power (16000 snapshots; measured 3.221(40) by both second-moment forms, which
-    # see the same samples here, 3.188(40) against 3.196 and 3.117(30) against 3.209): each error is about 1.3 % of xi, so this check resolves biases
-    # of about 5 % on Monte Carlo data; the 2 % test of every estimator is the exact-spectrum
-    # test above (resolving 2 % here needs ~6x the snapshots, ~1 GB of fields). Each error
-    # must stay below 1.5 % or the check loses that power
+    # see the same samples here, 3.188(40) against 3.196 and 3.117(30) against 3.209): each
+    # error is about 1.3 % of xi, so this check resolves biases of about 5 % on Monte Carlo
+    # data; the 2 % test of every estimator is the exact-spectrum test above (resolving 2 %
+    # here needs ~6x the snapshots, ~1 GB of fields). Each error must stay below 1.5 % or the
+    # check loses that power
     for name, val, err, exact, _ in checks:
         assert err < 0.015 * exact, (name, val, err)
