@@ -140,7 +140,7 @@ def one_point(cache, shape, k, n):
         try:
             fine = crossing(temps, curves)
         except ValueError:  # no crossing in the window: move it by 10 % towards the crossing
-            below = np.all(curves[32][0] < curves[16][0])  # larger L lower: Tc lies below
+            below = np.mean(curves[48][0] - curves[32][0]) < 0  # larger L lower: Tc below
             tc *= 0.9 if below else 1.1
             continue
         small, large = fine["pairs"]
