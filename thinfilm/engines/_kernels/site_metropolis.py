@@ -14,7 +14,8 @@ tested as log(1 - u) <= -beta_i dE_i with u uniform in [0, 1):
 3. n_or over-relaxation moves S' = 2 (S.f) f/abs(f)^2 - S about the exchange + Zeeman field f.
 
 The local energy of site i in units of mu_i T is e(S) = -f.S - (kt_i/2)(S.n_i)^2 with
-f = sum_k jt_ik S_k + B, and beta_i = mu_i/(kB T) = beta_ref rel_i.
+f = sum_k (jt_ik S_k + dm_ik x S_k) + B + bs_i (the packed film form of :mod:`.site_field`),
+and beta_i = mu_i/(kB T) = beta_ref rel_i.
 
 Random numbers: key(seed, stream, sweep); site q takes normals from counters 2q, 2q + 1 and the
 uniform of move slot u (0 Gaussian, 1 reflection, 2 + r over-relaxation r) from counter
@@ -28,7 +29,7 @@ import numba as nb
 from thinfilm.engines._kernels.metropolis_layout import row_colouring
 from thinfilm.engines._kernels.metropolis_moves import _de
 from thinfilm.engines._kernels.rng import key, normal_pair, uniform01
-from thinfilm.engines._kernels.site_field import site_exchange_field, site_totals
+from thinfilm.engines._kernels.site_field import site_pair_field, site_totals, site_zeeman
 
 __all__ = ["row_classes", "site_mc_run"]
 
@@ -44,7 +45,8 @@ def _accept(k, counter, beta, de):
 
 
 @nb.njit(**_OPT)
-def _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, n_or, cnt):
+def _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, reflect, n_or,
+         cnt):
     """Visit the sites of row i left to right; accepted moves are added to cnt (3,)."""
     n = s.shape[0]
     for j in range(nx):
@@ -56,10 +58,11 @@ def _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, 
         ay = axis[q, 1]
         az = axis[q, 2]
         hk = 0.5 * kt[q]
-        fx, fy, fz = site_exchange_field(s, q, nbr, jt)
-        fx += b[0]
-        fy += b[1]
-        fz += b[2]
+        fx, fy, fz = site_pair_field(s, q, nbr, jt, dm)
+        zx, zy, zz = site_zeeman(q, bs, b[0], b[1], b[2])
+        fx += zx
+        fy += zy
+        fz += zz
         sx = s[q, 0]
         sy = s[q, 1]
         sz = s[q, 2]
@@ -105,27 +108,28 @@ def _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, 
 
 
 @nb.njit(parallel=True, **_OPT)
-def _sweep_parallel(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma,
-                    reflect, n_or, counts):
+def _sweep_parallel(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref,
+                    sigma, reflect, n_or, counts):
     for c in range(bounds.size - 1):
         for r in nb.prange(bounds[c], bounds[c + 1]):
             i = order[r]
-            _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, n_or,
-                 counts[i])
+            _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, reflect,
+                 n_or, counts[i])
 
 
 @nb.njit(**_OPT)
-def _sweep_serial(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma,
-                  reflect, n_or, counts):
+def _sweep_serial(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref,
+                  sigma, reflect, n_or, counts):
     for r in range(order.size):
         i = order[r]
-        _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, n_or,
+        _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, reflect, n_or,
              counts[i])
 
 
 @nb.njit(**_OPT)
-def site_mc_run(s, nx, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, seed,
-                stream, sweep0, n_samples, sample_every, reflect, n_or, counts, out, parallel):
+def site_mc_run(s, nx, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma,
+                seed, stream, sweep0, n_samples, sample_every, reflect, n_or, counts, out,
+                parallel):
     """n_samples x (sample_every sweeps, then totals into out[m]) on the flat spins s (n, 3).
 
     out (n_samples, 4): sum of S (3) and the energy in units of mu_ref T (see
@@ -137,13 +141,13 @@ def site_mc_run(s, nx, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, 
         for _ in range(sample_every):
             k = key(seed, stream, sweep)
             if parallel:
-                _sweep_parallel(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b,
+                _sweep_parallel(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b,
                                 beta_ref, sigma, reflect, n_or, counts)
             else:
-                _sweep_serial(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b,
+                _sweep_serial(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b,
                               beta_ref, sigma, reflect, n_or, counts)
             sweep += 1
-        mx, my, mz, ex, an, ze = site_totals(s, nbr, jt, kt, axis, occ, rel, b)
+        mx, my, mz, ex, an, ze = site_totals(s, nbr, jt, dm, kt, axis, occ, rel, b, bs)
         out[m, 0] = mx
         out[m, 1] = my
         out[m, 2] = mz
