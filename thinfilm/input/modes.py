@@ -38,8 +38,9 @@ KEY_MODES = {
                            "give several temperatures, or remove refine"),
     "material.dipolar": (LLG, "dipole-dipole field of the moments (point or prism sites) in both "
                               "Heun stages",
-                         "the Monte Carlo engine has no long-range field; set dynamics.method: "
-                         "llg"),
+                         "scenario Monte Carlo sets have no long-range field (the exact "
+                         "sequential dipolar Monte Carlo of the API costs O(N^2) per sweep); "
+                         "set dynamics.method: llg"),
     "dynamics.duration": (LLG, "length of the run (run) or sampled time per point (llg-set)",
                           "a Monte Carlo set is as long as dynamics.sweeps"),
     "dynamics.warmup": (LLG, "LLG time before recording or sampling",

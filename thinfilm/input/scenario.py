@@ -13,7 +13,7 @@ from types import SimpleNamespace
 import numpy as np
 import yaml
 
-from thinfilm.input.continuum import continuum_to_lattice
+from thinfilm.input.continuum import continuum_to_lattice, dmi_factor
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
@@ -81,7 +81,7 @@ def _material(r, lat):
     m = r.sub("material", required=True)
     continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
-    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar"})
+    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", "dmi"})
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
     if given_c and given_l:
@@ -103,10 +103,13 @@ def _material(r, lat):
         axis = m.vector("axis", default=[0, 0, 1], nonzero=True)
         mu, jj, kk = continuum_to_lattice(lat.shape, lat.spacing_nm * 1e-9, a, ku, ms, t,
                                           shape_anisotropy=shape_aniso, axis=axis)
+        dmi = m.quantity("dmi", "dmi_density", default="0 J/m^2")
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
                 "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
-                "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
-        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t)
+                "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0,
+                "dmi_J_per_m2": dmi}
+        dd = dmi_factor(lat.shape) * dmi * t * lat.spacing_nm * 1e-9
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, dd)
     dipolar, dip_t = parse_dipolar(m, lat)
     mu = m.quantity("moment", "moment", required=True, positive=True)
     jj = m.quantity("exchange", "energy", required=True)
@@ -120,7 +123,8 @@ def _material(r, lat):
         axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t)
+    dd = m.quantity("dmi", "energy", default="0 J")
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t, dd)
 
 
 def _lattice(r):
@@ -301,15 +305,13 @@ def _disorder(r, path, lat, sizes, mat, dyn):
     spec = parse_disorder(raw, path, geometry)
     if not spec.is_disordered:
         return None
-    if mat.dipolar:
-        raise r.error("the per-site (disordered) engines have no dipolar field; remove "
-                      "material.dipolar or the disorder section", "disorder")
     if dyn.method == "monte-carlo" and "cluster" in dyn.moves:
         given = isinstance(r.raw("dynamics"), dict) and "moves" in r.raw("dynamics")
         if given:
-            raise ScenarioError("cluster moves are not available for a disordered film (the "
-                                "per-site Monte Carlo engine has Metropolis moves only); set "
-                                "moves: [metropolis]", path=path, key="dynamics.moves")
+            raise ScenarioError("cluster moves are not available for a disordered film: the "
+                                "embedded-cluster reflection is not a symmetry of per-site "
+                                "anisotropy axes and constants; set moves: [metropolis]",
+                                path=path, key="dynamics.moves")
     return spec
 
 

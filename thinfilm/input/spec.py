@@ -41,6 +41,7 @@ class MaterialSpec:
     continuum: dict | None = None  # the continuum inputs when the film was given that way
     dipolar: bool = False  # dipole-dipole interaction between the site moments
     dipolar_thickness_nm: float | None = None  # prism sites a x a x t; None: point dipoles
+    dmi_J: float = 0.0  # interfacial DMI d per bond (J), D_ij = d (z x r_ij)
 
 
 @dataclass(frozen=True)
