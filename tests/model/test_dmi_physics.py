@@ -118,3 +118,23 @@ def test_monte_carlo_and_llg_see_the_same_dmi_energy(rng):
     e_mc = mc.measure()["energy_J"] * model.lattice.n_sites
     assert mc.path == "generic"
     assert e_mc == pytest.approx(film_terms(model).energy(s), rel=1e-12)
+
+
+@pytest.mark.parametrize("component,sign,kind,sense", [
+    (0, 1, "Neel", "clockwise"), (0, -1, "Neel", "anticlockwise"), (1, 1, "Bloch", None)])
+def test_wall_type_and_sense_of_hand_made_walls(component, sign, kind, sense):
+    # exact 1D profiles theta = 2 arctan exp(x / w) (Landau-Lifshitz wall shape): a Neel wall
+    # turns in the plane of its normal (x), a Bloch wall in the wall plane (y); the movie label
+    # names the same type
+    from thinfilm.render.movie import _wall_text
+
+    x = np.arange(128) - 64.0
+    th = sign * 2 * np.arctan(np.exp(x / 5.0))
+    m = np.zeros((4, 128, 3))
+    m[..., component] = np.sin(th)
+    m[..., 2] = np.cos(th)
+    ch = wall_chirality(m, periodic=False)
+    assert ch["wall_type"] == kind and ch["sense"] == sense
+    index = ch["neel_index"] if kind == "Neel" else ch["bloch_index"]
+    assert abs(index) > 0.95
+    assert _wall_text(m, False).startswith(f"{kind} walls")

@@ -52,6 +52,17 @@ def _rhs(sx, sy, sz, hx, hy, hz, gdt, alpha):
 
 
 @nb.njit(inline="always", **_OPT)
+def _field(s, q, nbr, jt, dm, kt, axis, bs, hd, bx, by, bz, row, j, nx):
+    """Field of site q (T): packed form + added field hd (if any) + noise row entry j."""
+    hx, hy, hz = site_field(s, q, nbr, jt, dm, kt, axis, bs, bx, by, bz)
+    if hd.shape[0] > 0:
+        hx += hd[q, 0]
+        hy += hd[q, 1]
+        hz += hd[q, 2]
+    return hx + row[j], hy + row[nx + j], hz + row[2 * nx + j]
+
+
+@nb.njit(inline="always", **_OPT)
 def _predict_row(i, s, nx, k, npair, sigma, nbr, jt, dm, kt, axis, bs, hd, occ, scale, bx, by,
                  bz, gdt, alpha, sp, d1, nz):
     """Noise and predictor of row i (pass 1)."""
@@ -71,14 +82,7 @@ def _predict_row(i, s, nx, k, npair, sigma, nbr, jt, dm, kt, axis, bs, hd, occ, 
         row[j] *= c
         row[nx + j] *= c
         row[2 * nx + j] *= c
-        hx, hy, hz = site_field(s, q, nbr, jt, dm, kt, axis, bs, bx, by, bz)
-        if hd.shape[0] > 0:
-            hx += hd[q, 0]
-            hy += hd[q, 1]
-            hz += hd[q, 2]
-        hx += row[j]
-        hy += row[nx + j]
-        hz += row[2 * nx + j]
+        hx, hy, hz = _field(s, q, nbr, jt, dm, kt, axis, bs, hd, bx, by, bz, row, j, nx)
         sx = s[q, 0]
         sy = s[q, 1]
         sz = s[q, 2]
@@ -104,14 +108,7 @@ def _correct_row(i, s, nx, nbr, jt, dm, kt, axis, bs, hd, occ, bx, by, bz, gdt, 
         q = i * nx + j
         if not occ[q]:
             continue
-        hx, hy, hz = site_field(sp, q, nbr, jt, dm, kt, axis, bs, bx, by, bz)
-        if hd.shape[0] > 0:
-            hx += hd[q, 0]
-            hy += hd[q, 1]
-            hz += hd[q, 2]
-        hx += row[j]
-        hy += row[nx + j]
-        hz += row[2 * nx + j]
+        hx, hy, hz = _field(sp, q, nbr, jt, dm, kt, axis, bs, hd, bx, by, bz, row, j, nx)
         dx, dy, dz = _rhs(sp[q, 0], sp[q, 1], sp[q, 2], hx, hy, hz, gdt, alpha)
         ox = s[q, 0] + 0.5 * (d1[q, 0] + dx)
         oy = s[q, 1] + 0.5 * (d1[q, 1] + dy)

@@ -31,7 +31,7 @@ from thinfilm.engines._kernels.metropolis_moves import _de
 from thinfilm.engines._kernels.rng import key, normal_pair, uniform01
 from thinfilm.engines._kernels.site_field import site_pair_field, site_totals, site_zeeman
 
-__all__ = ["row_classes", "site_mc_run"]
+__all__ = ["row_classes", "site_mc_run", "gaussian_trial", "over_relaxed"]
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 
@@ -42,6 +42,30 @@ row_classes = row_colouring  # the same row classes as the uniform Metropolis sw
 @nb.njit(inline="always", **_OPT)
 def _accept(k, counter, beta, de):
     return math.log(1.0 - uniform01(k, counter)) <= -beta * de
+
+
+@nb.njit(inline="always", **_OPT)
+def gaussian_trial(k, q, sx, sy, sz, sigma):
+    """The Gaussian trial direction (S + sigma g)/abs(S + sigma g) of site q (normals at
+    counters 2q, 2q + 1 of key k)."""
+    g0, g1 = normal_pair(k, 2 * q)
+    g2, _ = normal_pair(k, 2 * q + 1)
+    px = sx + sigma * g0
+    py = sy + sigma * g1
+    pz = sz + sigma * g2
+    inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
+    return px * inv, py * inv, pz * inv
+
+
+@nb.njit(inline="always", **_OPT)
+def over_relaxed(sx, sy, sz, fx, fy, fz, f2):
+    """S reflected about the field f (f2 = abs(f)^2 > 0): 2 (S.f) f/f2 - S, normalised."""
+    t = 2.0 * (sx * fx + sy * fy + sz * fz) / f2
+    px = t * fx - sx
+    py = t * fy - sy
+    pz = t * fz - sz
+    inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
+    return px * inv, py * inv, pz * inv
 
 
 @nb.njit(**_OPT)
@@ -66,15 +90,7 @@ def _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, r
         sx = s[q, 0]
         sy = s[q, 1]
         sz = s[q, 2]
-        g0, g1 = normal_pair(k, 2 * q)
-        g2, _ = normal_pair(k, 2 * q + 1)
-        px = sx + sigma * g0
-        py = sy + sigma * g1
-        pz = sz + sigma * g2
-        inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
-        px *= inv
-        py *= inv
-        pz *= inv
+        px, py, pz = gaussian_trial(k, q, sx, sy, sz, sigma)
         if _accept(k, 2 * n + q, beta, _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, hk)):
             sx, sy, sz = px, py, pz
             cnt[0] += 1
@@ -90,14 +106,7 @@ def _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, r
         for r in range(n_or):
             if f2 == 0.0:
                 break
-            t = 2.0 * (sx * fx + sy * fy + sz * fz) / f2
-            px = t * fx - sx
-            py = t * fy - sy
-            pz = t * fz - sz
-            inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
-            px *= inv
-            py *= inv
-            pz *= inv
+            px, py, pz = over_relaxed(sx, sy, sz, fx, fy, fz, f2)
             de = _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, hk)
             if _accept(k, (4 + r) * n + q, beta, de):
                 sx, sy, sz = px, py, pz

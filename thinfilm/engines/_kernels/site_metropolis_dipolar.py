@@ -22,8 +22,9 @@ import math
 
 import numba as nb
 
-from thinfilm.engines._kernels.rng import key, normal_pair, uniform01
+from thinfilm.engines._kernels.rng import key, uniform01
 from thinfilm.engines._kernels.site_field import site_pair_field, site_totals, site_zeeman
+from thinfilm.engines._kernels.site_metropolis import gaussian_trial, over_relaxed
 
 __all__ = ["dipolar_mc_run"]
 
@@ -98,15 +99,7 @@ def _sweep(s, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, re
         gx = fx + zx + hd[q, 0] - r * (w[0, 0] * sx + w[0, 1] * sy + w[0, 2] * sz)
         gy = fy + zy + hd[q, 1] - r * (w[1, 0] * sx + w[1, 1] * sy + w[1, 2] * sz)
         gz = fz + zz + hd[q, 2] - r * (w[2, 0] * sx + w[2, 1] * sy + w[2, 2] * sz)
-        g0, g1 = normal_pair(k, 2 * q)
-        g2, _ = normal_pair(k, 2 * q + 1)
-        px = sx + sigma * g0
-        py = sy + sigma * g1
-        pz = sz + sigma * g2
-        inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
-        px *= inv
-        py *= inv
-        pz *= inv
+        px, py, pz = gaussian_trial(k, q, sx, sy, sz, sigma)
         if _accept(k, 2 * n + q, beta, _de(sx, sy, sz, px, py, pz, gx, gy, gz, ax, ay, az, hk,
                                            hr, w)):
             sx, sy, sz = px, py, pz
@@ -124,14 +117,7 @@ def _sweep(s, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, re
         for rr in range(n_or):
             if g2n == 0.0:
                 break
-            t = 2.0 * (sx * gx + sy * gy + sz * gz) / g2n
-            px = t * gx - sx
-            py = t * gy - sy
-            pz = t * gz - sz
-            inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
-            px *= inv
-            py *= inv
-            pz *= inv
+            px, py, pz = over_relaxed(sx, sy, sz, gx, gy, gz, g2n)
             de = _de(sx, sy, sz, px, py, pz, gx, gy, gz, ax, ay, az, hk, hr, w)
             if _accept(k, (4 + rr) * n + q, beta, de):
                 sx, sy, sz = px, py, pz
