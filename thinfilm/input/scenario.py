@@ -406,8 +406,15 @@ def load_scenario(source):
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
     primary, instruments = _instruments(r)
     disorder = _disorder(r, path, lat, sizes, mat, dyn)
-    if disorder is not None and "cluster" in dyn.moves:  # default moves: Metropolis only here
-        dyn = replace(dyn, moves=("metropolis",))
+    if mat.dmi_J and dyn.method == "monte-carlo" and "cluster" in dyn.moves:
+        raw_dyn = r.raw("dynamics")
+        if isinstance(raw_dyn, dict) and "moves" in raw_dyn:
+            raise ScenarioError("cluster moves are not available with material.dmi: the "
+                                "embedded-cluster reflection of both spins of a bond reverses "
+                                "the DMI energy, so the move is not a symmetry of the film; set "
+                                "moves: [metropolis]", path=path, key="dynamics.moves")
+    if (disorder is not None or mat.dmi_J) and "cluster" in dyn.moves:
+        dyn = replace(dyn, moves=("metropolis",))  # default moves: Metropolis only here
     initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes
                                  else lat)
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, initial, every,

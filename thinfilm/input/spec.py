@@ -134,6 +134,8 @@ class Scenario:
             out["initial_width_nm"] = self.initial_width_nm
         if m.continuum:
             out["material"]["continuum"] = m.continuum
+        if m.dmi_J:
+            out["material"]["dmi_meV"] = m.dmi_J / MEV_J
         if m.dipolar:
             out["material"]["dipolar"] = True
             if m.dipolar_thickness_nm is not None:
