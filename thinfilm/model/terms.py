@@ -123,13 +123,38 @@ class Packed:
 
 
 # ---------------------------------------------------------------------------------------- terms
-class Exchange:
+class _PairTerm:
+    """Bilinear pair term on the full neighbour list: E = -(1/2) sum_i S_i.h_i, and the field
+    h_q does not depend on S_q, so a single move changes E by -(S' - S).h_q."""
+
+    def _site_field(self, s, q):  # h_q (J) from the flat spins
+        raise NotImplementedError
+
+    def energy(self, spins):
+        h = np.zeros_like(_flat(spins))
+        self.add_field(spins, h)
+        return -0.5 * float(np.sum(_flat(spins) * h))
+
+    def delta_energy(self, spins, q, s_new):
+        s = _flat(spins)
+        return -float(np.dot(np.asarray(s_new) - s[q], self._site_field(s, q)))
+
+    def merged(self, other):
+        """One term of the kind with the couplings added (uniform stays uniform)."""
+        lat = self.lattice
+        if self.value is not None and other.value is not None:
+            return type(self)(lat, self.value + other.value)
+        return type(self)(lat, (self.slots + other.slots).reshape(lat.ny, lat.nx, -1))
+
+
+class Exchange(_PairTerm):
     """E = -sum_<ij> J_ij S_i.S_j (each bond once). ``exchange_J``: a scalar J per bond (J), or
     an (ny, nx, z) array per neighbour slot (equal on the two slots of a bond)."""
 
     def __init__(self, lattice, exchange_J):
         self.lattice = lattice
         self.jj, variant = _slots(lattice, exchange_J, "exchange_J")
+        self.slots = self.jj
         self.value = float(exchange_J) if variant == "uniform" else None
         self.signature = ("exchange", variant)
 
@@ -139,43 +164,31 @@ class Exchange:
         h = np.einsum("qk,qkc->qc", self.jj, s[np.maximum(nbr, 0)])
         out.reshape(-1, 3)[...] += h
 
-    def energy(self, spins):
-        h = np.zeros_like(_flat(spins))
-        self.add_field(spins, h)
-        return -0.5 * float(np.sum(_flat(spins) * h))
+    def _site_field(self, s, q):
+        nbr = self.lattice.neighbours[q]
+        ok = nbr >= 0
+        return self.jj[q, ok] @ s[nbr[ok]]
 
-    def delta_energy(self, spins, q, s_new):
-        h = np.zeros(3)
-        s = _flat(spins)
-        for k, t in enumerate(self.lattice.neighbours[q]):
-            if t >= 0:
-                h += self.jj[q, k] * s[t]
-        return -float(np.dot(np.asarray(s_new) - s[q], h))
-
-    def merged(self, other):
-        lat = self.lattice
-        if self.value is not None and other.value is not None:
-            return Exchange(lat, self.value + other.value)
-        return Exchange(lat, (self.jj + other.jj).reshape(lat.ny, lat.nx, -1))
 
     def pack(self, p):
         p.jj += self.jj
         return True
 
 
-class DMI:
+class DMI(_PairTerm):
     """Interfacial Dzyaloshinskii-Moriya interaction, E = sum_<ij> D_ij.(S_i x S_j) with
     D_ij = d_ij (z x r_ij) / |r_ij| (each bond once; D_ji = -D_ij).
 
     ``dmi_J``: d per bond (J), a scalar or an (ny, nx, z) per-slot array (equal on both slots).
     With d > 0 the energy favours S_i x S_j along -(z x r_ij): walls and spirals of one sense
     (see :func:`thinfilm.analysis.chirality.wall_chirality`). Continuum density
-    D (J/m^2) <-> d: :func:`thinfilm.input.continuum.continuum_to_lattice`.
+    D (J/m^2) <-> d: :func:`thinfilm.input.continuum.dmi_factor`.
     """
 
     def __init__(self, lattice, dmi_J):
         self.lattice = lattice
         self.d, variant = _slots(lattice, dmi_J, "dmi_J")
+        self.slots = self.d
         self.value = float(dmi_J) if variant == "uniform" else None
         self.signature = ("dmi", variant)
         r = bond_directions(lattice)
@@ -188,24 +201,11 @@ class DMI:
         sn = s[np.maximum(nbr, 0)]
         out.reshape(-1, 3)[...] += np.cross(self.vectors, sn).sum(axis=1)
 
-    def energy(self, spins):
-        h = np.zeros_like(_flat(spins))
-        self.add_field(spins, h)
-        return -0.5 * float(np.sum(_flat(spins) * h))
+    def _site_field(self, s, q):
+        nbr = self.lattice.neighbours[q]
+        ok = nbr >= 0
+        return np.cross(self.vectors[q, ok], s[nbr[ok]]).sum(axis=0)
 
-    def delta_energy(self, spins, q, s_new):
-        s = _flat(spins)
-        h = np.zeros(3)
-        for k, t in enumerate(self.lattice.neighbours[q]):
-            if t >= 0:
-                h += np.cross(self.vectors[q, k], s[t])
-        return -float(np.dot(np.asarray(s_new) - s[q], h))
-
-    def merged(self, other):
-        lat = self.lattice
-        if self.value is not None and other.value is not None:
-            return DMI(lat, self.value + other.value)
-        return DMI(lat, (self.d + other.d).reshape(lat.ny, lat.nx, -1))
 
     def pack(self, p):
         p.dd += self.vectors
