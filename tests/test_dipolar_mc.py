@@ -4,12 +4,12 @@ import numpy as np
 import pytest
 
 from thinfilm.engines.dipolar import dipolar_constant_T
+from thinfilm.engines.dipolar_term import film_terms
 from thinfilm.engines.montecarlo import MonteCarlo
 from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 from thinfilm.model.lattice import Lattice
 from thinfilm.model.parameters import Model
-from thinfilm.model.terms import film_terms
 
 
 def _model(periodic, thickness=None, shape="square"):

@@ -6,13 +6,13 @@ import numpy as np
 import pytest
 
 from thinfilm.analysis.chirality import wall_chirality
+from thinfilm.engines.dipolar_term import film_terms
 from thinfilm.engines.montecarlo import MonteCarlo
 from thinfilm.engines.stochastic_llg import LLGSimulation
 from thinfilm.input.scenario import load_scenario
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 from thinfilm.model.lattice import Lattice
 from thinfilm.model.parameters import Model, build_model
-from thinfilm.model.terms import film_terms
 
 A, D_MJ, T_NM, SPACING = 15e-12, 1.5, 0.6, 0.4  # J/m, mJ/m^2, nm, nm
 
@@ -126,7 +126,7 @@ def test_wall_type_and_sense_of_hand_made_walls(component, sign, kind, sense):
     # exact 1D profiles theta = 2 arctan exp(x / w) (Landau-Lifshitz wall shape): a Neel wall
     # turns in the plane of its normal (x), a Bloch wall in the wall plane (y); the movie label
     # names the same type
-    from thinfilm.render.movie import _wall_text
+    from thinfilm.analysis.chirality import wall_label
 
     x = np.arange(128) - 64.0
     th = sign * 2 * np.arctan(np.exp(x / 5.0))
@@ -137,4 +137,4 @@ def test_wall_type_and_sense_of_hand_made_walls(component, sign, kind, sense):
     assert ch["wall_type"] == kind and ch["sense"] == sense
     index = ch["neel_index"] if kind == "Neel" else ch["bloch_index"]
     assert abs(index) > 0.95
-    assert _wall_text(m, False).startswith(f"{kind} walls")
+    assert wall_label(m, False).startswith(f"{kind} walls")

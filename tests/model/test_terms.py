@@ -12,18 +12,12 @@ import numpy as np
 import pytest
 
 from thinfilm.engines._kernels.site_field import site_field_all, site_totals
+from thinfilm.engines.dipolar_term import Dipolar
 from thinfilm.input.units import MU0, MU_B_J_PER_T
 from thinfilm.model.lattice import Lattice
 from thinfilm.model.site_parameters import bond_slots
-from thinfilm.model.terms import (
-    DMI,
-    Dipolar,
-    Exchange,
-    TermSet,
-    UniaxialAnisotropy,
-    Vacancies,
-    Zeeman,
-)
+from thinfilm.model.term_set import TermSet
+from thinfilm.model.terms import DMI, Exchange, UniaxialAnisotropy, Vacancies, Zeeman
 
 CASES = [(s, e) for s in ("square", "triangular", "honeycomb") for e in (True, False)]
 IDS = [f"{s}-{'p' if e else 'o'}" for s, e in CASES]
@@ -201,12 +195,12 @@ def test_prism_dipolar_move_change_is_exact(periodic, rng):
 def test_dmi_with_disorder_scales_with_the_exchange_of_each_bond():
     # a weakened grain boundary or a vacancy weakens or removes the bond's DMI in proportion
     # (the choice documented in film_terms); the film runs on the generic kernels
+    from thinfilm.engines.dipolar_term import film_terms
     from thinfilm.engines.stochastic_llg import LLGSimulation
     from thinfilm.input.disorder_spec import DisorderSpec, GrainSpec
     from thinfilm.input.units import MEV_J
     from thinfilm.model.disorder import realise_disorder
     from thinfilm.model.parameters import Model
-    from thinfilm.model.terms import film_terms
 
     lat = Lattice("triangular", 12, 8, 1.0, True)
     m = Model(lat, MU, MEV_J, 0.1 * MEV_J, dmi_J=0.2 * MEV_J)

@@ -17,7 +17,7 @@ Continuum forms: Thiaville et al., EPL 100, 57002 (2012) (the DMI energy density
 
 import numpy as np
 
-__all__ = ["wall_chirality"]
+__all__ = ["wall_chirality", "wall_label"]
 
 
 def _grad(a, axis, periodic):
@@ -71,3 +71,17 @@ def wall_chirality(spins, *, periodic=True, spacing=1.0):
     kind = "Neel" if abs(n_idx) > abs(b_idx) else "Bloch"
     sense = None if kind != "Neel" else ("clockwise" if n_idx > 0 else "anticlockwise")
     return {"neel_index": n_idx, "bloch_index": b_idx, "wall_type": kind, "sense": sense}
+
+
+def wall_label(spins, periodic=True):
+    """'Neel walls, anticlockwise (N -0.97)', 'Bloch walls (B +0.98)', 'mixed walls (...)' when
+    neither index reaches 0.5 in size, None without gradients (the movie's frame label)."""
+    ch = wall_chirality(spins, periodic=periodic)
+    n, b = ch["neel_index"], ch["bloch_index"]
+    if ch["wall_type"] is None:
+        return None
+    if max(abs(n), abs(b)) < 0.5:
+        return f"mixed walls (N {n:+.2f}, B {b:+.2f})"
+    if ch["wall_type"] == "Neel":
+        return f"Neel walls, {ch['sense']} (N {n:+.2f})"
+    return f"Bloch walls (B {b:+.2f})"

@@ -11,10 +11,11 @@ import math
 import numpy as np
 
 from thinfilm.engines._kernels.site_field import site_totals
+from thinfilm.engines.dipolar_term import film_terms
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
 from thinfilm.model.parameters import Model
 from thinfilm.model.site_parameters import SiteParameters
-from thinfilm.model.terms import TermSet, film_terms
+from thinfilm.model.term_set import TermSet
 
 __all__ = ["as_terms", "fast_model", "masked_spins", "film_measure", "film_stable_time_step"]
 
@@ -91,7 +92,7 @@ def film_stable_time_step(terms, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S
     bmax = b[occ].max() + float(np.linalg.norm(terms.field_T))
     dip = terms.dipolar
     if dip is not None:
-        from thinfilm.engines.stochastic_llg import dipolar_bound_T
+        from thinfilm.engines.dipolar import dipolar_bound_T
 
         bmax += dipolar_bound_T(terms.lattice, dip.moment_ref, dip.thickness_nm)
     g = gamma / (1 + damping**2)

@@ -14,10 +14,13 @@ import numpy as np
 
 from thinfilm.engines._kernels.site_metropolis import row_classes, site_mc_run
 from thinfilm.engines._kernels.site_metropolis_dipolar import dipolar_mc_run
+from thinfilm.engines._kernels.wolff import N_STATS
 from thinfilm.engines.film import masked_spins
 from thinfilm.model.lattice import Lattice
+from thinfilm.model.parameters import Model
+from thinfilm.model.site_parameters import SiteParameters
 
-__all__ = ["GenericSweeps", "dipolar_responses"]
+__all__ = ["GenericSweeps", "dipolar_responses", "init_generic", "check_sampler_args"]
 
 
 def dipolar_responses(dipolar):
@@ -102,3 +105,47 @@ class GenericSweeps:
 
         m, e = film_totals(self.terms, self.spins)
         return np.array([[m[0], m[1], m[2], e / self.terms.moment_ref_J_per_T]])
+
+
+def init_generic(mc, model, terms, site_params, temperature_K, reflection, init, moves):
+    """Set up a MonteCarlo ``mc`` on the generic sweeps of ``terms`` (any film that is not a
+    perfect film without DMI and dipolar field)."""
+    moves = (moves,) if isinstance(moves, str) else tuple(moves)
+    if "cluster" in moves:
+        raise ValueError(
+            "cluster moves need a perfect film without DMI or dipolar field: the embedded-"
+            "cluster reflection must be a symmetry of every on-site and pair energy, and "
+            "per-site anisotropy axes, the DMI (odd under the reflection of both spins) and "
+            "the long-range dipolar coupling break it; use Metropolis moves")
+    mc.model = model if isinstance(model, Model) else None
+    mc.params = site_params if site_params is not None else (
+        model if isinstance(model, SiteParameters) else None)
+    mc.terms = terms
+    mc.path = "generic" if terms.dipolar is None else "generic-dipolar"
+    if terms.dipolar is not None:
+        mc.parallel = False  # the exact dipolar scheme is sequential
+    an = terms.term("anisotropy")
+    k_mean = float(an.k[terms.occupied.ravel()].mean()) if an is not None else 0.0
+    mc._n_sites = terms.n_occupied
+    mc._mu = terms.moment_ref_J_per_T
+    mc._easy_axis = k_mean > 0
+    mc._axis = np.ascontiguousarray(terms.mean_axis, dtype=np.float64)
+    mc.reflection = mc._easy_axis if reflection == "auto" else bool(reflection)
+    mc.moves = ("metropolis",)
+    mc._cl = None
+    mc._cl_stats = np.zeros(N_STATS)
+    mc.last_cluster_stats = None
+    mc.temperature_K = temperature_K
+    mc._g = GenericSweeps(terms, mc.parallel)
+    mc._g.set_spins(mc._initial(init))
+
+
+def check_sampler_args(lat, stream, over_relaxation):
+    """The argument rules every Monte Carlo sampler shares (ValueError otherwise)."""
+    if lat.periodic and (lat.nx < 2 or lat.ny < 2):
+        raise ValueError("periodic Monte Carlo needs at least 2 rows and 2 columns "
+                         "(a single periodic row or column bonds a site to itself)")
+    if int(stream) < 1:
+        raise ValueError("Monte Carlo uses random streams >= 1 (0 is the LLG noise)")
+    if int(over_relaxation) < 0:
+        raise ValueError("over_relaxation must be >= 0")

@@ -27,20 +27,19 @@ from thinfilm.engines._kernels.banded import (
     to_banded,
 )
 from thinfilm.engines._kernels.metropolis import N_COUNTS, make_work, row_colouring
-from thinfilm.engines._kernels.wolff import N_STATS, make_cluster_work, mixed_samples, mixed_sweeps
+from thinfilm.engines._kernels.wolff import mixed_samples, mixed_sweeps
 from thinfilm.engines.cluster_moves import (
-    _MODE,
     CLUSTER_DIRECTIONS,
     MOVES,
-    _direction,
     cluster_moves_exact,
+    setup_clusters,
 )
 from thinfilm.engines.film import as_terms, fast_model
-from thinfilm.engines.film_mc import GenericSweeps
+from thinfilm.engines.film_mc import check_sampler_args, init_generic
 from thinfilm.input.units import KB_J_PER_K, MEV_J
 from thinfilm.model.parameters import Model
 from thinfilm.model.site_parameters import SiteParameters
-from thinfilm.model.terms import TermSet
+from thinfilm.model.term_set import TermSet
 
 __all__ = ["MonteCarlo", "cluster_moves_exact", "MOVES", "CLUSTER_DIRECTIONS"]
 
@@ -102,19 +101,12 @@ class MonteCarlo:
         if not isinstance(model, (Model, SiteParameters, TermSet)):
             raise TypeError("MonteCarlo needs a thinfilm.model.Model")
         fast = fast_model(model, site_params)
-        if fast is not None and fast.dipolar:
-            fast = None
+        fast = None if fast is not None and fast.dipolar else fast
         if not temperature_K > 0:
             raise ValueError(f"temperature must be positive (K); got {temperature_K!r}")
         terms = None if fast is not None else as_terms(model, site_params)
         lat = (fast or terms).lattice
-        if lat.periodic and (lat.nx < 2 or lat.ny < 2):
-            raise ValueError("periodic Monte Carlo needs at least 2 rows and 2 columns "
-                             "(a single periodic row or column bonds a site to itself)")
-        if int(stream) < 1:
-            raise ValueError("Monte Carlo uses random streams >= 1 (0 is the LLG noise)")
-        if int(over_relaxation) < 0:
-            raise ValueError("over_relaxation must be >= 0")
+        check_sampler_args(lat, stream, over_relaxation)
         self.seed = int(seed)
         self.stream = int(stream)
         self.n_or = int(over_relaxation)
@@ -123,13 +115,11 @@ class MonteCarlo:
         self.sigma = float(sigma)
         self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
         if terms is not None:
-            self._init_generic(model, terms, site_params, temperature_K, reflection,
-                               initial_spins, moves)
+            init_generic(self, model, terms, site_params, temperature_K, reflection,
+                         initial_spins, moves)
             return
-        model = fast
-        self.model = model
-        self.terms = None
-        self.path = "fused"
+        self.model = model = fast
+        self.terms, self.path = None, "fused"
         self._n_sites = lat.n_sites
         self._mu = model.moment_J_per_T
         self._easy_axis = model.anisotropy_J > 0
@@ -147,62 +137,7 @@ class MonteCarlo:
         self._work = make_work(self._host, self._order, self._bounds)
         self._g = None
         self.spins = self._initial(initial_spins)
-        self._setup_clusters(moves, cluster_direction, clusters_per_sweep)
-
-    def _init_generic(self, model, terms, site_params, temperature_K, reflection, init, moves):
-        moves = (moves,) if isinstance(moves, str) else tuple(moves)
-        if "cluster" in moves:
-            raise ValueError(
-                "cluster moves need a perfect film without DMI or dipolar field: the embedded-"
-                "cluster reflection must be a symmetry of every on-site and pair energy, and "
-                "per-site anisotropy axes, the DMI (odd under the reflection of both spins) and "
-                "the long-range dipolar coupling break it; use Metropolis moves")
-        self.model = model if isinstance(model, Model) else None
-        self.params = site_params if site_params is not None else (
-            model if isinstance(model, SiteParameters) else None)
-        self.terms = terms
-        self.path = "generic" if terms.dipolar is None else "generic-dipolar"
-        if terms.dipolar is not None:
-            self.parallel = False  # the exact dipolar scheme is sequential
-        an = terms.term("anisotropy")
-        k_mean = float(an.k[terms.occupied.ravel()].mean()) if an is not None else 0.0
-        self._n_sites = terms.n_occupied
-        self._mu = terms.moment_ref_J_per_T
-        self._easy_axis = k_mean > 0
-        self._axis = np.ascontiguousarray(terms.mean_axis, dtype=np.float64)
-        self.reflection = self._easy_axis if reflection == "auto" else bool(reflection)
-        self.moves = ("metropolis",)
-        self._cl = None
-        self._cl_stats = np.zeros(N_STATS)
-        self.last_cluster_stats = None
-        self.temperature_K = temperature_K
-        self._g = GenericSweeps(terms, self.parallel)
-        self._g.set_spins(self._initial(init))
-
-    def _setup_clusters(self, moves, direction, per_sweep):
-        moves = (moves,) if isinstance(moves, str) else tuple(moves)
-        bad = [m for m in moves if m not in MOVES]
-        if bad or "metropolis" not in moves:
-            raise ValueError(f"moves must be ('metropolis',) or ('metropolis', 'cluster'); got "
-                             f"{moves!r} (cluster moves alone are not ergodic: they only flip "
-                             "the spin component along the reflection direction)")
-        self.moves = tuple(m for m in MOVES if m in moves)
-        self.cluster_direction = _direction(self.model, direction)
-        self._cl = None
-        self._cl_stats = np.zeros(N_STATS)
-        self.last_cluster_stats = None
-        if "cluster" not in self.moves:
-            return
-        ok, why = cluster_moves_exact(self.model, self.cluster_direction)
-        if not ok:
-            raise ValueError(why)
-        self._tune_clusters = per_sweep is None
-        self.clusters_per_sweep = 1 if per_sweep is None else int(per_sweep)
-        if self.clusters_per_sweep < 1:
-            raise ValueError("clusters_per_sweep must be >= 1")
-        lat = self.model.lattice
-        self._cl = make_cluster_work(self._work[3], self._work[2], lat.periodic, lat.neighbours,
-                                     self._axis, _MODE[self.cluster_direction])
+        setup_clusters(self, moves, cluster_direction, clusters_per_sweep)
 
     # ---------------------------------------------------------------- state
     @property

@@ -17,15 +17,14 @@ from thinfilm.engines._kernels.site_llg import (
     site_predict_stage,
 )
 from thinfilm.engines.film import as_terms, fast_model, film_measure, masked_spins
-from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM  # sum' (a / r)^3 per lattice
 from thinfilm.input.errors import StabilityError
 from thinfilm.input.units import GAMMA_E_RAD_PER_S_T, KB_J_PER_K, MEV_J
 from thinfilm.model.labyrinth import labyrinth_spins
 from thinfilm.model.parameters import Model
 from thinfilm.model.site_parameters import SiteParameters
-from thinfilm.model.terms import TermSet
+from thinfilm.model.term_set import TermSet
 
-__all__ = ["LLGSimulation", "stable_time_step", "initial_spins", "measure", "dipolar_bound_T"]
+__all__ = ["LLGSimulation", "stable_time_step", "initial_spins", "measure"]
 
 PARALLEL_MIN_SITES = 4096  # generic path: smaller lattices run single-threaded
 
@@ -33,19 +32,6 @@ PARALLEL_MIN_SITES = 4096  # generic path: smaller lattices run single-threaded
 # precision halves the FFT time; its field errors (~1e-7 of mu0 mu_s / 4 pi a^3) are far below
 # the thermal field and the Heun truncation error. The spins and the local field stay float64.
 DIPOLAR_PRECISION = "single"
-
-
-def dipolar_bound_T(lattice, moment_J_per_T, thickness_nm):
-    """Bound of the dipolar field (T) of unit spins with moment mu_s: 2 mu0 mu_s/(4 pi a^3) x
-    sum' r^-3 for point dipoles, sum_j ||P_ij|| (self term included) for prism sites."""
-    from thinfilm.engines.dipolar import dipolar_constant_T
-
-    a = lattice.spacing_nm
-    if thickness_nm is None:
-        return 2.0 * POINT_DIPOLE_SUM[lattice.shape] * dipolar_constant_T(moment_J_per_T, a)
-    from thinfilm.model.prism_tensor import field_norm_sum
-
-    return field_norm_sum(a, thickness_nm) * a**3 * dipolar_constant_T(moment_J_per_T, a)
 
 
 def stable_time_step(model, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S_T):
@@ -66,6 +52,8 @@ def stable_time_step(model, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S_T):
     bmax = (lat.coordination * abs(model.exchange_T) + abs(model.anisotropy_T)
             + float(np.linalg.norm(model.field_T)))
     if model.dipolar:
+        from thinfilm.engines.dipolar import dipolar_bound_T
+
         bmax += dipolar_bound_T(lat, model.moment_J_per_T, model.dipolar_thickness_nm)
     g = gamma / (1 + damping**2)
     dt_det = 0.1 / (g * bmax) if bmax > 0 else math.inf
@@ -273,7 +261,8 @@ class LLGSimulation:
             dt_ok = self.stable_time_step(max(t0, 1e-9))
             raise StabilityError(
                 f"the spins became NaN at step {self.step}: the time step "
-                f"{self.time_step_s * 1e15:g} fs is too large; use at most about {dt_ok * 1e15:.3g} fs",
+                f"{self.time_step_s * 1e15:g} fs is too large; use at most about "
+                f"{dt_ok * 1e15:.3g} fs",
                 suggested_time_step_fs=dt_ok * 1e15)
 
     def _advance_generic(self, n_steps, t0, dtemp, b0, db, gdt):

@@ -16,7 +16,8 @@ error: :data:`KEY_MODES` lists where each key acts, and :func:`check_keys_for_mo
 
 from thinfilm.input.errors import ScenarioError
 
-__all__ = ["MODES", "MODE_TEXT", "KEY_MODES", "scenario_mode", "check_keys_for_mode"]
+__all__ = ["MODES", "MODE_TEXT", "KEY_MODES", "scenario_mode", "check_keys_for_mode",
+           "CLUSTER_WITH_DMI"]
 
 MODES = ("run", "llg-set", "mc-set")
 MODE_TEXT = {
@@ -28,6 +29,10 @@ MODE_TEXT = {
 ALL = MODES
 SETS = ("llg-set", "mc-set")
 LLG = ("run", "llg-set")
+
+CLUSTER_WITH_DMI = ("cluster moves are not available with material.dmi: the embedded-cluster "
+                    "reflection of both spins of a bond reverses the DMI energy, so the move is "
+                    "not a symmetry of the film; set moves: [metropolis]")
 
 # key path -> (modes where it takes effect, what it does there, how to fix a misplaced one).
 # Keys not listed here act in every mode.

@@ -18,7 +18,7 @@ from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
 from thinfilm.input.initial_spec import labyrinth_width_nm
-from thinfilm.input.modes import check_keys_for_mode, scenario_mode
+from thinfilm.input.modes import CLUSTER_WITH_DMI, check_keys_for_mode, scenario_mode
 from thinfilm.input.reader import Reader
 from thinfilm.input.spec import (
     SHAPES,
@@ -105,9 +105,8 @@ def _material(r, lat):
                                           shape_anisotropy=shape_aniso, axis=axis)
         dmi = m.quantity("dmi", "dmi_density", default="0 J/m^2")
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
-                "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
-                "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0,
-                "dmi_J_per_m2": dmi}
+                "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso, "dmi_J_per_m2": dmi,
+                "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
         dd = dmi_factor(lat.shape) * dmi * t * lat.spacing_nm * 1e-9
         return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, dd)
     dipolar, dip_t = parse_dipolar(m, lat)
@@ -123,8 +122,8 @@ def _material(r, lat):
         axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
-    dd = m.quantity("dmi", "energy", default="0 J")
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t, dd)
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t,
+                        m.quantity("dmi", "energy", default="0 J"))
 
 
 def _lattice(r):
@@ -306,8 +305,7 @@ def _disorder(r, path, lat, sizes, mat, dyn):
     if not spec.is_disordered:
         return None
     if dyn.method == "monte-carlo" and "cluster" in dyn.moves:
-        given = isinstance(r.raw("dynamics"), dict) and "moves" in r.raw("dynamics")
-        if given:
+        if isinstance(r.raw("dynamics"), dict) and "moves" in r.raw("dynamics"):
             raise ScenarioError("cluster moves are not available for a disordered film: the "
                                 "embedded-cluster reflection is not a symmetry of per-site "
                                 "anisotropy axes and constants; set moves: [metropolis]",
@@ -406,14 +404,9 @@ def load_scenario(source):
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
     primary, instruments = _instruments(r)
     disorder = _disorder(r, path, lat, sizes, mat, dyn)
-    if mat.dmi_J and dyn.method == "monte-carlo" and "cluster" in dyn.moves:
-        raw_dyn = r.raw("dynamics")
-        if isinstance(raw_dyn, dict) and "moves" in raw_dyn:
-            raise ScenarioError("cluster moves are not available with material.dmi: the "
-                                "embedded-cluster reflection of both spins of a bond reverses "
-                                "the DMI energy, so the move is not a symmetry of the film; set "
-                                "moves: [metropolis]", path=path, key="dynamics.moves")
     if (disorder is not None or mat.dmi_J) and "cluster" in dyn.moves:
+        if mat.dmi_J and "moves" in (r.raw("dynamics") or {}):
+            raise ScenarioError(CLUSTER_WITH_DMI, path=path, key="dynamics.moves")
         dyn = replace(dyn, moves=("metropolis",))  # default moves: Metropolis only here
     initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes
                                  else lat)

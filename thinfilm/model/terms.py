@@ -19,13 +19,14 @@ vacancies; a site's flat index is q = i * nx + j):
 
 Terms: :class:`Exchange` (uniform or per bond), :class:`UniaxialAnisotropy` (uniform or
 constant and axis per site), :class:`Zeeman` (uniform or per site), :class:`Vacancies`,
-:class:`DMI` (interfacial Dzyaloshinskii-Moriya, uniform or per bond) and :class:`Dipolar` (point
-dipoles or prism cells, open or periodic). Pair terms keep a full neighbour list (both slots of
+:class:`DMI` (interfacial Dzyaloshinskii-Moriya, uniform or per bond) here, and
+:class:`thinfilm.engines.dipolar_term.Dipolar` (point dipoles or prism cells, open or periodic;
+it needs the FFT field of the engines stage). Pair terms keep a full neighbour list (both slots of
 every bond), so their energy carries 1/2 and their field and single-move change do not.
 
-:class:`TermSet` is built once: terms of one kind are merged (couplings added), the packed
-form is made, and :meth:`TermSet.uniform_model` says whether the fused kernels of a perfect
-film apply (the drivers then take them by themselves).
+:class:`thinfilm.model.term_set.TermSet` is built once: terms of one kind are merged
+(couplings added), the packed form is made, and ``TermSet.uniform_model`` says whether the
+fused kernels of a perfect film apply (the drivers then take them by themselves).
 
 Adding a term: write a class here with the five members above (its numpy energy, field and
 move change are the reference the kernels are tested against), and make ``pack`` write it
@@ -34,17 +35,15 @@ a scalar per slot (symmetric), an on-site axis and constant, or a field per site
 fits none of these (non-local) gets its own field evaluation in the drivers, as the dipolar one.
 """
 
-from dataclasses import dataclass, field
-from functools import cached_property
+from dataclasses import dataclass
 
 import numpy as np
 
-from thinfilm.model.lattice import Lattice
 from thinfilm.model.neighbours import OFFSETS
 from thinfilm.model.site_parameters import bond_slots, site_classes
 
-__all__ = ["Exchange", "UniaxialAnisotropy", "Zeeman", "Vacancies", "DMI", "Dipolar",
-           "TermSet", "Packed", "bond_directions", "film_terms"]
+__all__ = ["Exchange", "UniaxialAnisotropy", "Zeeman", "Vacancies", "DMI", "Packed",
+           "bond_directions"]
 
 SQ3 = np.sqrt(3.0)
 
@@ -323,304 +322,3 @@ class Vacancies:
 
     def pack(self, p):
         return True
-
-
-class Dipolar:
-    """Dipole-dipole energy of the site moments mu_i S_i, E = -(1/2) sum_i mu_i S_i.B_i, with the
-    field B of :class:`thinfilm.engines.dipolar.DipolarField` (point dipoles, or prism cells of
-    ``thickness_nm``; open or periodic edges as the lattice) applied to (mu_j / mu_ref) S_j.
-
-    Non-local: ``pack`` returns False; the drivers add :meth:`field_T` in each LLG stage, and the
-    Monte Carlo engine keeps the field up to date after every accepted move
-    (:mod:`thinfilm.engines.dipolar_mc`).
-    """
-
-    def __init__(self, lattice, moment_J_per_T, moment_ref_J_per_T, *, thickness_nm=None,
-                 precision="double"):
-        self.lattice = lattice
-        self.mu, _ = _per_site(lattice, moment_J_per_T)
-        self.moment_ref = float(moment_ref_J_per_T)
-        self.rel = self.mu / self.moment_ref
-        self.thickness_nm = thickness_nm
-        self.precision = precision
-        self.signature = ("dipolar", "prism" if thickness_nm is not None else "point")
-        self._self = {}
-
-    @cached_property
-    def dipolar_field(self):
-        from thinfilm.engines.dipolar import DipolarField
-
-        return DipolarField(self.lattice, self.moment_ref, precision=self.precision,
-                            thickness_nm=self.thickness_nm)
-
-    def weighted(self, spins):
-        """(mu_i / mu_ref) S_i, (ny, nx, 3): what the FFT convolution reads."""
-        lat = self.lattice
-        return (_flat(spins) * self.rel[:, None]).reshape(lat.ny, lat.nx, 3)
-
-    def field_T(self, spins, out=None):
-        """Dipolar field B_i (T), (ny, nx, 3)."""
-        return self.dipolar_field.field(self.weighted(spins), out)
-
-    def add_field(self, spins, out):
-        out.reshape(-1, 3)[...] += self.mu[:, None] * self.field_T(spins).reshape(-1, 3)
-
-    def energy(self, spins):
-        b = self.field_T(spins).reshape(-1, 3)
-        return -0.5 * float(np.sum(self.mu[:, None] * _flat(spins) * b))
-
-    def self_tensor_T(self, q):
-        """W_qq (3, 3), T per unit (mu_ref) spin: the field at q of its own moment (prism self
-        demagnetisation and, periodic, its own images)."""
-        lat = self.lattice
-        p, qq = lat.period
-        i, j = divmod(int(q), lat.nx)
-        key = (i % p, j % qq)
-        if key not in self._self:
-            w = np.empty((3, 3))
-            for c in range(3):
-                s = np.zeros((lat.ny, lat.nx, 3))
-                s[i, j, c] = 1.0
-                w[:, c] = self.dipolar_field.field(s)[i, j]
-            self._self[key] = w
-        return self._self[key]
-
-    def delta_energy(self, spins, q, s_new):
-        s = _flat(spins)
-        ds = np.asarray(s_new) - s[q]
-        b = self.field_T(spins).reshape(-1, 3)[q]
-        mu, rel = self.mu[q], self.rel[q]
-        return float(-mu * ds @ b - 0.5 * mu * rel * ds @ self.self_tensor_T(q) @ ds)
-
-    def merged(self, other):
-        raise ValueError("a film has one dipolar term")
-
-    def pack(self, p):
-        return False
-
-
-# ---------------------------------------------------------------------------------------- set
-@dataclass(frozen=True)
-class TermSet:
-    """An immutable film model: a lattice, its moments and a set of energy terms.
-
-    Parameters
-    ----------
-    lattice : Lattice
-    moment_J_per_T : float or ndarray (ny, nx)
-        mu_i (J/T); 0 on vacancies (set by a :class:`Vacancies` term if not already).
-    terms : sequence of terms
-        Merged by kind at construction (one term per kind).
-    moment_ref_J_per_T : float, optional
-        Reference moment mu_ref (beta and the noise scale use it); default the largest mu_i.
-    mean_axis : 3-vector, optional
-        Axis of the order parameter (default the mean anisotropy axis, else z).
-    grain_id : ndarray (ny, nx), optional
-        Carried for the analysers.
-    """
-
-    lattice: Lattice
-    moment_J_per_T: object
-    terms: tuple
-    moment_ref_J_per_T: float | None = None
-    mean_axis: np.ndarray | None = None
-    grain_id: np.ndarray | None = None
-    _by_kind: dict = field(default_factory=dict, repr=False)
-
-    def __post_init__(self):
-        lat = self.lattice
-        by = {}
-        for t in self.terms:
-            kind = t.signature[0]
-            by[kind] = t if kind not in by else by[kind].merged(t)
-        mu = np.broadcast_to(np.asarray(self.moment_J_per_T, dtype=np.float64),
-                             (lat.ny, lat.nx)).copy()
-        occ = by["vacancies"].occupied if "vacancies" in by else np.ones((lat.ny, lat.nx), bool)
-        mu[~occ] = 0.0
-        if not np.all(mu[occ] > 0):
-            raise ValueError("every occupied site needs a positive moment")
-        mu.setflags(write=False)
-        occ = occ.copy()
-        occ.setflags(write=False)
-        ref = float(mu.max()) if self.moment_ref_J_per_T is None else float(
-            self.moment_ref_J_per_T)
-        object.__setattr__(self, "moment_J_per_T", mu)
-        object.__setattr__(self, "moment_ref_J_per_T", ref)
-        object.__setattr__(self, "terms", tuple(by.values()))
-        object.__setattr__(self, "_by_kind", by)
-        object.__setattr__(self, "occupied", occ)
-        if self.mean_axis is None:
-            a = by["anisotropy"].axis.mean(axis=0) if "anisotropy" in by else np.zeros(3)
-            a = a if np.linalg.norm(a) > 0 else np.array([0.0, 0.0, 1.0])
-        else:
-            a = np.asarray(self.mean_axis, dtype=np.float64)
-        object.__setattr__(self, "mean_axis", a / np.linalg.norm(a))
-        if "vacancies" in by and not occ.all():
-            for kind in ("exchange", "dmi"):
-                if kind in by:
-                    nbr = np.asarray(lat.neighbours)
-                    dead = ~occ.ravel()
-                    vals = by[kind].jj if kind == "exchange" else by[kind].d
-                    bad = dead[:, None] | (dead[np.maximum(nbr, 0)] & (nbr >= 0))
-                    if np.any(vals[bad] != 0):
-                        raise ValueError(f"bonds to or from vacancies must have zero {kind}")
-
-    # ------------------------------------------------------------------ description
-    @property
-    def signatures(self):
-        """Sorted tuple of the (kind, variant) signatures of the merged terms."""
-        return tuple(sorted(t.signature for t in self.terms))
-
-    def term(self, kind):
-        """The merged term of a kind ("exchange", "anisotropy", "zeeman", "dmi", "dipolar",
-        "vacancies"), or None."""
-        return self._by_kind.get(kind)
-
-    @property
-    def dipolar(self):
-        return self._by_kind.get("dipolar")
-
-    @property
-    def n_occupied(self):
-        return int(self.occupied.sum())
-
-    @property
-    def field_T(self):
-        """The uniform Zeeman field (T) (zero if the film has none or only a map)."""
-        return self.packed.b_uniform
-
-    # ------------------------------------------------------------------ reference evaluation
-    def _masked(self, spins):
-        s = np.array(spins, dtype=np.float64).reshape(self.lattice.ny, self.lattice.nx, 3)
-        s[~self.occupied] = 0.0
-        return s
-
-    def energy(self, spins):
-        """Total energy (J), the sum of the terms' energies."""
-        s = self._masked(spins)
-        return float(sum(t.energy(s) for t in self.terms))
-
-    def field_J(self, spins):
-        """-dE/dS_i summed over the terms (J per unit spin), (ny, nx, 3)."""
-        s = self._masked(spins)
-        out = np.zeros_like(s)
-        for t in self.terms:
-            t.add_field(s, out)
-        out[~self.occupied] = 0.0
-        return out
-
-    def delta_energy(self, spins, q, s_new):
-        """Exact energy change (J) of setting spin q to s_new (sum over the terms)."""
-        s = self._masked(spins)
-        return float(sum(t.delta_energy(s, q, s_new) for t in self.terms))
-
-    # ------------------------------------------------------------------ packed form
-    @cached_property
-    def packed(self):
-        """The local terms in the generic form (:class:`Packed`, joules and tesla)."""
-        lat = self.lattice
-        n, z = lat.n_sites, lat.coordination
-        p = Packed(np.zeros((n, z)), np.zeros((n, z, 3)), np.zeros(n),
-                   np.tile([0.0, 0.0, 1.0], (n, 1)), np.zeros(3), np.zeros((n, 3)))
-        for t in self.terms:
-            t.pack(p)
-        return p
-
-    @cached_property
-    def kernel_arrays(self):
-        """(nbr, jt, dm, kt, axis, bs, occ): the packed form per moment (tesla) for the
-        kernels of :mod:`thinfilm.engines._kernels.site_field`."""
-        p = self.packed
-        mu = self.moment_J_per_T.ravel()
-        inv = np.where(mu > 0, 1.0 / np.where(mu > 0, mu, 1.0), 0.0)
-        z = self.lattice.coordination
-        jt = np.ascontiguousarray(p.jj * inv[:, None])
-        dm = (np.ascontiguousarray(p.dd * inv[:, None, None]) if p.has_dm
-              else np.zeros((0, z, 3)))
-        kt = np.ascontiguousarray(2.0 * p.kk * inv)
-        bs = np.ascontiguousarray(p.bs) if p.has_bs else np.zeros((0, 3))
-        occ = np.ascontiguousarray(self.occupied.ravel().astype(np.uint8))
-        nbr = np.ascontiguousarray(np.asarray(self.lattice.neighbours))
-        return nbr, jt, dm, kt, np.ascontiguousarray(p.axis), bs, occ
-
-    @cached_property
-    def moment_rel(self):
-        """mu_i / mu_ref, (n,); 0 on vacancies."""
-        return np.ascontiguousarray(self.moment_J_per_T.ravel() / self.moment_ref_J_per_T)
-
-    @cached_property
-    def noise_scale(self):
-        """sqrt(mu_ref / mu_i), (n,); 0 on vacancies."""
-        rel = self.moment_rel
-        return np.where(rel > 0, 1.0 / np.sqrt(np.where(rel > 0, rel, 1.0)), 0.0)
-
-    def with_field(self, field_T):
-        """Copy with another uniform Zeeman field (T) (a field map is kept)."""
-        lat = self.lattice
-        old = self.term("zeeman")
-        new = (Zeeman(lat, field_T, self.moment_J_per_T) if old is None
-               else old.with_uniform(field_T))
-        terms = [t for t in self.terms if t.signature[0] != "zeeman"] + [new]
-        return TermSet(lat, self.moment_J_per_T, tuple(terms), self.moment_ref_J_per_T,
-                       self.mean_axis, self.grain_id)
-
-    # ------------------------------------------------------------------ fast path
-    def uniform_model(self):
-        """The uniform :class:`thinfilm.model.parameters.Model` of this set when the fused
-        kernels of a perfect film can run it (uniform exchange, anisotropy and Zeeman, optional
-        dipolar, one moment, no vacancies, no other term), else None."""
-        from thinfilm.model.parameters import Model
-
-        allowed = {("exchange", "uniform"), ("anisotropy", "uniform"), ("zeeman", "uniform"),
-                   ("dipolar", "point"), ("dipolar", "prism")}
-        if not set(self.signatures) <= allowed or "exchange" not in self._by_kind:
-            return None
-        mu = self.moment_J_per_T
-        if not self.occupied.all() or np.any(mu != mu.flat[0]):
-            return None
-        an = self.term("anisotropy")
-        dip = self.dipolar
-        return Model(self.lattice, float(mu.flat[0]), self.term("exchange").value,
-                     0.0 if an is None else float(an.k[0]),
-                     (0.0, 0.0, 1.0) if an is None else an.axis[0], self.field_T.copy(),
-                     dip is not None, None if dip is None else dip.thickness_nm)
-
-
-def film_terms(model, site_params=None, *, dipolar_precision="double"):
-    """The :class:`TermSet` of a uniform Model, or of a disorder realisation (SiteParameters)
-    of it. The model's DMI (``model.dmi_J``) is scaled per bond like the exchange with
-    disorder (d_ij = d J_ij / J: a weakened or missing bond loses its DMI in proportion), and
-    the model's dipolar field acts on the per-site moments."""
-    from thinfilm.model.parameters import Model
-    from thinfilm.model.site_parameters import SiteParameters
-
-    if isinstance(model, TermSet):
-        return model
-    if isinstance(model, SiteParameters) and site_params is None:
-        model, site_params = None, model
-    lat = model.lattice if model is not None else site_params.lattice
-    if model is not None and not isinstance(model, Model):
-        raise TypeError("film_terms needs a Model (call build_model(scenario) first)")
-    dmi = 0.0 if model is None else float(getattr(model, "dmi_J", 0.0))
-    if site_params is None:
-        mu = model.moment_J_per_T
-        terms = [Exchange(lat, model.exchange_J),
-                 UniaxialAnisotropy(lat, model.anisotropy_J, model.axis),
-                 Zeeman(lat, model.field_T, mu)]
-        if dmi:
-            terms.append(DMI(lat, dmi))
-        ref, mean_axis, grains = mu, model.axis, None
-    else:
-        p = site_params
-        mu = p.moment_J_per_T
-        terms = [Exchange(lat, p.exchange_J), UniaxialAnisotropy(lat, p.anisotropy_J, p.axis),
-                 Zeeman(lat, p.field_T, mu)]
-        if not p.occupied.all():
-            terms.append(Vacancies(lat, p.occupied))
-        if dmi:
-            terms.append(DMI(lat, dmi * p.exchange_J / model.exchange_J))
-        ref, mean_axis, grains = p.moment_ref_J_per_T, p.mean_axis, p.grain_id
-    if model is not None and model.dipolar:
-        terms.append(Dipolar(lat, mu, ref, thickness_nm=model.dipolar_thickness_nm,
-                             precision=dipolar_precision))
-    return TermSet(lat, mu, tuple(terms), ref, mean_axis, grains)

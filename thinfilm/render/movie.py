@@ -7,6 +7,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from thinfilm.analysis.chirality import wall_label
 from thinfilm.input.errors import InputError
 from thinfilm.render.frames import (
     COLOURS,
@@ -184,7 +185,7 @@ class _Painter:
         if self.labels:
             th = max(10, img.shape[0] // 24)
             y = max(4, th // 2)  # room above the first line for its box and accents
-            extra = [_wall_text(s, self.periodic)] if self.colour == "angle" else []
+            extra = [wall_label(s, self.periodic)] if self.colour == "angle" else []
             for text in [*_frame_text(fr), *[e for e in extra if e]]:
                 _, h = draw_label(img, text, (max(2, th // 4), y), height_px=th)
                 y += h + 1
@@ -224,23 +225,6 @@ def _manifest_instrument(manifest, where):
     if "pixel_nm" in ins:
         out["pixel_nm"] = ins["pixel_nm"]
     return out
-
-
-def _wall_text(spins, periodic):
-    """'Neel walls, anticlockwise' etc. from the Neel / Bloch indices of the frame
-    (:func:`thinfilm.analysis.chirality.wall_chirality`); 'mixed walls' when neither index
-    reaches 0.5 in size; None without gradients."""
-    from thinfilm.analysis.chirality import wall_chirality
-
-    ch = wall_chirality(spins, periodic=periodic)
-    n, b = ch["neel_index"], ch["bloch_index"]
-    if ch["wall_type"] is None:
-        return None
-    if max(abs(n), abs(b)) < 0.5:
-        return f"mixed walls (N {n:+.2f}, B {b:+.2f})"
-    if ch["wall_type"] == "Neel":
-        return f"Neel walls, {ch['sense']} (N {n:+.2f})"
-    return f"Bloch walls (B {b:+.2f})"
 
 
 def _frame_text(fr):
