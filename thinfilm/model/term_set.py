@@ -150,7 +150,7 @@ class TermSet:
         dm = (np.ascontiguousarray(p.dd * inv[:, None, None]) if p.has_dm
               else np.zeros((0, z, 3)))
         kt = np.ascontiguousarray(2.0 * p.kk * inv)
-        bs = np.ascontiguousarray(p.bs) if p.has_bs else np.zeros((0, 3))
+        bs = np.ascontiguousarray(p.bs)  # zeros without a map: bx + 0.0 == bx exactly
         occ = np.ascontiguousarray(self.occupied.ravel().astype(np.uint8))
         nbr = np.ascontiguousarray(np.asarray(self.lattice.neighbours))
         return nbr, jt, dm, kt, np.ascontiguousarray(p.axis), bs, occ
