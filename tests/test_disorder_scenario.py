@@ -79,6 +79,12 @@ def test_realisations_are_averaged_and_tc_spread_is_reported(tmp_path):
     np.testing.assert_allclose(spread, np.abs(reals[0]["m_abs"] - reals[1]["m_abs"]) / np.sqrt(2))
     tc = json.loads((out / "tc.json").read_text())
     assert len(tc["tc_realisations_K"]) == 2
+    # one Tc in tc.json: the realisations' mean is a labelled cross-check, not a second value
+    assert "tc_mean_K" not in tc
+    good = [t for t in tc["tc_realisations_K"] if t is not None]
+    if good:
+        means = [c for c in tc["cross_checks"] if c["method"] == "realisation_mean"]
+        assert len(means) == 1 and means[0]["tc_K"] == pytest.approx(np.mean(good))
     # grains: the pinning columns are filled; the expected fraction is the boundary-bond share
     assert np.all((avg["wall_on_boundary_expected"] > 0) & (avg["wall_on_boundary_expected"] < 1))
 
@@ -92,4 +98,5 @@ def test_a_run_with_vacancies_keeps_them_empty(tmp_path):
     norms = np.linalg.norm(s, axis=-1)
     empty = norms == 0
     assert 0 < empty.sum() < s.shape[0] * s.shape[1]  # some sites are vacancies
-    np.testing.assert_allclose(norms[~empty], 1.0, atol=1e-12)  # unit spins elsewhere
+    # unit spins elsewhere, to float32 rounding (snapshots keep 24-bit mantissas: 6e-8 each)
+    np.testing.assert_allclose(norms[~empty], 1.0, atol=1e-6)

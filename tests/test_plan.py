@@ -88,7 +88,14 @@ def plan(tmp_path_factory):
 def test_plan_tc_and_window_bracket_the_exact_tc(plan):
     res, folder = plan
     p = json.loads((folder / "plan.json").read_text())
+    # Tc comes from the sweep's data by the stated rule (one size: the susceptibility peak,
+    # symmetric about the exact Tc in the synthetic forms), not from the value the fixture put
+    # into tc.json (TC + 0.05); tolerance: 3 quoted errors
+    assert p["tc_method"] == f"susceptibility peak L = {L}"
     assert abs(p["tc_K"] - TC) < 3 * p["tc_err_K"]
+    assert p["tc_K"] != pytest.approx(TC + 0.05, abs=1e-9)
+    tcj = json.loads((folder / "tc.json").read_text())
+    assert tcj["tc_K"] == p["tc_K"] and tcj["tc_err_K"] == p["tc_err_K"]  # one source of truth
     lo, hi = p["breakup_window_K"]
     elo, ehi = p["breakup_window_err_K"]
     assert lo + 2 * elo < TC < hi - 2 * ehi
@@ -125,13 +132,17 @@ def test_schedule_is_denser_near_tc(plan):
     assert s[0] >= TEMPS[0] and s[-1] <= TEMPS[-1] and np.all(gaps > 0)
 
 
-def test_tc_fallback_from_the_susceptibility_peak(tmp_path):
+def test_a_tc_json_from_an_earlier_rule_is_rewritten(tmp_path):
     sc = make_synthetic_sweep(tmp_path, tc_json=False)
+    man = json.loads((tmp_path / "manifest.json").read_text())
+    write_json(tmp_path / "manifest.json", dict(man, tc_K=33.0))
+    write_json(tmp_path / "tc.json", {"tc_K": 33.0, "tc_err_K": 0.01, "method": "binder_crossing"})
     p = make_plan(sc, tmp_path, resolution="2 nm", exposure="10 ms", reuse=True, progress=False,
                   **FAST)["plan"]
-    assert "susceptibility_peak" in p["tc_method"]
-    # the synthetic peak is symmetric about the exact Tc; half a grid step for the parabola
-    assert abs(p["tc_K"] - TC) < 3 * p["tc_err_K"] + 0.5
+    assert p["tc_json_rewritten"] and p["tc_K"] != 33.0
+    assert json.loads((tmp_path / "tc.json").read_text())["tc_K"] == p["tc_K"]
+    assert json.loads((tmp_path / "manifest.json").read_text())["tc_K"] == p["tc_K"]
+    assert "rewritten by this plan" in (tmp_path / "plan.md").read_text()
 
 
 def test_coarse_resolution_takes_the_resolved_window_from_the_extrapolation(tmp_path):
@@ -141,30 +152,51 @@ def test_coarse_resolution_takes_the_resolved_window_from_the_extrapolation(tmp_
     assert not any(q["resolved"] for q in p["points"])  # no lattice point reaches 30 nm
     assert p["resolved_window_extrapolated"] and "extrapolated beyond it" in p["resolved_note"]
     lo, hi = p["resolved_window_K"]
-    # synthetic xi = 0.5 nm / |t| above Tc (see _curves): xi > 30 nm for T - Tc < Tc / 60
+    # synthetic xi = 0.5 nm / |t| above Tc and 0.25 nm / |t| below (see _curves): xi > 30 nm
+    # for T - Tc < Tc / 60 above and Tc - T < Tc / 120 below (exact for the synthetic forms,
+    # with the plan's Tc in t); tolerance: 3 standard errors of the fitted half-widths plus
+    # 10 % for the fit's correction term c |t|
     assert lo < p["tc_K"] < hi
-    assert hi - p["tc_K"] == pytest.approx(TC / 60, rel=0.5)
+    hw = p["extrapolation"]["resolved_halfwidth_K"]
+    assert hi - p["tc_K"] == pytest.approx(hw["above"][0], rel=1e-9)
+    assert abs(hw["above"][0] - p["tc_K"] / 60) < 3 * hw["above"][1] + 0.1 * p["tc_K"] / 60
 
 
 @pytest.mark.parametrize("kw, words", [
-    ({"resolution": "-30 nm"}, ["--resolution", "positive"]),
-    ({"resolution": "30"}, ["--resolution", "no unit"]),
-    ({"exposure": "10 nm"}, ["--exposure", "wrong kind of unit"]),
-    ({"resolution": "10 um", "field_of_view": "5 um"}, ["--resolution", "smaller than --field-of-view"]),
-    ({"exposure": None}, ["no instrument exposure", "--exposure"]),
+    ({"resolution": "-30 nm"}, ["resolution '-30 nm'", "positive", 'resolution="30 nm"']),
+    ({"resolution": "30"}, ["resolution '30'", "no unit"]),
+    ({"exposure": "10 nm"}, ["exposure '10 nm'", "wrong kind of unit"]),
+    ({"resolution": "10 um", "field_of_view": "5 um"},
+     ["resolution", "smaller than field_of_view"]),
+    ({"exposure": None}, ["no instrument exposure", 'exposure="10 ms"']),
     ({"dwell": "five minutes"}, ["dwell"]),
 ])
 def test_bad_instrument_values_are_input_errors(tmp_path, kw, words):
+    """Called from Python, the messages name the keywords (no command-line flags)."""
     args = {"resolution": "30 nm", "exposure": "10 ms", "field_of_view": "5 um", **kw}
     with pytest.raises(InputError) as exc:
         make_plan(SCENARIO, tmp_path, reuse=True, progress=False, **args)
     for w in words:
         assert w in str(exc.value)
+    assert "--" not in str(exc.value)
+
+
+def test_bad_instrument_value_on_the_command_line_names_the_flag(tmp_path, capsys):
+    import yaml
+
+    from thinfilm.cli import main
+
+    f = tmp_path / "film.yaml"
+    f.write_text(yaml.safe_dump(SCENARIO))
+    assert main(["plan", str(f), "-o", str(tmp_path / "out"), "--resolution", "30",
+                 "--exposure", "10 ms", "-q"]) == 2
+    err = capsys.readouterr().err
+    assert "--resolution '30'" in err and '--resolution "30 nm"' in err
 
 
 def test_a_folder_with_a_run_needs_reuse(tmp_path):
     make_synthetic_sweep(tmp_path)
-    with pytest.raises(InputError, match="--reuse"):
+    with pytest.raises(InputError, match=r"reuse=True.*\(out_dir\)"):
         make_plan(SCENARIO, tmp_path, resolution="2 nm", exposure="1 s", progress=False, **FAST)
 
 
@@ -205,7 +237,7 @@ def test_a_plan_per_named_instrument_reuses_the_fluctuation_runs(tmp_path):
     # a coarser instrument resolves a narrower window (xi must exceed its resolution)
     wa, wb = a["plan"]["resolved_window_K"], b["plan"]["resolved_window_K"]
     assert wb[1] - wb[0] < wa[1] - wa[0]
-    with pytest.raises(InputError, match="--instrument 'sem'"):
+    with pytest.raises(InputError, match="^instrument 'sem'"):  # from Python: the keyword
         make_plan(sc, tmp_path, reuse=True, progress=False, instrument="sem", **FAST)
 
 

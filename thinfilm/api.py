@@ -12,6 +12,19 @@ def _scenario(source):
     return source if isinstance(source, Scenario) else load_scenario(source)
 
 
+def _refuse_worker_import(name):
+    """A sweep's worker processes import the user's script; work done at its top level would run
+    again in every worker (and find the folder its parent is filling). Say how to guard it."""
+    import multiprocessing
+
+    if getattr(multiprocessing.current_process(), "_inheriting", False):
+        raise InputError(
+            f"thinfilm.{name}() was called while a worker process was importing the script that "
+            f"calls it: a sweep's workers import that script, so its top-level code runs again "
+            f"in each of them. Put the calls under 'if __name__ == \"__main__\":' (see the "
+            f"example in help(thinfilm)); a notebook needs no guard")
+
+
 def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None, progress=True):
     """Run a scenario (path, dict or Scenario) into ``out_dir``; return the folder path.
 
@@ -19,6 +32,16 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     realisations: :mod:`thinfilm.runs.ensemble_sweep`), otherwise as one time-resolved
     stochastic LLG run (:mod:`thinfilm.runs.time_resolved`). See :mod:`thinfilm.input.modes`.
     """
+    _refuse_worker_import("run")
+    if not hasattr(source, "is_sweep"):
+        from thinfilm.input.coarse_spec import is_coarse
+
+        if is_coarse(source):  # a coarse film (stochastic LLB on nm cells)
+            from thinfilm.runs.coarse_run import run_coarse
+
+            run_coarse(source, out_dir, resume=resume, overwrite=overwrite, progress=progress)
+            plot_run(out_dir)
+            return Path(out_dir)
     sc = _scenario(source)
     if sc.is_sweep:
         from thinfilm.runs.sweep import run_sweep
@@ -70,6 +93,10 @@ def plot_run(run_dir):
 
     if kind == "sweep":
         return plots.plot_sweep(run_dir)
+    if kind == "coarse-film":
+        from thinfilm.render.coarse_plots import plot_coarse
+
+        return [plot_coarse(run_dir), *plots.plot_timeseries(run_dir)]
     return plots.plot_timeseries(run_dir)
 
 
@@ -80,4 +107,5 @@ def plan(source, out_dir, **options):
     """
     from thinfilm.plan import make_plan
 
+    _refuse_worker_import("plan")
     return make_plan(_scenario(source), out_dir, runner=run, **options)

@@ -17,7 +17,7 @@ error: :data:`KEY_MODES` lists where each key acts, and :func:`check_keys_for_mo
 from thinfilm.input.errors import ScenarioError
 
 __all__ = ["MODES", "MODE_TEXT", "KEY_MODES", "scenario_mode", "check_keys_for_mode",
-           "CLUSTER_WITH_DMI"]
+           "CLUSTER_WITH_DMI", "metropolis_where_needed"]
 
 MODES = ("run", "llg-set", "mc-set")
 MODE_TEXT = {
@@ -114,3 +114,16 @@ def check_keys_for_mode(data, mode, path, *, n_temperatures):
         raise ScenarioError("refine: near-tc needs several temperatures to find Tc between; "
                             "give a wider {start, stop, step} range or remove refine",
                             path=path, key="temperature.refine")
+
+
+def metropolis_where_needed(r, path, mat, disorder, dyn):
+    """The dynamics with Metropolis moves only where cluster moves are not exact (a disordered
+    film, a film with DMI); cluster moves asked for explicitly with DMI are refused here (the
+    disorder section refuses its own)."""
+    from dataclasses import replace
+
+    if (disorder is not None or mat.dmi_J) and "cluster" in dyn.moves:
+        if mat.dmi_J and "moves" in (r.raw("dynamics") or {}):
+            raise ScenarioError(CLUSTER_WITH_DMI, path=path, key="dynamics.moves")
+        dyn = replace(dyn, moves=("metropolis",))  # default moves: Metropolis only here
+    return dyn

@@ -13,12 +13,13 @@ from types import SimpleNamespace
 import numpy as np
 import yaml
 
-from thinfilm.input.continuum import continuum_to_lattice, dmi_factor
+from thinfilm.input import calibration_spec as curie
+from thinfilm.input.continuum import continuum_to_lattice, dmi_factor, warn_continuum_cells
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
 from thinfilm.input.initial_spec import labyrinth_width_nm
-from thinfilm.input.modes import CLUSTER_WITH_DMI, check_keys_for_mode, scenario_mode
+from thinfilm.input.modes import check_keys_for_mode, metropolis_where_needed, scenario_mode
 from thinfilm.input.reader import Reader
 from thinfilm.input.spec import (
     SHAPES,
@@ -81,7 +82,7 @@ def _material(r, lat):
     m = r.sub("material", required=True)
     continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
-    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", "dmi"})
+    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", "dmi", curie.KEY})
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
     if given_c and given_l:
@@ -89,12 +90,12 @@ def _material(r, lat):
             f"give either lattice parameters (moment, exchange, anisotropy) or continuum parameters "
             f"(stiffness, anisotropy_density, magnetisation, thickness), not both; got {sorted(m.data)}", "")
     if given_c:
-        a = m.quantity("stiffness", "stiffness", required=True, nonneg=True)
         ku = m.quantity("anisotropy_density", "energy_density", default="0 J/m^3")
         ms = m.quantity("magnetisation", "magnetisation", required=True, positive=True)
         t = m.quantity("thickness", "length", required=True, positive=True)
         dipolar, dip_t = parse_dipolar(m, lat, t)
         shape_aniso = m.flag("shape_anisotropy", default=False)
+        a, calib = curie.continuum_stiffness(m, lat, ku, ms, t, shape_aniso, dipolar)
         if dipolar and shape_aniso:
             raise m.error("shape_anisotropy: true folds the thin-film demagnetising energy into K, "
                           "and dipolar: true computes it from the moments: together they count it "
@@ -107,11 +108,10 @@ def _material(r, lat):
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
                 "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso, "dmi_J_per_m2": dmi,
                 "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
-        dd = dmi_factor(lat.shape) * dmi * t * lat.spacing_nm * 1e-9
-        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, dd)
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, calib,
+                            dmi_J=dmi_factor(lat.shape) * dmi * t * lat.spacing_nm * 1e-9)
     dipolar, dip_t = parse_dipolar(m, lat)
     mu = m.quantity("moment", "moment", required=True, positive=True)
-    jj = m.quantity("exchange", "energy", required=True)
     aniso = m.raw("anisotropy")
     if aniso is None:
         kk, axis = 0.0, np.array([0.0, 0.0, 1.0])
@@ -122,8 +122,9 @@ def _material(r, lat):
         axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t,
-                        m.quantity("dmi", "energy", default="0 J"))
+    jj, calib = curie.lattice_exchange(m, lat, kk, dipolar)  # given, or from a measured Tc
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t, calib,
+                        dmi_J=m.quantity("dmi", "energy", default="0 J"))
 
 
 def _lattice(r):
@@ -404,12 +405,10 @@ def load_scenario(source):
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
     primary, instruments = _instruments(r)
     disorder = _disorder(r, path, lat, sizes, mat, dyn)
-    if (disorder is not None or mat.dmi_J) and "cluster" in dyn.moves:
-        if mat.dmi_J and "moves" in (r.raw("dynamics") or {}):
-            raise ScenarioError(CLUSTER_WITH_DMI, path=path, key="dynamics.moves")
-        dyn = replace(dyn, moves=("metropolis",))  # default moves: Metropolis only here
+    dyn = metropolis_where_needed(r, path, mat, disorder, dyn)
     initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes
                                  else lat)
+    warn_continuum_cells(path, lat.spacing_nm, bool(mat.continuum), max(temps))
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, initial, every,
                     snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments,
                     disorder, initial_width_nm=width_nm)

@@ -24,7 +24,8 @@ import numpy as np
 from tqdm import tqdm
 
 from thinfilm._io import write_csv, write_json, write_npz
-from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
+from thinfilm.analysis.tc_rule import mode_keys
+from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning, option
 from thinfilm.runs.folder import versions
 from thinfilm.runs.sweep_point import (
     ROW_COLUMNS,
@@ -34,7 +35,14 @@ from thinfilm.runs.sweep_point import (
     point_name,
     point_seed,
 )
-from thinfilm.runs.sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
+from thinfilm.runs.sweep_tables import (
+    COLUMN_UNITS,
+    TABLE_EXTRA,
+    length_convergence,
+    refine_temperatures,
+    select_second_moment,
+    tc_estimate,
+)
 
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
@@ -115,13 +123,14 @@ def _executor(n_tasks, workers, cluster):
         try:
             from distributed import Client
         except ImportError:
-            raise InputError(f"--cluster {cluster}: the Dask client is not installed; "
-                             f"install thinfilm[cluster] (dask[distributed])") from None
+            raise InputError(f"{option('cluster', repr(cluster))}: the Dask client is not "
+                             f"installed; install thinfilm[cluster] (dask[distributed])") from None
         try:
             client = Client(cluster, timeout=f"{CONNECT_TIMEOUT_S}s")
         except (OSError, TimeoutError) as exc:
-            raise InputError(f"--cluster {cluster}: cannot reach a Dask scheduler there ({exc}); "
-                             f"give the address a running scheduler prints, e.g. "
+            raise InputError(f"{option('cluster', repr(cluster))}: cannot reach a Dask "
+                             f"scheduler there ({exc}); give the address a running scheduler "
+                             f"prints, e.g. "
                              f"tcp://host:8786") from None
         slots = sum(client.nthreads().values())
         return client.get_executor(pure=False), {"kind": "dask", "address": cluster,
@@ -129,7 +138,8 @@ def _executor(n_tasks, workers, cluster):
                                                  "window": max(4, 2 * slots)}, client.close
     cores = available_cores()
     if workers is not None and (isinstance(workers, bool) or int(workers) < 1):
-        raise InputError(f"--workers must be a positive integer, got {workers!r}")
+        raise InputError(f"{option('workers', None)} must be a positive integer, got "
+                         f"{workers!r}")
     n = min(int(workers) if workers else cores, max(1, n_tasks))
     if n == 1:
         return _Inline(), {"kind": "inline", "workers": 1, "window": 1}, lambda: None
@@ -165,8 +175,11 @@ def _read_point(out, name):
 
 
 def _final_spins(out, name):
+    """The final state of a point, renormalised (snapshots keep float32 spins)."""
     with np.load(out / "points" / name / "final.npz", allow_pickle=False) as d:
-        return np.array(d["spins"], dtype=np.float64)
+        s = np.array(d["spins"], dtype=np.float64)
+    norm = np.linalg.norm(s, axis=-1, keepdims=True)
+    return np.divide(s, norm, out=np.zeros_like(s), where=norm > 0)  # vacancies stay empty
 
 
 def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
@@ -237,11 +250,13 @@ def _refine_chains(sc, chains, extra):
 
 def _prepare(out, sc, resume, overwrite):
     if out.exists() and not out.is_dir():
-        raise InputError(f"{out}: exists and is not a folder; choose another output folder with -o")
+        raise InputError(f"{out}: exists and is not a folder; choose another output folder "
+                         f"({option('out_dir')})")
     man = out / "manifest.json"
     if man.exists() and not (resume or overwrite):
-        raise InputError(f"{out}: already holds a run (manifest.json). Use --resume to continue "
-                         f"it, --overwrite to replace it, or choose another folder with -o")
+        raise InputError(f"{out}: already holds a run (manifest.json). Use {option('resume')} to "
+                         f"continue it, {option('overwrite')} to replace it, or choose another "
+                         f"folder ({option('out_dir')})")
     if resume and man.exists():
         try:
             old = json.loads(man.read_text())
@@ -250,7 +265,7 @@ def _prepare(out, sc, resume, overwrite):
         if old.get("scenario") not in (None, _jsonable(sc.describe())):
             raise InputError(f"{out}: was written by a different scenario (manifest.json "
                              f"'scenario' differs); resume it with the same scenario file, or "
-                             f"use --overwrite or another folder")
+                             f"use {option('overwrite')} or another folder")
     out.mkdir(parents=True, exist_ok=True)
 
 
@@ -314,7 +329,8 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
         _run_chains(sc, out, chains, rows, executor, bar, window)
         extra = []
         if sc.sweep.refine == "near-tc":
-            extra = refine_temperatures(rows, sc.sweep.temperatures_K)
+            extra = refine_temperatures(rows, sc.sweep.temperatures_K,
+                                            anisotropy=sc.material.anisotropy_J)
             manifest["refined_temperatures_K"] = extra
             if extra:
                 rchains, parents = _refine_chains(sc, chains, extra)
@@ -349,15 +365,30 @@ def _write_manifest(out, manifest, started, files):
     write_json(out / "manifest.json", m)
 
 
+def _film_side(sc):
+    """Shorter side (nm) of the film of size L, as a function of L."""
+    from thinfilm.model.lattice import Lattice
+
+    lat = sc.lattice
+
+    def side(size):
+        return float(min(Lattice(lat.shape, int(size), int(size), lat.spacing_nm,
+                                 lat.periodic).box_nm))
+    return side
+
+
 def _finish(out, sc, manifest, rows, started):
     keys = sorted(rows)
-    table = [[rows[k][c] for c in ROW_COLUMNS] for k in keys]
-    write_csv(out / "observables.csv", ROW_COLUMNS, table)
-    write_json(out / "columns.json", COLUMN_UNITS)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        tc = tc_estimate(rows)
+        tc = tc_estimate(rows, anisotropy=sc.material.anisotropy_J)
     tc["warnings"] = sorted({str(w.message) for w in caught})
+    select_second_moment(rows, tc.get("tc_K"))
+    length_convergence(rows, _film_side(sc))
+    columns = ROW_COLUMNS + TABLE_EXTRA
+    table = [[rows[k][c] for c in columns] for k in keys]
+    write_csv(out / "observables.csv", columns, table)
+    write_json(out / "columns.json", COLUMN_UNITS)
     write_json(out / "tc.json", tc)
     points = [f"points/{point_name(*k)}/{f}" for k in keys
               for f in ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv",
@@ -372,4 +403,4 @@ def _finish(out, sc, manifest, rows, started):
     if low:
         warnings.warn(f"{len(low)} of {len(keys)} sweep points have fewer than 50 effectively "
                       f"independent samples (e.g. {low[0]}); their error bars are unreliable: "
-                      f"raise dynamics.sweeps.samples", ThinFilmWarning, stacklevel=3)
+                      f"raise {mode_keys(sc.mode)['samples']}", ThinFilmWarning, stacklevel=3)
