@@ -2,7 +2,8 @@
 
 Energy (each nearest-neighbour bond counted once):
 
-    E = -J sum_<ij> S_i.S_j - K sum_i (S_i.n)^2 - mu_s sum_i B.S_i [+ d sum_<ij> (z x r_ij).(S_i x S_j)]
+    E = -J sum_<ij> S_i.S_j - K sum_i (S_i.n)^2 - mu_s sum_i B.S_i
+        [+ d sum_<ij> (z x r_ij).(S_i x S_j), with DMI]
 
 Effective field (tesla): B_eff,i = -(1/mu_s) dE/dS_i = (J/mu_s) sum_j S_j + (2K/mu_s)(S_i.n) n + B.
 """
