@@ -43,8 +43,16 @@ def test_a_disordered_set_uses_metropolis_moves_and_refuses_what_it_cannot_run()
     d = film(vacancies=0.1)
     d["dynamics"] = {"method": "llg", "duration": "0.1 ps"}
     d["material"]["dipolar"] = True
-    with pytest.raises(ScenarioError, match=r"disorder: the per-site .* no dipolar field"):
-        load_scenario(d)
+    sc = load_scenario(d)  # dipolar with disorder: the generic kernels plus the FFT field
+    from thinfilm.engines.select import make_llg
+    from thinfilm.model.disorder import scenario_site_parameters
+    from thinfilm.model.parameters import build_model
+
+    model = build_model(sc)
+    sim = make_llg(model, scenario_site_parameters(sc, model), temperature_K=1.0, damping=0.1,
+                   time_step_s=1e-16)
+    assert sim.path == "generic-dipolar"
+    sim.advance(2)
     with pytest.raises(ScenarioError, match=r"disorder\.grains\.size: must not exceed the film"):
         load_scenario(film(grains={"size": "50 nm"}))
 

@@ -184,10 +184,10 @@ def test_plan_asks_for_large_lattices_near_tc_and_uses_them(tmp_path):
     req = res["large_lattice_request"]
     assert req["commands"] and (tmp_path / LARGE_YAML).is_file()
     asked = load_scenario(tmp_path / LARGE_YAML)
-    assert asked.sweep.sizes == (req["size"],) and "cluster" in asked.dynamics.moves
+    assert asked.sweep.sizes == tuple(req["sizes"]) and "cluster" in asked.dynamics.moves
     T = np.array(req["temperatures_K"])
-    # the size asked for holds 10 xi (+ 2 errors) at every asked temperature, or it is the
-    # largest the plan asks for (1024) and the plan says that it falls short
+    # the largest size asked for holds 11 (xi + error) at every asked temperature, or it is
+    # the largest the plan asks for (1024) and the plan says that it falls short
     assert req["enough"] == (req["film_side_nm"] >= req["needed_side_nm"])
     assert req["enough"] or req["size"] == 1024
     assert req["needed_side_nm"] > 10 * xi_exact(T).max()

@@ -21,6 +21,7 @@ def _print_check(sc):
     from thinfilm.engines.stochastic_llg import stable_time_step
     from thinfilm.input.derived import (
         dipolar_shape_cost_J,
+        dmi_scales,
         exchange_length_nm,
         mean_field_tc_K,
         wall_parameter_nm,
@@ -44,6 +45,9 @@ def _print_check(sc):
         print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
     print(f"  anisotropy  K = {mat['anisotropy_meV']:.4g} meV per site along {mat['axis']} "
           f"({'easy axis' if model.anisotropy_J > 0 else 'easy plane' if model.anisotropy_J < 0 else 'none'})")
+    if model.dmi_J:
+        print(f"  DMI         d = {model.dmi_meV:.4g} meV per bond (E = sum D_ij.(Si x Sj), "
+              "D_ij = d z x r_ij, interfacial)")
     if mat.get("dipolar"):
         site = mat.get("dipolar_site")
         print("  dipolar     " + ("point dipoles at the sites" if site is None else
@@ -81,6 +85,20 @@ def _print_check(sc):
     if w is not None:
         name = "sqrt(A/K_eff)" if shape else "sqrt(A/K)"
         print(f"  wall parameter {name} {w:.4g} nm, wall width pi {name} = {3.14159265 * w:.4g} nm")
+    ds = dmi_scales(model)
+    if ds is not None:
+        t_m = (mat.get("continuum") or {}).get("thickness_nm")
+        dens = None if t_m is None else ds["dmi_J_per_m2_times_t"] / (t_m * 1e-9) * 1e3
+        per = "" if dens is None else f" = {dens:.4g} mJ/m^2"
+        print(f"  DMI density D t = {ds['dmi_J_per_m2_times_t']:.4g} J/m{per}; spin-spiral period "
+              f"4 pi A/|D| = {ds['spiral_period_nm']:.4g} nm (T = 0, no anisotropy)")
+        if ds["critical_ratio"] is None:
+            print("  |D| / D_c   not defined (K_eff <= 0: no perpendicular uniform state)")
+        else:
+            state = ("uniform state unstable: spirals/stripes" if ds["critical_ratio"] > 1
+                     else f"uniform state stable; Neel walls of one sense, energy sigma t = "
+                          f"{ds['wall_energy_J_per_m2_times_t']:.4g} J/m")
+            print(f"  |D| / D_c = {ds['critical_ratio']:.3g} (D_c = 4 sqrt(A K_eff) / pi): {state}")
     dy = sc.dynamics
     tmax = max(sc.sweep.temperatures_K) if sc.sweep else max(sc.temperature_K, dy.ramp_temperature_K or 0)
     dt_ok = stable_time_step(model, tmax, dy.damping, dy.gamma)

@@ -126,8 +126,9 @@ def _cmd_image_series(args):
                          "pixel_size_nm), or --folder, --pattern (with {T} at the temperature "
                          "in K) and --pixel-size")
     res = write_image_series(rows, args.output, level=args.level, smoothing=args.smoothing,
-                         background=args.background, mask=args.mask,
-                         highpass_length=args.highpass_length, source=source)
+                             background=args.background, mask=args.mask,
+                             highpass_length=args.highpass_length, threshold=args.threshold,
+                             resolution=args.resolution, source=source)
     tab = res["table"]
     print(f"image series {source}: {len(rows)} images, pixel {rows[0][2]}")
     print("  T (K)   xi (nm)          period (nm)   stripe order   walls (1/um)")
@@ -204,6 +205,10 @@ def add_lab_commands(sub):
     s.add_argument("-o", "--output", required=True, help="output folder")
     s.add_argument("--level", type=float, default=0.0,
                    help="threshold on the normalised contrast (-1..1), as thinfilm image")
+    s.add_argument("--threshold", choices=["otsu", "median"], default="otsu",
+                   help="grey level of contrast 0, as thinfilm image")
+    s.add_argument("--resolution", default=None,
+                   help='instrument resolution, e.g. "30 nm": smaller domains count as unresolved')
     s.add_argument("--smoothing", default=None, help='smoothing length, e.g. "10 nm"')
     s.add_argument("--background", default="plane", choices=["none", "mean", "plane", "highpass"])
     s.add_argument("--highpass-length", default=None, help='e.g. "400 nm"')

@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from thinfilm._io import write_csv, write_json
+from thinfilm.analysis.chirality import wall_chirality
 from thinfilm.analysis.patterns import bubble_statistics, stripe_orientation, stripe_period
 from thinfilm.api import plan, run
 from thinfilm.config import set_threads, threads
@@ -163,7 +164,11 @@ def stripe_table(run_dir, lattice, *, time_offset_ps=0.0):
     """Stripe period, stripe order, bubble count and magnetisation of every snapshot of a run.
 
     Returns ``(columns, rows)`` with the columns of :data:`STRIPE_COLUMNS` (units in the names
-    or in that mapping); period and order are NaN for a uniform snapshot.
+    or in that mapping); period and order are NaN for a uniform snapshot. The wall type and
+    sense are the Neel and Bloch indices of
+    :func:`thinfilm.analysis.chirality.wall_chirality` on the index grid (exact derivatives
+    on the square lattice; on the triangular and honeycomb grids the rows are offset, so the
+    indices are approximate there).
     """
     geo = {"positions_nm": lattice.positions_nm, "box_nm": lattice.box_nm,
            "period": lattice.period}
@@ -181,8 +186,10 @@ def stripe_table(run_dir, lattice, *, time_offset_ps=0.0):
         except InputError:  # uniform: no pattern
             lam = lam_mean = q = nb = math.nan
         m = s.reshape(-1, 3).mean(axis=0)
+        ch = wall_chirality(s, periodic=lattice.periodic)
         rows.append((fr.get("time_ps", math.nan) + time_offset_ps, fr.get("temperature_K", math.nan),
-                     lam, lam_mean, q, nb, float(np.abs(f).mean()), float(math.hypot(m[0], m[1]))))
+                     lam, lam_mean, q, nb, float(np.abs(f).mean()), float(math.hypot(m[0], m[1])),
+                     ch["neel_index"], ch["bloch_index"]))
     return tuple(STRIPE_COLUMNS), rows
 
 

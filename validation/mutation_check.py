@@ -7,7 +7,9 @@ selections on the unmodified copy comes first, so a test that fails without any 
 reported as such and never counted as a catch. Mutations (all +2 %, the size the headline
 checks must resolve):
 
-* ``xi-second-moment``: the second-moment correlation length (``correlation_length_nm``);
+* ``xi-second-moment``: the second-moment length of the magnetisation series and S(k_min)
+  probes (``correlation_length_nm``);
+* ``xi-snapshot-second-moment``: the second moment of snapshots (the instrument column);
 * ``xi-sk``: the S(k) Ornstein-Zernike length (``correlation_length_sk_nm``);
 * ``xi-fit``: the C(r) Ornstein-Zernike fit length (``correlation_length_fit_nm``);
 * ``mc-temperature``: the temperature the Monte Carlo engine samples at (its beta);
@@ -48,7 +50,14 @@ class Mutation:
 
 
 MUTATIONS = (
-    Mutation("xi-second-moment", "second-moment xi x 1.02", "thinfilm/analysis/correlation.py",
+    Mutation("xi-second-moment", "second-moment xi of the series x 1.02",
+             "thinfilm/analysis/correlation.py",
+             r'out\["xi_nm"\] = float\(np\.sqrt\(val2\)\)',
+             'out["xi_nm"] = 1.02 * float(np.sqrt(val2))',
+             ("tests/analysis/test_correlation.py",
+              "tests/validation/test_xi_estimators_exact.py")),
+    Mutation("xi-snapshot-second-moment", "snapshot second-moment xi x 1.02",
+             "thinfilm/analysis/correlation.py",
              r"return float\(np\.mean\(xis\)\)", "return 1.02 * float(np.mean(xis))",
              ("tests/analysis/test_correlation.py",
               "tests/validation/test_xi_estimators_exact.py")),

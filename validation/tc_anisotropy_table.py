@@ -12,7 +12,8 @@ Each (lattice, K/J) point is made in two passes:
    fit, Torelli and Olsen, 2D Mater. 6, 015028 (2019), used only to place the window; the pass
    widens the window until the curves cross);
 2. fine: sizes 16, 32, 48, seven temperatures over +-6 % about the coarse crossing, moved
-   (at most twice) to centre on the 32/48 crossing when that falls in the outer steps.
+   (at most three times) to centre on the 32/48 crossing when that falls in the outer steps,
+   or by 10 % towards it when the curves do not cross in the window.
 
 The tabulated error is the quadrature sum of the bootstrap error of the crossing of the largest
 pair (32/48) and the whole shift between the crossings of the pairs 16/32 and 32/48 (the
@@ -133,9 +134,15 @@ def one_point(cache, shape, k, n):
         raise RuntimeError(f"{shape} K/J = {k:g}: no coarse crossing found")
     tc = coarse["tc_K"]
     sizes = (16, 32, 48)
-    for _ in range(3):  # re-centre the window while the 32/48 crossing sits at its edge
+    for _ in range(4):  # re-centre the window while the 32/48 crossing sits at its edge
         temps = np.round(np.linspace(0.94 * tc, 1.06 * tc, 7), 6)
-        fine = crossing(temps, scan(cache, shape, k, sizes, temps, n))
+        curves = scan(cache, shape, k, sizes, temps, n)
+        try:
+            fine = crossing(temps, curves)
+        except ValueError:  # no crossing in the window: move it by 10 % towards the crossing
+            below = np.mean(curves[48][0] - curves[32][0]) < 0  # larger L lower: Tc below
+            tc *= 0.9 if below else 1.1
+            continue
         small, large = fine["pairs"]
         if temps[1] <= large["tc_K"] <= temps[-2]:
             break

@@ -7,8 +7,8 @@ sizes 16, 32 and 64 over T = Tc' (1 + t) is analysed as the heating plan does
 the film size or finite-size limited, and the infinite-film length comes from the converged
 sizes ("measured") or from the finite-size scaling fit ("finite-size scaling"). Independent
 large lattices (default L = 256, film side >= 10 xi at the chosen t) give the reference at a
-few temperatures near Tc, through their S(k) fit (the precise estimator where L >> xi; the
-second moment and the C(r) fit are printed beside it). Both are also set beside the exact
+few temperatures near Tc, through their C(r) fit (the most precise estimator where L >> xi;
+the second moment and the S(k) fit are printed beside it). Both are also set beside the exact
 length.
 
 Exact reference above Tc: the one-particle second-moment length h/(2 sinh(gamma/2)) of the exact
@@ -86,12 +86,13 @@ def compare(sweep_dir, large_dir):
             # measured: the converged lattice value itself, not the fitted curve through it
             v, e = cols["converged_length_nm"][k], cols["converged_length_err_nm"][k]
         b = big["temperature_K"] == temp
-        # reference: the S(k) fit, the precise estimator where L >> xi (the second moment's
-        # S(0)/S(k_min) - 1 = (khat_min xi)^2 is tiny there and its error large)
-        lv, le = float(big["correlation_length_sk_nm"][b][0]), float(
-            big["correlation_length_sk_nm_err"][b][0])
+        # reference: the C(r) fit, the most precise of the three where L >> xi (the second
+        # moment's S(0)/S(k_min) - 1 = (khat_min xi)^2 is tiny there and its error large; the
+        # S(k) fit's error is 1.3-1.5 times that of C(r) at L = 256 here)
+        lv, le = float(big["correlation_length_fit_nm"][b][0]), float(
+            big["correlation_length_fit_nm_err"][b][0])
         others = {k: (float(big[f"correlation_length{k}_nm"][b][0]),
-                      float(big[f"correlation_length{k}_nm_err"][b][0])) for k in ("", "_fit")}
+                      float(big[f"correlation_length{k}_nm_err"][b][0])) for k in ("", "_sk")}
         s64 = (tab["size"] == tab["size"].max()) & np.isclose(tab["temperature_K"], temp)
         own = (float(tab["correlation_length_nm"][s64][0]),
                float(tab["correlation_length_nm_err"][s64][0])) if s64.any() else (math.nan,) * 2
@@ -101,7 +102,7 @@ def compare(sweep_dir, large_dir):
                     "flag": cols["correlation_length_flag"][k], "own": own[0], "own_err": own[1],
                     "own_converged": conv64, "large": lv, "large_err": le,
                     "large_size": int(big["size"][b][0]), "large_second_moment": others[""],
-                    "large_cr_fit": others["_fit"], "exact": exact_nm(temp), "dev": dev})
+                    "large_sk_fit": others["_sk"], "exact": exact_nm(temp), "dev": dev})
     return out, ext["fits"]["correlation_length"]
 
 
@@ -131,10 +132,10 @@ def main(argv=None):
           f"{fit['amplitude_nm']:.4g} +- {fit['amplitude_err_nm']:.2g} nm, chi2/dof "
           f"{fit['chi2_dof']:.2f}, finite-size form {fit.get('finite_size')}")
     print("    t     T (K)   sweep infinite-film (nm)  flag                 L=64 own (conv)"
-          f"      L={a.large} S(k) fit (nm)  exact   dev/sigma   L={a.large} 2nd moment, "
-          "C(r) fit")
+          f"      L={a.large} C(r) fit (nm)  exact   dev/sigma   L={a.large} 2nd moment, "
+          "S(k) fit")
     for r in rows:
-        sm, cr = r["large_second_moment"], r["large_cr_fit"]
+        sm, cr = r["large_second_moment"], r["large_sk_fit"]
         print(f"  {r['t']:.3f}  {r['T']:.4f}  {r['value']:7.3f} +- {r['err']:.3f}   "
               f"{r['flag']:<20} {r['own']:6.3f} +- {r['own_err']:.3f} ({r['own_converged']:.0f})"
               f"  {r['large']:7.3f} +- {r['large_err']:.3f}  {r['exact']:7.3f}  {r['dev']:+.2f}"

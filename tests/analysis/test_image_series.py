@@ -39,6 +39,8 @@ def _series(folder, xis, temps=(250.0, 270.0, 290.0), pixels=None, n=160):
     return folder / "index.csv"
 
 
+# fine OZ fields have many one-pixel domains: analyse_image warns, rightly; xi is tested here
+@pytest.mark.filterwarnings("ignore:.*domains are smaller than")
 def test_series_of_oz_fields_recovers_xi_against_temperature(tmp_path):
     """xi = 2.5, 5, 10 px (5, 10, 20 nm): each second-moment estimate lies within 3 of its own
     quadrant-jackknife errors of the true length (the estimator's stated error), and the series
@@ -57,6 +59,7 @@ def test_series_of_oz_fields_recovers_xi_against_temperature(tmp_path):
     for name in ("image_series.csv", "image_series.json", "image_series.png", "captions.md"):
         assert (tmp_path / "out" / name).is_file()
     assert (tmp_path / "out" / "images" / "img_250K" / "image_analysis.json").is_file()
+    assert (tmp_path / "out" / "images" / "img_250K" / "image_analysis.png").is_file()
     head = (tmp_path / "out" / "image_series.csv").read_text().splitlines()[0].split(",")
     assert head[0] == "temperature_K" and "wall_length_per_area_per_um_err" in head
 

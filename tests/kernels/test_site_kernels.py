@@ -12,6 +12,7 @@ from thinfilm.engines._kernels.llg import noise_field
 from thinfilm.engines._kernels.site_field import site_field_all
 from thinfilm.engines.disordered_llg import SiteLLG, site_measure
 from thinfilm.engines.disordered_mc import SiteMonteCarlo
+from thinfilm.engines.film import as_terms
 from thinfilm.engines.stochastic_llg import LLGSimulation
 from thinfilm.input.disorder_spec import DisorderSpec, GrainSpec, SpreadSpec
 from thinfilm.input.units import KB_J_PER_K, MEV_J, MU_B_J_PER_T
@@ -65,8 +66,8 @@ def test_field_and_heun_step_equal_the_numpy_reference(case):
     s = random_spins(np.random.default_rng(2), lat.ny, lat.nx)
     s[~p.occupied] = 0.0
     out = np.empty((lat.n_sites, 3))
-    nbr, jt, kt, axis, occ = p.kernel_args()
-    site_field_all(s.reshape(-1, 3), nbr, jt, kt, axis, occ, p.field_T, out)
+    nbr, jt, dm, kt, axis, bs, occ = as_terms(p).kernel_arrays
+    site_field_all(s.reshape(-1, 3), nbr, jt, dm, kt, axis, occ, p.field_T, bs, out)
     want = site_field(p, s)
     assert np.allclose(out.reshape(s.shape), want, rtol=1e-12, atol=1e-12 * np.abs(want).max())
     # one step at temperature: the thermal field of site i is sigma_ref sqrt(mu_ref/mu_i) x

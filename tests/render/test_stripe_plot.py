@@ -11,7 +11,7 @@ from thinfilm.render.stripe_plot import STRIPE_COLUMNS, plot_stripes
 
 def test_stripe_figure_layout_and_captions(tmp_path):
     rows = [(t * 6.0, t * 0.4, 8.0 - 0.02 * t if t < 55 else math.nan, 7.5 - 0.04 * t, 0.05, 3,
-             0.88 - 0.005 * t, 0.1) for t in range(61)]
+             0.88 - 0.005 * t, 0.1, -0.9, 0.05) for t in range(61)]
     write_csv(tmp_path / "s.csv", tuple(STRIPE_COLUMNS), rows)
     with saved_figures() as saved:
         (png,) = plot_stripes(tmp_path / "s.csv", tmp_path / "plots")

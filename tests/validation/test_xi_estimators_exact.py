@@ -1,12 +1,14 @@
 """Every correlation length the sweep table carries, against exact values.
 
-The sweep (thinfilm/runs/sweep_point.py) fills ``correlation_length_nm`` (second moment,
-disordered or ordered form), ``correlation_length_fit_nm`` (Ornstein-Zernike fit of C(r)) and
-``correlation_length_sk_nm`` (OZ fit of S(k)) by calling
-:func:`thinfilm.analysis.correlation.correlation_length` and
-:func:`thinfilm.analysis.structure.structure_factor_length` on its snapshots; the tests call
-the same two functions the same way. (``correlation_length_instrument_nm`` is the second
-moment of blurred images: it is the first estimator applied to other fields.)
+The sweep (thinfilm/runs/sweep_point.py) fills ``correlation_length_nm`` (and its
+``_full``/``_connected`` forms) with :func:`thinfilm.analysis.correlation.second_moment_series`
+(S(0) from the magnetisation series, S(k_min) from :func:`kmin_power` probes),
+``correlation_length_fit_nm`` (Ornstein-Zernike fit of C(r)) with
+:func:`thinfilm.analysis.correlation.correlation_length` and ``correlation_length_sk_nm`` (OZ
+fit of S(k)) with :func:`thinfilm.analysis.structure.structure_factor_length`; the tests call
+the same functions the same way. ``correlation_length_instrument_nm`` is the snapshot second
+moment of ``correlation_length`` applied to blurred images; that estimator is checked here on
+the raw fields.
 
 1. Exact input (fast): fields whose structure factor is exactly the lattice OZ form
    S(k) = 1 / (khat^2 + xi^-2), khat^2 = 4 sin^2(kx/2) + 4 sin^2(ky/2) (Ornstein and Zernike
@@ -36,7 +38,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from thinfilm.analysis.correlation import correlation_length
+from thinfilm.analysis.correlation import (
+    correlation_length,
+    kmin_plan,
+    kmin_power,
+    second_moment_series,
+)
 from thinfilm.analysis.structure import structure_factor_length
 from thinfilm.engines.montecarlo import MonteCarlo
 from thinfilm.model.lattice import Lattice
@@ -57,11 +64,21 @@ def exact_oz_fields(n, xi, m, seed):
 
 
 def _lengths(fields, lat, ordered=False):
-    """The three table lengths as the sweep computes them (nm)."""
+    """The table lengths as the sweep computes them (nm): snapshot estimators and the S(k) fit."""
     geo = (lat.positions_nm, lat.box_nm, lat.period)
     r = correlation_length(fields, *geo, periodic=True, subtract_mean=ordered)
     s = structure_factor_length(fields, *geo, spacing_nm=lat.spacing_nm)
     return r, s
+
+
+def _series_length(fields, lat, connected=False):
+    """``correlation_length_nm`` as the sweep computes it: second_moment_series of the moment
+    series and S(k_min) probes (here one sample and one probe per field)."""
+    plan = kmin_plan(lat.positions_nm, lat.box_nm, lat.period)
+    moment = np.asarray(fields, dtype=np.float64).sum(axis=(1, 2))
+    probes = np.array([kmin_power(f, plan) for f in fields])
+    return second_moment_series(moment, probes, plan["khat2"], plan["n_sites"],
+                                connected=connected)
 
 
 @pytest.mark.parametrize("n, xi", [(64, 4.0), (128, 8.0)])
@@ -69,6 +86,7 @@ def test_every_estimator_returns_the_length_of_an_exact_oz_spectrum(n, xi):
     lat = Lattice("square", n, n, 1.0, True)
     fields = exact_oz_fields(n, xi, 2, seed=n)
     r, s = _lengths(fields, lat)
+    assert _series_length(fields, lat)["xi_nm"] == pytest.approx(xi, rel=1e-9)
     assert r["second_moment_nm"] == pytest.approx(xi, rel=1e-9)
     assert s["xi_nm"] == pytest.approx(xi, rel=1e-9)
     ordered, _ = _lengths(fields, lat, ordered=True)
@@ -95,6 +113,7 @@ def test_table_lengths_match_the_exact_ising_length_on_monte_carlo_data():
         mc.sweep(1)
         fields[i] = mc.spins[..., 2]
     r, s = _lengths(fields, lat)
+    ser = _series_length(fields, lat)
     a = lat.spacing_nm
     k = xe.ising_coupling(temp)
     xi_1p, xi_exp = xe.xi_second_moment("square", k), xe.xi_exponential("square", k)
@@ -104,17 +123,19 @@ def test_table_lengths_match_the_exact_ising_length_on_monte_carlo_data():
     # the OZ form over k xi <= 2, a (k xi)^4 term of relative size ~ 4e-4: Campostrini et al.,
     # Phys. Rev. E 57, 184, 1998, from memory); C(r) fit 1 % (the lattice terms of part 1 at
     # xi = 3.2 a, -0.7 %, plus the three-particle part of C(r) near the fit's start).
-    checks = [("second moment", r["second_moment_nm"] / a, r["second_moment_err_nm"] / a,
-               xi_1p, 0.001),
+    checks = [("second moment (table)", ser["xi_nm"] / a, ser["xi_err_nm"] / a, xi_1p, 0.001),
+              ("second moment (snapshots)", r["second_moment_nm"] / a,
+               r["second_moment_err_nm"] / a, xi_1p, 0.001),
               ("S(k) fit", s["xi_nm"] / a, s["xi_err_nm"] / a, xi_1p, 0.003),
               ("C(r) fit", r["fit_nm"] / a, r["fit_err_nm"] / a, xi_exp, 0.01)]
     for name, val, err, exact, allow in checks:
         assert math.isfinite(val) and err > 0, (name, val, err)
         assert abs(val - exact) < 3 * err + allow * exact, (name, val, err, exact)
-    # statistical power (16000 snapshots; measured 3.221(40), 3.188(40) against 3.196 and
-    # 3.117(30) against 3.209): each error is about 1.3 % of xi, so this check resolves biases
-    # of about 5 % on Monte Carlo data; the 2 % test of every estimator is the exact-spectrum
-    # test above (resolving 2 % here needs ~6x the snapshots, ~1 GB of fields). Each error
-    # must stay below 1.5 % or the check loses that power
+    # statistical power (16000 snapshots; measured 3.221(40) by both second-moment forms, which
+    # see the same samples here, 3.188(40) against 3.196 and 3.117(30) against 3.209): each
+    # error is about 1.3 % of xi, so this check resolves biases of about 5 % on Monte Carlo
+    # data; the 2 % test of every estimator is the exact-spectrum test above (resolving 2 %
+    # here needs ~6x the snapshots, ~1 GB of fields). Each error must stay below 1.5 % or the
+    # check loses that power
     for name, val, err, exact, _ in checks:
         assert err < 0.015 * exact, (name, val, err)

@@ -27,8 +27,7 @@ from pathlib import Path
 import numpy as np
 
 from thinfilm import _io
-from thinfilm.analysis.domains import label_domains
-from thinfilm.analysis.imaging import analyse_image, load_image
+from thinfilm.analysis.imaging import analyse_image
 from thinfilm.analysis.mt_table import split_header, temperature_kelvin
 from thinfilm.analysis.patterns import stripe_orientation, stripe_period
 from thinfilm.input.errors import InputError
@@ -168,13 +167,20 @@ def _sem4(values):
     return float(np.std(v, ddof=1) / math.sqrt(v.size)) if v.size >= 2 else math.nan
 
 
-def _extras(path, pixel_size, out_dir, level, smoothing, background, mask, highpass_length):
-    img, valid, pixel_nm = load_image(path, pixel_size=pixel_size, mask=mask,
-                                      background=background, highpass_length=highpass_length)
-    sm = None if smoothing is None else _length_nm(smoothing, "smoothing", path)
-    labels, signs = label_domains(img, level=level, smoothing_nm=sm, pixel_nm=pixel_nm,
-                                  valid=valid)
-    smap = np.where(valid, signs[labels], 0)
+def _extras(arrays, out_dir):
+    """Period, stripe order, wall length and the domain-size error from analyse_image's own
+    arrays (its threshold, smoothing and mask)."""
+    img, valid, labels, pixel_nm = (arrays[k] for k in ("image", "valid", "labels", "pixel_nm"))
+    sizes = Path(out_dir) / "domain_sizes.csv"  # written by analyse_image
+    sign_of = np.zeros(int(labels.max()) + 1, dtype=int)
+    areas = np.array([])
+    if sizes.is_file():
+        with sizes.open() as fh:
+            rows = list(csv.DictReader(fh))
+        for r in rows:
+            sign_of[int(r["domain_id"])] = int(r["sign"])
+        areas = np.array([float(r["area_nm2"]) for r in rows])
+    smap = np.where(valid, sign_of[labels], 0)
     field = np.where(valid, img, 0.0)
     per = stripe_period(field, pixel_nm)
     q = stripe_orientation(field, pixel_nm)
@@ -182,11 +188,6 @@ def _extras(path, pixel_size, out_dir, level, smoothing, background, mask, highp
     wall = wall_length_per_area(smap, valid, pixel_nm)
     ws = [wall_length_per_area(a, b, pixel_nm)
           for a, b in zip(_quadrants(smap), _quadrants(valid), strict=True)]
-    areas = np.array([])
-    sizes = Path(out_dir) / "domain_sizes.csv"  # written by analyse_image
-    if sizes.is_file():
-        with sizes.open() as fh:
-            areas = np.array([float(r["area_nm2"]) for r in csv.DictReader(fh)])
     # a period only where S(k) peaks away from the smallest rings (else: not determined)
     kb, sr = per["k_bins_per_nm"], per["s_radial"]
     sel = (kb > 0) & (kb < 0.5 * per["k_peak_per_nm"])
@@ -206,8 +207,7 @@ def _extras(path, pixel_size, out_dir, level, smoothing, background, mask, highp
     }
 
 
-def analyse_series(rows, out_dir, *, level=0.0, smoothing=None, background="plane", mask=None,
-                   highpass_length=None, source=""):
+def analyse_series(rows, out_dir, *, source="", per_image=None, **options):
     """Analyse every image of a series; write ``image_series.csv`` and ``image_series.json``
     into ``out_dir`` (the figure: :func:`thinfilm.render.series_plot.write_image_series`).
 
@@ -215,8 +215,11 @@ def analyse_series(rows, out_dir, *, level=0.0, smoothing=None, background="plan
     ----------
     rows : list of (Path, temperature_K, pixel size text)
         From :func:`read_index` or :func:`index_from_folder`.
-    level, smoothing, background, mask, highpass_length
-        As in :func:`thinfilm.analysis.imaging.analyse_image`, the same for every image.
+    per_image : callable, optional
+        Called as ``per_image(out_dir, result, arrays)`` after each image (the figure hook).
+    **options
+        Options of :func:`thinfilm.analysis.imaging.analyse_image` (level, smoothing,
+        background, mask, highpass_length, threshold, resolution), the same for every image.
 
     Returns
     -------
@@ -227,9 +230,11 @@ def analyse_series(rows, out_dir, *, level=0.0, smoothing=None, background="plan
     table = {c: [] for c in SERIES_COLUMNS}
     for f, t, pix in rows:
         sub = out / "images" / f.stem
-        res = analyse_image(f, pixel_size=pix, out_dir=sub, level=level, smoothing=smoothing,
-                            background=background, mask=mask, highpass_length=highpass_length)
-        ext = _extras(f, pix, sub, level, smoothing, background, mask, highpass_length)
+        res, arrays = analyse_image(f, pixel_size=pix, out_dir=sub, return_arrays=True,
+                                    **options)
+        if per_image is not None:
+            per_image(sub, res, arrays)
+        ext = _extras(arrays, sub)
         row = {"temperature_K": t, "file": f.name,
                "typical_domain_area_nm2": res.get("area_weighted_mean_domain_area_nm2"), **res,
                **ext}
@@ -240,9 +245,8 @@ def analyse_series(rows, out_dir, *, level=0.0, smoothing=None, background="plan
                   [[table[c][k] for c in SERIES_COLUMNS] for k in range(len(rows))])
     _io.write_json(out / "image_series.json", {
         "source": source, "n_images": len(rows), "pixel_size": rows[0][2],
-        "options": {"level": level, "smoothing": smoothing, "background": background,
-                    "mask": None if mask is None else str(mask),
-                    "highpass_length": highpass_length},
+        "options": {k: (None if v is None else v if isinstance(v, (int, float)) else str(v))
+                    for k, v in options.items()},
         "errors": __doc__.split("Errors:")[1].split("Wall length:")[0].strip(),
         "table": "image_series.csv"})
     return {"columns": SERIES_COLUMNS, "table": table}

@@ -16,8 +16,9 @@ temperature, walking down from the largest size:
   one;
 * **undefined** where the value is NaN.
 
-The infinite-film value at a temperature is that of the converged size with the smallest
-error (flag "measured"); where no size converged, :mod:`thinfilm.analysis.extrapolation` fits the
+The infinite-film value at a temperature is that of the largest converged size (flag
+"measured"; a smaller converged size can still be a few per cent low, within the 15 % the
+agreement test resolves); where no size converged, :mod:`thinfilm.analysis.extrapolation` fits the
 finite-size scaling form to all sizes (flag "finite-size scaling").
 """
 
@@ -50,8 +51,8 @@ def size_convergence(sizes, temperatures_K, value_nm, err_nm, film_side_nm, *, o
     dict
         ``status`` (n,) of "converged" / "finite-size limited" / "undefined", ``reason`` (n,)
         and ``by_temperature``: dict of arrays over the distinct temperatures:
-        ``temperature_K``, ``value_nm``, ``err_nm`` (of the converged size with the smallest
-        error, else NaN), ``size`` (that size, else the largest size with a value),
+        ``temperature_K``, ``value_nm``, ``err_nm`` (of the largest converged size with a
+        positive value, else NaN), ``size`` (that size, else the largest size with a value),
         ``converged`` (bool).
     """
     L = np.asarray(sizes, dtype=np.float64).ravel()
@@ -112,9 +113,8 @@ def size_convergence(sizes, temperatures_K, value_nm, err_nm, film_side_nm, *, o
                             reason[i] = f"agrees with L = {L[nxt]:g} within {n_sigma:g} errors"
             above = i
         good = [i for i in rows if status[i] == CONVERGED]
-        if good:  # the most precise converged size (a positive value before a zero one)
-            i = min(good, key=lambda k: (not x[k] > 0, e[k] if np.isfinite(e[k]) else np.inf,
-                                         -L[k]))
+        if good:  # the largest converged size (the least finite-size bias; positive first)
+            i = min(good, key=lambda k: (not x[k] > 0, -L[k]))
             out["converged"][j] = True
             out["value_nm"][j], out["err_nm"][j], out["size"][j] = x[i], e[i], L[i]
         else:

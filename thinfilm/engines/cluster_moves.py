@@ -1,6 +1,10 @@
 """Which Wolff cluster moves are exact for a model: the move set and reflection directions."""
 
-__all__ = ["MOVES", "CLUSTER_DIRECTIONS", "cluster_moves_exact"]
+import numpy as np
+
+from thinfilm.engines._kernels.wolff import N_STATS, make_cluster_work
+
+__all__ = ["MOVES", "CLUSTER_DIRECTIONS", "cluster_moves_exact", "setup_clusters"]
 
 MOVES = ("metropolis", "cluster")
 # reflection direction r of the cluster moves: the anisotropy axis n, a random direction in the
@@ -50,3 +54,30 @@ def cluster_moves_exact(model, direction="auto"):
     return False, ("cluster moves along random directions change the anisotropy energy "
                    f"(K = {model.anisotropy_meV:g} meV != 0); use direction 'axis' or 'plane' "
                    "(or 'auto')")
+
+
+def setup_clusters(mc, moves, direction, per_sweep):
+    """Moves, cluster direction and cluster work arrays of a fused-path MonteCarlo ``mc``."""
+    moves = (moves,) if isinstance(moves, str) else tuple(moves)
+    bad = [m for m in moves if m not in MOVES]
+    if bad or "metropolis" not in moves:
+        raise ValueError(f"moves must be ('metropolis',) or ('metropolis', 'cluster'); got "
+                         f"{moves!r} (cluster moves alone are not ergodic: they only flip "
+                         "the spin component along the reflection direction)")
+    mc.moves = tuple(m for m in MOVES if m in moves)
+    mc.cluster_direction = _direction(mc.model, direction)
+    mc._cl = None
+    mc._cl_stats = np.zeros(N_STATS)
+    mc.last_cluster_stats = None
+    if "cluster" not in mc.moves:
+        return
+    ok, why = cluster_moves_exact(mc.model, mc.cluster_direction)
+    if not ok:
+        raise ValueError(why)
+    mc._tune_clusters = per_sweep is None
+    mc.clusters_per_sweep = 1 if per_sweep is None else int(per_sweep)
+    if mc.clusters_per_sweep < 1:
+        raise ValueError("clusters_per_sweep must be >= 1")
+    lat = mc.model.lattice
+    mc._cl = make_cluster_work(mc._work[3], mc._work[2], lat.periodic, lat.neighbours,
+                               mc._axis, _MODE[mc.cluster_direction])

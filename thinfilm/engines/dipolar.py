@@ -42,6 +42,7 @@ from thinfilm.engines._kernels.dipolar import (
     scatter_planes,
 )
 from thinfilm.engines.fft_plan import RealFFTPair
+from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM  # sum' (a / r)^3 per lattice
 from thinfilm.input.units import MU0
 from thinfilm.model.dipolar_tensor import (
     SublatticeGrid,
@@ -51,7 +52,7 @@ from thinfilm.model.dipolar_tensor import (
 )
 from thinfilm.model.lattice import Lattice
 
-__all__ = ["DipolarField", "dipolar_constant_T", "cache_clear"]
+__all__ = ["DipolarField", "dipolar_constant_T", "dipolar_bound_T", "cache_clear"]
 
 _PRECISION = {"double": (np.float64, np.complex128), "single": (np.float32, np.complex64)}
 _CACHE = OrderedDict()
@@ -61,6 +62,17 @@ _CACHE_SIZE = 4
 def dipolar_constant_T(moment_J_per_T, spacing_nm):
     """mu0 mu_s / (4 pi a^3) in tesla: the dipolar field of one moment at one spacing a."""
     return MU0 / (4 * np.pi) * moment_J_per_T / (spacing_nm * 1e-9) ** 3
+
+
+def dipolar_bound_T(lattice, moment_J_per_T, thickness_nm):
+    """Bound of the dipolar field (T) of unit spins with moment mu_s: 2 mu0 mu_s/(4 pi a^3) x
+    sum' r^-3 for point dipoles, sum_j ||P_ij|| (self term included) for prism sites."""
+    a = lattice.spacing_nm
+    if thickness_nm is None:
+        return 2.0 * POINT_DIPOLE_SUM[lattice.shape] * dipolar_constant_T(moment_J_per_T, a)
+    from thinfilm.model.prism_tensor import field_norm_sum
+
+    return field_norm_sum(a, thickness_nm) * a**3 * dipolar_constant_T(moment_J_per_T, a)
 
 
 def cache_clear():

@@ -28,16 +28,20 @@ from thinfilm.engines._kernels.banded import (
 )
 from thinfilm.engines._kernels.metropolis import N_COUNTS, make_work, row_colouring
 from thinfilm.engines._kernels.swendsen_wang import make_sw_work, sw_mixed_samples, sw_mixed_sweeps
-from thinfilm.engines._kernels.wolff import N_STATS, make_cluster_work, mixed_samples, mixed_sweeps
+from thinfilm.engines._kernels.wolff import mixed_samples, mixed_sweeps
 from thinfilm.engines.cluster_moves import (
     _MODE,
     CLUSTER_DIRECTIONS,
     MOVES,
-    _direction,
     cluster_moves_exact,
+    setup_clusters,
 )
+from thinfilm.engines.film import as_terms, fast_model
+from thinfilm.engines.film_mc import check_sampler_args, init_generic
 from thinfilm.input.units import KB_J_PER_K, MEV_J
 from thinfilm.model.parameters import Model
+from thinfilm.model.site_parameters import SiteParameters
+from thinfilm.model.term_set import TermSet
 
 __all__ = ["MonteCarlo", "cluster_moves_exact", "MOVES", "CLUSTER_DIRECTIONS"]
 
@@ -54,7 +58,12 @@ class MonteCarlo:
 
     Parameters
     ----------
-    model : Model
+    model : Model, SiteParameters or TermSet
+        The film as energy terms (:mod:`thinfilm.model.terms`). A perfect film without DMI or
+        dipolar field runs on the fused banded kernels (and may use cluster moves); any other
+        film on the generic per-site sweeps (:mod:`thinfilm.engines.film_mc`), with the
+        dipolar field by the exact sequential scheme. ``path`` says which. Observables are
+        then per occupied site (``n_sites`` = occupied sites).
     temperature_K : float
         Temperature (K), > 0.
     seed : int
@@ -84,6 +93,8 @@ class MonteCarlo:
     clusters_per_sweep : int or None
         Clusters per sweep; None tunes it in :meth:`warmup` to N / (mean cluster size), so the
         clusters of one sweep cover about N sites (frozen while sampling; 1 until tuned).
+    site_params : SiteParameters, optional
+        A disorder realisation of ``model`` (the Model's DMI and dipolar field join it).
     cluster_algorithm : {"wolff", "swendsen-wang"}
         "wolff" (default): single-cluster moves grown serially. "swendsen-wang": one sweep is a
         Metropolis sweep followed by one Swendsen-Wang move of every cluster, labelled in
@@ -94,77 +105,57 @@ class MonteCarlo:
     def __init__(self, model, temperature_K, *, seed, initial_spins=None, sigma=0.5,
                  reflection="auto", over_relaxation=1, stream=1, parallel=None,
                  moves=("metropolis",), cluster_direction="auto", clusters_per_sweep=None,
-                 cluster_algorithm="wolff"):
-        if not isinstance(model, Model):
+                 site_params=None, cluster_algorithm="wolff"):
+        if not isinstance(model, (Model, SiteParameters, TermSet)):
             raise TypeError("MonteCarlo needs a thinfilm.model.Model")
-        if model.dipolar:
-            raise ValueError("the Monte Carlo engine has no dipolar field: run dipolar models "
-                             "with LLGSimulation")
+        if cluster_algorithm not in CLUSTER_ALGORITHMS:
+            raise ValueError(f"cluster_algorithm must be one of {', '.join(CLUSTER_ALGORITHMS)}; "
+                             f"got {cluster_algorithm!r}")
+        self.cluster_algorithm = cluster_algorithm
+        fast = fast_model(model, site_params)
+        fast = None if fast is not None and fast.dipolar else fast
         if not temperature_K > 0:
             raise ValueError(f"temperature must be positive (K); got {temperature_K!r}")
-        lat = model.lattice
-        if lat.periodic and (lat.nx < 2 or lat.ny < 2):
-            raise ValueError("periodic Monte Carlo needs at least 2 rows and 2 columns "
-                             "(a single periodic row or column bonds a site to itself)")
-        if int(stream) < 1:
-            raise ValueError("Monte Carlo uses random streams >= 1 (0 is the LLG noise)")
-        if int(over_relaxation) < 0:
-            raise ValueError("over_relaxation must be >= 0")
-        self.model = model
+        terms = None if fast is not None else as_terms(model, site_params)
+        lat = (fast or terms).lattice
+        check_sampler_args(lat, stream, over_relaxation)
         self.seed = int(seed)
         self.stream = int(stream)
         self.n_or = int(over_relaxation)
-        self.reflection = bool(model.anisotropy_J > 0) if reflection == "auto" else bool(reflection)
         self.parallel = lat.n_sites >= PARALLEL_MIN_SITES if parallel is None else bool(parallel)
+        self.sweep_count = 0
+        self.sigma = float(sigma)
+        self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
+        if terms is not None:
+            init_generic(self, model, terms, site_params, temperature_K, reflection,
+                         initial_spins, moves)
+            return
+        self.model = model = fast
+        self.terms, self.path = None, "fused"
+        self._n_sites = lat.n_sites
+        self._mu = model.moment_J_per_T
+        self._easy_axis = model.anisotropy_J > 0
+        self.reflection = bool(model.anisotropy_J > 0) if reflection == "auto" else bool(reflection)
         self._order, self._bounds = row_colouring(lat.ny, lat.periodic)
         self._code, self._periodic, self._jt, self._kt, self._axis = model.kernel_args()
         self._b = np.ascontiguousarray(model.field_T, dtype=np.float64)
         self._axis = np.ascontiguousarray(self._axis, dtype=np.float64)
         self.temperature_K = temperature_K
-        self._counts = np.zeros((lat.ny, N_COUNTS), dtype=np.int64)
         self._rows = np.empty((lat.ny, 4))
-        self.sweep_count = 0
-        self.sigma = float(sigma)
         # The state lives in the kernel's banded layout (work tuple: cbounds, chunks, bands, T,
         # zc, buf, g, cnt); _host is its (ny, nx, 3) copy, refreshed lazily by `spins`.
         self._host = np.empty((lat.ny, lat.nx, 3))
         self._host_ok = False
         self._work = make_work(self._host, self._order, self._bounds)
+        self._g = None
         self.spins = self._initial(initial_spins)
-        if cluster_algorithm not in CLUSTER_ALGORITHMS:
-            raise ValueError(f"cluster_algorithm must be one of {', '.join(CLUSTER_ALGORITHMS)}; "
-                             f"got {cluster_algorithm!r}")
-        self.cluster_algorithm = cluster_algorithm
-        self._setup_clusters(moves, cluster_direction, clusters_per_sweep)
-
-    def _setup_clusters(self, moves, direction, per_sweep):
-        moves = (moves,) if isinstance(moves, str) else tuple(moves)
-        bad = [m for m in moves if m not in MOVES]
-        if bad or "metropolis" not in moves:
-            raise ValueError(f"moves must be ('metropolis',) or ('metropolis', 'cluster'); got "
-                             f"{moves!r} (cluster moves alone are not ergodic: they only flip "
-                             "the spin component along the reflection direction)")
-        self.moves = tuple(m for m in MOVES if m in moves)
-        self.cluster_direction = _direction(self.model, direction)
-        self._cl = None
-        self._cl_stats = np.zeros(N_STATS)
-        self.last_cluster_stats = None
-        if "cluster" not in self.moves:
-            return
-        ok, why = cluster_moves_exact(self.model, self.cluster_direction)
-        if not ok:
-            raise ValueError(why)
-        self._tune_clusters = per_sweep is None
-        self.clusters_per_sweep = 1 if per_sweep is None else int(per_sweep)
-        if self.clusters_per_sweep < 1:
-            raise ValueError("clusters_per_sweep must be >= 1")
-        lat = self.model.lattice
-        sw = self.cluster_algorithm == "swendsen-wang"
-        make = make_sw_work if sw else make_cluster_work
-        self._cl = make(self._work[3], self._work[2], lat.periodic, lat.neighbours, self._axis,
-                        _MODE[self.cluster_direction])
-        self._mixed = (sw_mixed_sweeps, sw_mixed_samples) if sw else (mixed_sweeps, mixed_samples)
-        if sw:
+        setup_clusters(self, moves, cluster_direction, clusters_per_sweep)
+        self._mixed = (mixed_sweeps, mixed_samples)
+        if self._cl is not None and cluster_algorithm == "swendsen-wang":
+            lat = model.lattice
+            self._cl = make_sw_work(self._work[3], self._work[2], lat.periodic, lat.neighbours,
+                                    self._axis, _MODE[self.cluster_direction])
+            self._mixed = (sw_mixed_sweeps, sw_mixed_samples)
             self._tune_clusters = False
 
     # ---------------------------------------------------------------- state
@@ -178,10 +169,10 @@ class MonteCarlo:
         if not value > 0:
             raise ValueError(f"temperature must be positive (K); got {value!r}")
         self._temperature_K = float(value)
-        self._beta = self.model.moment_J_per_T / (KB_J_PER_K * self._temperature_K)
+        self._beta = self._mu / (KB_J_PER_K * self._temperature_K)
 
     def _initial(self, init):
-        lat = self.model.lattice
+        lat = (self.model if self.terms is None else self.terms).lattice
         shape = (lat.ny, lat.nx, 3)
         if init is None or (isinstance(init, str) and init == "random"):
             g = np.random.default_rng(self.seed).normal(size=shape)
@@ -190,7 +181,7 @@ class MonteCarlo:
             return np.ascontiguousarray(np.broadcast_to(self._axis, shape), dtype=np.float64)
         if isinstance(init, str):
             raise ValueError(f"initial_spins must be an array, 'random' or 'ordered'; got {init!r}")
-        return self._checked(init)
+        return init if self.terms is not None else self._checked(init)
 
     def _checked(self, spins):
         lat = self.model.lattice
@@ -212,6 +203,8 @@ class MonteCarlo:
         first access after a sweep and caches the result until the next sweep, reusing one
         buffer (copy before keeping it). Assign to ``spins`` to change the state.
         """
+        if self._g is not None:
+            return self._g.spins
         if not self._host_ok:
             from_banded(self._work[3], self._host, self._work[2], self.parallel)
             self._host_ok = True
@@ -221,6 +214,9 @@ class MonteCarlo:
 
     @spins.setter
     def spins(self, value):
+        if self._g is not None:
+            self._g.set_spins(value)
+            return
         self._host[...] = self._checked(value)
         to_banded(self._host, self._work[3], self._work[2], self._periodic, self.parallel)
         self._host_ok = True
@@ -262,7 +258,9 @@ class MonteCarlo:
         n = int(n)
         self._counts[:] = 0
         self._cl_stats[:] = 0.0
-        if n > 0:
+        if n > 0 and self._g is not None:
+            self._generic_series(1, n)
+        elif n > 0:
             buf, g, cnt = self._work[5:]
             head = (*self._kernel_args(), self._beta, self.sigma, self.seed, self.stream,
                     self.sweep_count, n, self.reflection, self.n_or, self._counts, buf, g, cnt,
@@ -276,8 +274,15 @@ class MonteCarlo:
             self.sweep_count += n
         return self._acceptance(self._counts.sum(axis=0), max(n, 1))
 
+    def _generic_series(self, n_samples, sample_every):
+        out, self.sweep_count = self._g.series(
+            n_samples, sample_every, self._beta, self.sigma, self.seed, self.stream,
+            self.sweep_count, self.reflection, self.n_or)
+        self._counts[:, :3] = self._g.counts
+        return out
+
     def _acceptance(self, acc, n_sweeps):
-        visits = n_sweeps * self.model.lattice.n_sites
+        visits = n_sweeps * max(self._n_sites, 1)
         out = {"gaussian": acc[0] / visits,
                "reflection": acc[1] / visits if self.reflection else float("nan"),
                "over_relaxation": acc[2] / (visits * self.n_or) if self.n_or else float("nan")}
@@ -289,7 +294,7 @@ class MonteCarlo:
             # improved estimator of <(r.m)^2> per spin (valid for B.r = 0), see kernels.wolff
             self.last_cluster_stats = {"clusters": int(st[0]), "mean_size": st[1] / made,
                                        "acceptance": st[2] / made,
-                                       "m_r2_improved": st[3] / made / self.model.lattice.n_sites}
+                                       "m_r2_improved": st[3] / made / self._n_sites}
         return out
 
     def warmup(self, n, *, tune=True, chunk=10):
@@ -312,7 +317,7 @@ class MonteCarlo:
                     made += self._cl_stats[0]
                     sites += self._cl_stats[1]
                 mean = sites / made if made else res["cluster_size"]
-                self.clusters_per_sweep = max(1, int(round(self.model.lattice.n_sites / mean)))
+                self.clusters_per_sweep = max(1, int(round(self._n_sites / mean)))
             if tune:
                 # multiplicative update, factor exp(2 (a - 0.5)) in [0.37, 2.7]
                 s = self.sigma * np.exp(2.0 * (acc - TARGET_ACCEPTANCE))
@@ -329,6 +334,8 @@ class MonteCarlo:
             energy_J (per spin, J), m_vector (3,) (mean spin), m_order (component along the
             anisotropy axis if K > 0, else abs(m_vector)).
         """
+        if self._g is not None:
+            return self._per_spin(self._g.totals())[0]
         T, zc, _, _, bands = self._kernel_args()[:5]
         banded_row_sums(T, zc, bands, self._code, self._periodic, self._jt, self._kt, self._axis,
                         self._b, self._rows, self.parallel)
@@ -337,10 +344,10 @@ class MonteCarlo:
 
     def _per_spin(self, tot):
         """(n, 4) totals (mx, my, mz, energy in mu_s T) -> list of per-spin measurement dicts."""
-        n = self.model.lattice.n_sites
+        n = max(self._n_sites, 1)
         m = tot[:, :3] / n
-        e = self.model.moment_J_per_T * tot[:, 3] / n
-        if self.model.anisotropy_J > 0:
+        e = self._mu * tot[:, 3] / n
+        if self._easy_axis:
             order = m @ self._axis
         else:
             order = np.linalg.norm(m, axis=1)
@@ -349,6 +356,8 @@ class MonteCarlo:
 
     def _series(self, n_samples, sample_every):
         """Kernel loop: n_samples x (sample_every sweeps + totals); returns (n, 4) totals."""
+        if self._g is not None:
+            return self._generic_series(n_samples, sample_every)
         out = np.empty((n_samples, 4))
         self._counts[:] = 0
         if n_samples > 0:
@@ -404,7 +413,7 @@ class MonteCarlo:
         acc_sum = np.zeros(N_COUNTS, dtype=np.int64)
         self._cl_stats[:] = 0.0  # accumulated over the chunks of this run
         # chunks of about 2e6 site visits between progress calls
-        per_sample = sample_every * self.model.lattice.n_sites
+        per_sample = sample_every * max(self._n_sites, 1)
         chunk = max(1, min(n_samples, 2_000_000 // per_sample))
         done = 0
         while done < n_samples:
@@ -414,15 +423,15 @@ class MonteCarlo:
             done += m
             if progress is not None:
                 progress(done, n_samples)
-        n = self.model.lattice.n_sites
+        n = max(self._n_sites, 1)
         mv = tot[:, :3] / n
-        e = self.model.moment_J_per_T * tot[:, 3] / n
-        mo = mv @ self._axis if self.model.anisotropy_J > 0 else np.linalg.norm(mv, axis=1)
+        e = self._mu * tot[:, 3] / n
+        mo = mv @ self._axis if self._easy_axis else np.linalg.norm(mv, axis=1)
         sw = self.sweep_count - (n_samples - 1 - np.arange(n_samples)) * sample_every
         acceptance = self._acceptance(acc_sum, max(n_samples * sample_every, 1))
         out = {"energy_J": e, "energy_meV": e / MEV_J, "m_vector": mv, "m_order": mo,
                "sweep": sw, "temperature_K": self.temperature_K,
-               "n_sites": self.model.lattice.n_sites, "sigma": self.sigma,
+               "n_sites": self._n_sites, "sigma": self.sigma,
                "acceptance": acceptance}
         if self._cl is not None:
             out["clusters_per_sweep"] = self.clusters_per_sweep

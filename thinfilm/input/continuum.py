@@ -36,6 +36,17 @@ def exchange_factor(shape):
     return {"square": 2.0, "triangular": 2.0 / SQ3, "honeycomb": 2.0 * SQ3}[shape]
 
 
+def dmi_factor(shape):
+    """d / (D t a) for the lattice shape: the interfacial DMI per bond of a continuum density D
+    (J/m^2) in a film of thickness t, d = 4 D t Omega / (z a) (Omega the area per site, z the
+    neighbours), derived like the exchange mapping from a cycloid of small wave vector q: the
+    bond sum (d a q / 2) sum_k (r_k.q_hat)^2 = d a q z / 4 per site against D t q Omega of the
+    continuum energy D t [m_z div m - (m.grad) m_z]. Square 1 (d = D a t, Fert, Cros and
+    Sampaio, Nat. Nanotechnol. 8, 152 (2013), from memory), triangular 1/sqrt3, honeycomb sqrt3:
+    half the exchange factor, so d / J = D a / (2 A) on every lattice."""
+    return exchange_factor(shape) / 2.0
+
+
 def continuum_to_lattice(shape, a, stiffness, anisotropy_density, magnetisation, thickness, *,
                          shape_anisotropy=False, axis=(0, 0, 1)):
     """Map continuum film parameters onto one spin per lattice site.

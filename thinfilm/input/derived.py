@@ -1,5 +1,5 @@
 """Derived scales printed by `thinfilm check`: mean-field Tc, dipolar shape anisotropy, wall
-width, exchange length."""
+width, exchange length, DMI scales."""
 
 import math
 
@@ -10,7 +10,8 @@ from thinfilm.input.continuum import exchange_factor, site_area
 from thinfilm.input.dipolar_spec import POINT_DIPOLE_SUM
 from thinfilm.input.units import KB_J_PER_K, MU0
 
-__all__ = ["mean_field_tc_K", "wall_parameter_nm", "exchange_length_nm", "dipolar_shape_cost_J"]
+__all__ = ["mean_field_tc_K", "wall_parameter_nm", "exchange_length_nm", "dipolar_shape_cost_J",
+           "dmi_scales"]
 
 
 def _cos2_mean(sigma):
@@ -95,3 +96,39 @@ def wall_parameter_nm(model):
 def exchange_length_nm(stiffness_J_per_m, magnetisation_A_per_m):
     """Exchange length l_ex = sqrt(2A / (mu0 Ms^2)) in nm."""
     return math.sqrt(2 * stiffness_J_per_m / (MU0 * magnetisation_A_per_m**2)) * 1e9
+
+
+def dmi_scales(model):
+    """Scales of the interfacial DMI (None without DMI): a dict with
+
+    * ``dmi_J_per_m2_times_t`` D t (J/m) = 2 d / (c a) (c the exchange factor; the mapping of
+      :func:`thinfilm.input.continuum.dmi_factor`);
+    * ``spiral_period_nm`` 4 pi A / abs(D) = 2 pi J a / abs(d) (the T = 0 spin spiral of an
+      isotropic film, continuum limit; common practice, from memory);
+    * ``critical_ratio`` abs(D) / D_c with D_c = 4 sqrt(A K_eff) / pi, above which the uniform
+      state is unstable to spirals/stripes (Heide, Bihlmayer and Bluegel, Phys. Rev. B 78,
+      140403 (2008)), None for K_eff <= 0;
+    * ``wall_energy_J_per_m2_times_t`` sigma t = (4 sqrt(A K_eff) - pi abs(D)) t, the energy of a
+      Neel wall of the sense the DMI favours (Thiaville et al., EPL 100, 57002 (2012)); None for
+      K_eff <= 0.
+
+    K_eff = K - dipolar shape cost (:func:`dipolar_shape_cost_J`), per area Omega.
+    """
+    d = getattr(model, "dmi_J", 0.0)
+    if not d:
+        return None
+    lat = model.lattice
+    a = lat.spacing_nm
+    c = exchange_factor(lat.shape)
+    a_m = a * 1e-9
+    at = model.exchange_J / c  # A t (J)
+    dt = 2.0 * d / (c * a_m)  # D t (J/m)
+    out = {"dmi_J_per_m2_times_t": dt, "spiral_period_nm": 2 * math.pi * model.exchange_J * a
+           / abs(d), "critical_ratio": None, "wall_energy_J_per_m2_times_t": None}
+    k_eff = model.anisotropy_J - dipolar_shape_cost_J(model)
+    if k_eff > 0:
+        kt = k_eff / site_area(lat.shape, a_m)  # K_eff t (J/m^2)
+        root = math.sqrt(at * kt)  # sqrt(A K_eff) t (J/m)
+        out["critical_ratio"] = abs(dt) * math.pi / (4 * root)
+        out["wall_energy_J_per_m2_times_t"] = 4 * root - math.pi * abs(dt)
+    return out

@@ -16,7 +16,8 @@ error: :data:`KEY_MODES` lists where each key acts, and :func:`check_keys_for_mo
 
 from thinfilm.input.errors import ScenarioError
 
-__all__ = ["MODES", "MODE_TEXT", "KEY_MODES", "scenario_mode", "check_keys_for_mode"]
+__all__ = ["MODES", "MODE_TEXT", "KEY_MODES", "scenario_mode", "check_keys_for_mode",
+           "CLUSTER_WITH_DMI", "metropolis_where_needed"]
 
 MODES = ("run", "llg-set", "mc-set")
 MODE_TEXT = {
@@ -29,6 +30,10 @@ ALL = MODES
 SETS = ("llg-set", "mc-set")
 LLG = ("run", "llg-set")
 
+CLUSTER_WITH_DMI = ("cluster moves are not available with material.dmi: the embedded-cluster "
+                    "reflection of both spins of a bond reverses the DMI energy, so the move is "
+                    "not a symmetry of the film; set moves: [metropolis]")
+
 # key path -> (modes where it takes effect, what it does there, how to fix a misplaced one).
 # Keys not listed here act in every mode.
 KEY_MODES = {
@@ -38,8 +43,9 @@ KEY_MODES = {
                            "give several temperatures, or remove refine"),
     "material.dipolar": (LLG, "dipole-dipole field of the moments (point or prism sites) in both "
                               "Heun stages",
-                         "the Monte Carlo engine has no long-range field; set dynamics.method: "
-                         "llg"),
+                         "scenario Monte Carlo sets have no long-range field (the exact "
+                         "sequential dipolar Monte Carlo of the API costs O(N^2) per sweep); "
+                         "set dynamics.method: llg"),
     "dynamics.duration": (LLG, "length of the run (run) or sampled time per point (llg-set)",
                           "a Monte Carlo set is as long as dynamics.sweeps"),
     "dynamics.warmup": (LLG, "LLG time before recording or sampling",
@@ -108,3 +114,16 @@ def check_keys_for_mode(data, mode, path, *, n_temperatures):
         raise ScenarioError("refine: near-tc needs several temperatures to find Tc between; "
                             "give a wider {start, stop, step} range or remove refine",
                             path=path, key="temperature.refine")
+
+
+def metropolis_where_needed(r, path, mat, disorder, dyn):
+    """The dynamics with Metropolis moves only where cluster moves are not exact (a disordered
+    film, a film with DMI); cluster moves asked for explicitly with DMI are refused here (the
+    disorder section refuses its own)."""
+    from dataclasses import replace
+
+    if (disorder is not None or mat.dmi_J) and "cluster" in dyn.moves:
+        if mat.dmi_J and "moves" in (r.raw("dynamics") or {}):
+            raise ScenarioError(CLUSTER_WITH_DMI, path=path, key="dynamics.moves")
+        dyn = replace(dyn, moves=("metropolis",))  # default moves: Metropolis only here
+    return dyn

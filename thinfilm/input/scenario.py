@@ -14,12 +14,12 @@ import numpy as np
 import yaml
 
 from thinfilm.input import calibration_spec as curie
-from thinfilm.input.continuum import continuum_to_lattice, warn_continuum_cells
+from thinfilm.input.continuum import continuum_to_lattice, dmi_factor, warn_continuum_cells
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
 from thinfilm.input.initial_spec import labyrinth_width_nm
-from thinfilm.input.modes import check_keys_for_mode, scenario_mode
+from thinfilm.input.modes import check_keys_for_mode, metropolis_where_needed, scenario_mode
 from thinfilm.input.reader import Reader
 from thinfilm.input.spec import (
     SHAPES,
@@ -82,7 +82,7 @@ def _material(r, lat):
     m = r.sub("material", required=True)
     continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
-    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", curie.KEY})
+    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", "dmi", curie.KEY})
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
     if given_c and given_l:
@@ -104,10 +104,12 @@ def _material(r, lat):
         axis = m.vector("axis", default=[0, 0, 1], nonzero=True)
         mu, jj, kk = continuum_to_lattice(lat.shape, lat.spacing_nm * 1e-9, a, ku, ms, t,
                                           shape_anisotropy=shape_aniso, axis=axis)
+        dmi = m.quantity("dmi", "dmi_density", default="0 J/m^2")
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
-                "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
+                "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso, "dmi_J_per_m2": dmi,
                 "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
-        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, calib)
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, calib,
+                            dmi_J=dmi_factor(lat.shape) * dmi * t * lat.spacing_nm * 1e-9)
     dipolar, dip_t = parse_dipolar(m, lat)
     mu = m.quantity("moment", "moment", required=True, positive=True)
     aniso = m.raw("anisotropy")
@@ -121,7 +123,8 @@ def _material(r, lat):
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
     jj, calib = curie.lattice_exchange(m, lat, kk, dipolar)  # given, or from a measured Tc
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t, calib)
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t, calib,
+                        dmi_J=m.quantity("dmi", "energy", default="0 J"))
 
 
 def _lattice(r):
@@ -302,15 +305,12 @@ def _disorder(r, path, lat, sizes, mat, dyn):
     spec = parse_disorder(raw, path, geometry)
     if not spec.is_disordered:
         return None
-    if mat.dipolar:
-        raise r.error("the per-site (disordered) engines have no dipolar field; remove "
-                      "material.dipolar or the disorder section", "disorder")
     if dyn.method == "monte-carlo" and "cluster" in dyn.moves:
-        given = isinstance(r.raw("dynamics"), dict) and "moves" in r.raw("dynamics")
-        if given:
-            raise ScenarioError("cluster moves are not available for a disordered film (the "
-                                "per-site Monte Carlo engine has Metropolis moves only); set "
-                                "moves: [metropolis]", path=path, key="dynamics.moves")
+        if isinstance(r.raw("dynamics"), dict) and "moves" in r.raw("dynamics"):
+            raise ScenarioError("cluster moves are not available for a disordered film: the "
+                                "embedded-cluster reflection is not a symmetry of per-site "
+                                "anisotropy axes and constants; set moves: [metropolis]",
+                                path=path, key="dynamics.moves")
     return spec
 
 
@@ -405,8 +405,7 @@ def load_scenario(source):
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
     primary, instruments = _instruments(r)
     disorder = _disorder(r, path, lat, sizes, mat, dyn)
-    if disorder is not None and "cluster" in dyn.moves:  # default moves: Metropolis only here
-        dyn = replace(dyn, moves=("metropolis",))
+    dyn = metropolis_where_needed(r, path, mat, disorder, dyn)
     initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes
                                  else lat)
     warn_continuum_cells(path, lat.spacing_nm, bool(mat.continuum), max(temps))

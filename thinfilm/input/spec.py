@@ -42,6 +42,7 @@ class MaterialSpec:
     dipolar: bool = False  # dipole-dipole interaction between the site moments
     dipolar_thickness_nm: float | None = None  # prism sites a x a x t; None: point dipoles
     calibration: dict | None = None  # exchange set from a measured Tc (input.calibration)
+    dmi_J: float = 0.0  # interfacial DMI d per bond (J), D_ij = d (z x r_ij)
 
 
 @dataclass(frozen=True)
@@ -136,6 +137,8 @@ class Scenario:
             out["material"]["continuum"] = m.continuum
         if m.calibration:
             out["material"]["calibration"] = m.calibration
+        if m.dmi_J:
+            out["material"]["dmi_meV"] = m.dmi_J / MEV_J
         if m.dipolar:
             out["material"]["dipolar"] = True
             if m.dipolar_thickness_nm is not None:

@@ -38,6 +38,7 @@ DIMENSIONS = {
     "moment": "[current] * [length] ** 2",
     "stiffness": "[mass] * [length] / [time] ** 2",
     "energy_density": "[mass] / [length] / [time] ** 2",
+    "dmi_density": "[mass] / [time] ** 2",
     "magnetisation": "[current] / [length]",
 }
 SI_UNIT = {
@@ -49,6 +50,7 @@ SI_UNIT = {
     "moment": "J/T",
     "stiffness": "J/m",
     "energy_density": "J/m^3",
+    "dmi_density": "J/m^2",
     "magnetisation": "A/m",
 }
 EXAMPLE = {
@@ -60,6 +62,7 @@ EXAMPLE = {
     "moment": '"3 muB"',
     "stiffness": '"15 pJ/m"',
     "energy_density": '"0.5 MJ/m^3"',
+    "dmi_density": '"1.5 mJ/m^2"',
     "magnetisation": '"1.1 MA/m"',
 }
 

@@ -3,6 +3,7 @@
 Energy (each nearest-neighbour bond counted once):
 
     E = -J sum_<ij> S_i.S_j - K sum_i (S_i.n)^2 - mu_s sum_i B.S_i
+        [+ d sum_<ij> (z x r_ij).(S_i x S_j), with DMI]
 
 Effective field (tesla): B_eff,i = -(1/mu_s) dE/dS_i = (J/mu_s) sum_j S_j + (2K/mu_s)(S_i.n) n + B.
 """
@@ -40,6 +41,11 @@ class Model:
     dipolar_thickness_nm : float or None
         With ``dipolar``: each site is the uniformly magnetised prism a x a x t of this
         thickness (square lattice only) instead of a point dipole; None: point dipoles.
+    dmi_J : float
+        Interfacial Dzyaloshinskii-Moriya constant d per bond (J): E = sum_<ij> D_ij.(S_i x S_j),
+        D_ij = d (z x r_ij)/|r_ij| (:class:`thinfilm.model.terms.DMI`); 0: none.
+
+    The model is also a set of energy terms: :func:`thinfilm.model.terms.film_terms`.
     """
 
     lattice: Lattice
@@ -50,6 +56,7 @@ class Model:
     field_T: np.ndarray = field(default_factory=lambda: np.zeros(3))
     dipolar: bool = False
     dipolar_thickness_nm: float | None = None
+    dmi_J: float = 0.0
 
     def __post_init__(self):
         axis = np.asarray(self.axis, dtype=np.float64)
@@ -84,6 +91,10 @@ class Model:
         return 2.0 * self.anisotropy_J / self.moment_J_per_T
 
     @property
+    def dmi_meV(self):
+        return self.dmi_J / MEV_J
+
+    @property
     def exchange_meV(self):
         return self.exchange_J / MEV_J
 
@@ -95,7 +106,7 @@ class Model:
         """Copy of the model with another Zeeman field (T)."""
         return Model(self.lattice, self.moment_J_per_T, self.exchange_J, self.anisotropy_J,
                      self.axis, np.asarray(field_T, dtype=np.float64), self.dipolar,
-                     self.dipolar_thickness_nm)
+                     self.dipolar_thickness_nm, self.dmi_J)
 
     def kernel_args(self):
         """Tuple (code, periodic, exchange_T, anisotropy_T, axis) for the field kernels."""
@@ -114,4 +125,4 @@ def build_model(scenario):
     m = scenario.material
     return Model(lat, m.moment_J_per_T, m.exchange_J, m.anisotropy_J, m.axis,
                  np.asarray(scenario.field_T, dtype=np.float64), m.dipolar,
-                 m.dipolar_thickness_nm)
+                 m.dipolar_thickness_nm, getattr(m, "dmi_J", 0.0))

@@ -34,7 +34,7 @@ from thinfilm.runs.sweep_point import sized_scenario
 __all__ = ["beyond_lattice", "infinite_film_points", "LARGE_DIR", "LARGE_YAML"]
 
 #: Folder (inside the plan's folder) of the large-lattice points the plan asks for, and the
-#: scenario it writes for them.
+#: scenario it writes for them (later requests: large_lattice-2, large_lattice-2.yaml, ...).
 LARGE_DIR, LARGE_YAML = "large_lattice", "large_lattice.yaml"
 #: Large-lattice points asked for per side of Tc, and the samples per point (cluster moves
 #: decorrelate the film in a few sweeps near Tc; ours).
@@ -119,7 +119,7 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
                         "flag": cols["correlation_length_flag"],
                         "converged_length_nm": cols["converged_length_nm"],
                         "converged_length_err_nm": cols["converged_length_err_nm"]}
-        req = _large_request(scenario, out, cols, tc_K, film_side)
+        req = _large_request(scenario, out, cols, tc_K, film_side, tab)
         if req:
             res["large_lattice_request"] = req
         fit = ext["fits"].get("correlation_length", {})
@@ -150,26 +150,48 @@ def _forms_by_tc(tab, tc_K):
     return out
 
 
+def _large_runs(out):
+    """Folders of the large-lattice runs beside the plan: large_lattice, large_lattice-2, ..."""
+    return sorted(p for p in Path(out).glob(f"{LARGE_DIR}*") if p.is_dir()
+                  and (p.name == LARGE_DIR or p.name[len(LARGE_DIR) + 1:].isdigit()))
+
+
+def _next_large(out):
+    """(folder, scenario file) names for the next large-lattice request."""
+    k = 1
+    while True:
+        stem = LARGE_DIR if k == 1 else f"{LARGE_DIR}-{k}"
+        if not (Path(out) / stem).exists():
+            return stem, f"{stem}.yaml"
+        k += 1
+
+
 def _with_large(tab, out):
-    """The sweep table with the rows of ``out/large_lattice/observables.csv`` appended, when
-    that run exists (the large-lattice points the plan asked for); and a note saying so."""
-    path = Path(out) / LARGE_DIR / "observables.csv"
-    if not path.is_file():
+    """The sweep table with the rows of every finished large-lattice run beside the plan
+    (``large_lattice*/observables.csv``) appended, and a note saying which."""
+    paths = [p / "observables.csv" for p in _large_runs(out) if (p / "observables.csv").is_file()]
+    if not paths:
         return tab, None
-    big = read_csv_table(path)
-    keys = [k for k in tab if k in big and tab[k].dtype.kind == "f" and big[k].dtype.kind == "f"]
-    merged = {k: np.concatenate([tab[k], big[k]]) for k in keys}
-    sizes = sorted({int(v) for v in big["size"]})
-    temps = sorted({round(float(v), 4) for v in big["temperature_K"]})
-    return merged, {"folder": f"{LARGE_DIR}/", "sizes": sizes, "temperatures_K": temps}
+    bigs = [read_csv_table(p) for p in paths]
+    keys = [k for k in tab if tab[k].dtype.kind == "f"
+            and all(k in b and b[k].dtype.kind == "f" for b in bigs)]
+    merged = {k: np.concatenate([tab[k]] + [b[k] for b in bigs]) for k in keys}
+    sizes = sorted({int(v) for b in bigs for v in b["size"]})
+    temps = sorted({round(float(v), 4) for b in bigs for v in b["temperature_K"]})
+    return merged, {"folder": ", ".join(f"{p.parent.name}/" for p in paths), "sizes": sizes,
+                    "temperatures_K": temps}
 
 
-def _large_request(scenario, out, cols, tc_K, film_side):
+def _large_request(scenario, out, cols, tc_K, film_side, tab):
     """Large-lattice points for sweep temperatures near Tc where no size converged.
 
     Up to :data:`N_LARGE_PER_SIDE` sweep temperatures per side of Tc, the closest to Tc whose
-    length is known only through finite-size scaling; one size L, the smallest power of two
-    whose film side is at least 10 x (xi + 2 errors) at all of them (at most 1024). Writes the
+    length is known only through finite-size scaling. Each gets the smallest size L (a
+    multiple of 8, larger than every size already run there, at most 1024) whose film side is
+    at least 11 x (xi + its error): converged
+    by the 10 xi rule, yet not so large that the second moment loses its precision (its
+    S(0)/S(k_min) - 1 = (khat_min xi)^2 shrinks as (L/xi)^-2). Every asked temperature runs at
+    every asked size (one scenario), which also gives two sizes to compare. Writes the
     scenario ``large_lattice.yaml`` beside the plan when the scenario came from a file, and
     returns the request with the commands (None when nothing needs a larger lattice).
     """
@@ -186,25 +208,34 @@ def _large_request(scenario, out, cols, tc_K, film_side):
         pick += side[:N_LARGE_PER_SIDE]
     if not pick:
         return None
-    need = max(10.0 * (xi[i] + 2.0 * (err[i] if np.isfinite(err[i]) else 0.0)) for i in pick)
-    size = 64
-    while film_side(size) < need and size < 1024:
-        size *= 2
+    needs, sizes = [], set()
+    for i in pick:
+        need = 11.0 * (xi[i] + (err[i] if np.isfinite(err[i]) else 0.0))
+        ran = tab["size"][np.isclose(tab["temperature_K"], T[i], rtol=0, atol=1e-6)]
+        size = 8 * (int(np.nanmax(ran, initial=0)) // 8 + 1)
+        while film_side(size) < need and size < 1024:
+            size += 8
+        needs.append(need)
+        sizes.add(size)
+    size = max(sizes)
     temps = sorted(float(T[i]) for i in pick)
-    req = {"temperatures_K": temps, "size": size, "film_side_nm": film_side(size),
-           "needed_side_nm": need,
+    req = {"temperatures_K": temps, "sizes": sorted(sizes), "size": size,
+           "film_side_nm": film_side(size), "needed_side_nm": max(needs),
            "why": ("no lattice size of the sweep converged at these temperatures near Tc; their "
                    "lengths come from finite-size scaling alone"),
-           "enough": bool(film_side(size) >= need)}
+           "enough": bool(film_side(size) >= max(needs))}
+    folder, name = _next_large(out)
     src = Path(str(scenario.source))
     if not src.is_file():
         req["commands"] = None
-        req["how"] = (f"run the scenario with sizes: [{size}], temperature: the list above, "
-                      f"sweep order independent and cluster moves into {out / LARGE_DIR}, then "
+        req["how"] = (f"run the scenario with sizes: {sorted(sizes)}, temperature: the list "
+                      f"above, "
+                      f"sweep order independent and cluster moves into {Path(out) / folder}, "
+                      f"then "
                       f"build the plan again with reuse")
         return req
     data = yaml.safe_load(src.read_text(encoding="utf-8"))
-    data["sizes"] = [size]
+    data["sizes"] = sorted(sizes)
     data["temperature"] = [f"{t:.6g} K" for t in temps]
     sweep = dict(data.get("sweep") or {})
     # the S(k) and C(r) fits, precise where L >> xi, average over the snapshots
@@ -217,11 +248,11 @@ def _large_request(scenario, out, cols, tc_K, film_side):
     data.pop("movie", None)
     data["name"] = f"{data.get('name', 'film')}-large-lattice"
     head = ("# Written by thinfilm plan: large-lattice points near Tc for the plan of "
-            f"{src.name}\n# (Monte Carlo with cluster moves, L = {size}).\n")
-    yml = Path(out) / LARGE_YAML
+            f"{src.name}\n# (Monte Carlo with cluster moves, L = {sorted(sizes)}).\n")
+    yml = Path(out) / name
     atomic_write_text(yml, head + yaml.safe_dump(data, sort_keys=False))
-    req["scenario"] = LARGE_YAML
-    req["commands"] = [f"thinfilm run {yml} -o {Path(out) / LARGE_DIR}",
+    req["scenario"] = name
+    req["commands"] = [f"thinfilm run {yml} -o {Path(out) / folder}",
                        f"thinfilm plan {src} -o {out} --reuse"]
     return req
 

@@ -124,7 +124,8 @@ def _beyond_summary(plan):
     req = (plan.get("extrapolation") or {}).get("large_lattice_request")
     if req and req.get("commands"):
         out.append(f"  not measured xi at {', '.join(f'{t:.5g}' for t in req['temperatures_K'])} "
-                   f"K rests on finite-size scaling; to measure it (L = {req['size']}):")
+                   f"K rests on finite-size scaling; to measure it (L = "
+                   f"{', '.join(str(x) for x in req.get('sizes', [req['size']]))}):")
         out += [f"               {c}" for c in req["commands"]]
     return out
 
@@ -170,8 +171,9 @@ def beyond_lines(plan):
         cmd = ("; ".join(f"`{c}`" for c in req["commands"]) if req.get("commands")
                else req.get("how", ""))
         out.append(f"- Not measured: at T = {', '.join(f'{t:.5g}' for t in req['temperatures_K'])}"
-                   f" K {req['why']}. To measure them, run L = {req['size']} (film side "
-                   f"{req['film_side_nm']:.3g} nm"
+                   f" K {req['why']}. To measure them, run L = "
+                   f"{', '.join(str(x) for x in req.get('sizes', [req['size']]))} (largest film "
+                   f"side {req['film_side_nm']:.3g} nm"
                    + ("" if req.get("enough") else f", short of the {req['needed_side_nm']:.3g} "
                       "nm that 10 xi needs: the two largest sizes must then agree")
                    + f") with cluster moves: {cmd}.")

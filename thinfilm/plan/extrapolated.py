@@ -26,12 +26,11 @@ EXTRAPOLATION_COLUMNS = {
                               "correlation_length_nm, through the finite-size scaling form when "
                               "the sweep has two or more sizes"),
     "correlation_length_err_nm": "nm, one standard error (fit covariance, Tc error included)",
-    "correlation_length_flag": ("measured (inside the temperatures where a size converged), "
-                                "finite-size scaling (inside the fitted points, where no size "
-                                "converged), extrapolated, or refused"),
-    "converged_length_nm": ("nm, correlation_length_nm of the size converged in the film size "
-                            "with the smallest error at this sweep temperature; empty where "
-                            "none converged"),
+    "correlation_length_flag": ("measured (at or between sweep temperatures where a size "
+                                "converged), finite-size scaling (inside the fitted points, "
+                                "where no size converged), extrapolated, or refused"),
+    "converged_length_nm": ("nm, correlation_length_nm of the largest size converged in the "
+                            "film size at this sweep temperature; empty where none converged"),
     "converged_length_err_nm": "nm, its standard error",
     "converged_size": "L of that size (empty where none converged)",
     "domain_diameter_nm": "nm, the same fit of 2 sqrt(mean_domain_area_nm2 / pi) above Tc",
@@ -189,8 +188,8 @@ def extrapolated_lengths(table, film_side_nm, *, tc_K, tc_err_K, anisotropy, res
                                    nu=cls["nu"], amplitude_ratio=amplitude_ratio, **kw)
     grid = _grid(xfit, T, n_fine) if temperatures_K is None else np.asarray(temperatures_K, float)
     px = predict_length(xfit, grid, strict=False)
-    flag = _converged_flags(px, xfit, T, converged)
     byt = conv["by_temperature"]
+    flag = _converged_flags(px, xfit, byt)
     at_sweep = np.array([np.argmin(np.abs(byt["temperature_K"] - g)) for g in grid])
     same = np.abs(byt["temperature_K"][at_sweep] - grid) < 1e-6
     pick = same & byt["converged"][at_sweep]
@@ -222,22 +221,29 @@ def extrapolated_lengths(table, film_side_nm, *, tc_K, tc_err_K, anisotropy, res
                        "universality": cls, "note": "; ".join(notes), "converged": byt})
 
 
-def _converged_flags(pred, fit, T_rows, converged):
-    """predict_length flags with "measured" kept only inside the abs(t) range of the sweep
-    temperatures where a size converged (per side, to 0.1 % of abs(t): the fit's Tc moves
-    within its prior); elsewhere inside the fitted points the flag is "finite-size scaling"
-    (every point there is cut down by the box), or "extrapolated" for a fit of converged
-    rows alone."""
+def _converged_flags(pred, fit, by_temperature):
+    """predict_length flags with "measured" kept only where a size converged: at a sweep
+    temperature whose size converged, or between two neighbouring sweep temperatures (on the
+    same side of Tc) that both converged. Elsewhere inside the fitted points the flag is
+    "finite-size scaling" (every point there is cut down by the box), or "extrapolated" for a
+    fit of converged rows alone."""
     tc = fit["tc_K"]
     other = "finite-size scaling" if fit.get("finite_size") else "extrapolated"
     flag = np.asarray(pred["flag"], dtype=object).copy()
-    tconv = np.asarray(T_rows, dtype=np.float64)[converged]
-    at_c = np.abs(tconv - tc) / tc
-    side_c = np.where(tconv > tc, "above", "below")
+    ts = np.asarray(by_temperature["temperature_K"], dtype=np.float64)
+    conv = np.asarray(by_temperature["converged"], dtype=bool)
     for i in np.nonzero(flag == "measured")[0]:
-        a = abs(float(pred["t_reduced"][i]))
-        mine = at_c[side_c == pred["side"][i]]
-        if mine.size == 0 or not (mine.min() * (1 - 1e-3) <= a <= mine.max() * (1 + 1e-3)):
+        temp = float(pred["temperature_K"][i])
+        same = (ts > tc) == (temp > tc)
+        t_s, c_s = ts[same], conv[same]
+        exact = np.abs(t_s - temp) <= 1e-6 * abs(temp)
+        if exact.any():
+            ok = bool(c_s[exact].all())
+        else:
+            lo, hi = t_s < temp, t_s > temp
+            ok = bool(lo.any() and hi.any() and c_s[lo][np.argmax(t_s[lo])]
+                      and c_s[hi][np.argmin(t_s[hi])])
+        if not ok:
             flag[i] = other
     return flag.astype(str)
 

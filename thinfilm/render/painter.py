@@ -5,6 +5,7 @@ from collections.abc import Mapping
 
 import numpy as np
 
+from thinfilm.analysis.chirality import wall_label
 from thinfilm.input.errors import InputError
 from thinfilm.render.frames import (
     MIN_TEXT_PX,
@@ -181,7 +182,8 @@ class Painter:
             draw_colour_key(img, self.colour, quantity=self.quantity)
             th = max(MIN_TEXT_PX, img.shape[0] // 24)
             y = max(4, th // 2)  # room above the first line for its box and accents
-            for text in frame_text(fr):
+            walls = wall_label(s, self.periodic) if self.colour == "angle" else None
+            for text in [*frame_text(fr), *([walls] if walls else [])]:
                 _, h = draw_label(img, text, (max(2, th // 4), y), height_px=th)
                 y += h + 1
         if self.instrument is not None:

@@ -74,8 +74,15 @@ def plot_series(table, out_dir, name="image_series.png"):
 
 
 def write_image_series(rows, out_dir, **options):
-    """:func:`thinfilm.analysis.image_series.analyse_series` and its figure
+    """:func:`thinfilm.analysis.image_series.analyse_series` with each image's own figure
+    (``images/<stem>/image_analysis.png``, as ``thinfilm image``) and the series figure
     ``image_series.png``; returns its dict with ``figure`` (the PNG path) added."""
-    res = analyse_series(rows, out_dir, **options)
+    from .image_plot import plot_image_analysis
+
+    def figure(sub, res, arr):
+        plot_image_analysis(sub, arr["image"], arr["valid"], arr["labels"], arr["pixel_nm"],
+                            (arr["r_nm"], arr["C"]), arr["fit"], res)
+
+    res = analyse_series(rows, out_dir, per_image=figure, **options)
     res["figure"] = plot_series(res["table"], out_dir)
     return res

@@ -18,6 +18,8 @@ STRIPE_COLUMNS = {
     "time_ps": "ps", "temperature_K": "K", "stripe_period_nm": "nm", "mean_period_nm": "nm",
     "stripe_order": "1 (0 isotropic .. 1 parallel stripes)", "bubble_count": "1",
     "mean_abs_m_axis": "per spin", "m_inplane": "per spin",
+    "neel_index": "1 (+1 / -1 Neel walls turning clockwise / anticlockwise, 0 Bloch)",
+    "bloch_index": "1 (+-1 Bloch walls of one handedness, 0 Neel)",
 }
 
 PANELS = (

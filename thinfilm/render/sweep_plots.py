@@ -216,8 +216,9 @@ def _marks_caption(counts, undefined_why):
     """Caption sentences for the marks of :func:`_length_panel` that the figure holds."""
     out = []
     if counts["limited"]:
-        out.append("Open markers: finite-size limited (the film side is below 10 x the length "
-                   "and the next larger size disagrees or is missing): a length of that film, "
+        out.append("Open markers: finite-size limited (the film side is below 10 x the largest "
+                   "length estimate, and no next larger converged size agrees with it within 2 "
+                   "errors resolving 15 %): a length of that film, "
                    "cut down by its box, not of the infinite film; filled markers: converged in "
                    "the film size (observables.csv correlation_length_converged).")
     if counts["zero"]:

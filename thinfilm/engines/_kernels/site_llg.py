@@ -10,6 +10,11 @@ the standard normals are those of the uniform path (row r of step n: ``normals_r
 ``key(seed, 0, n)`` at counters r ceil(3 nx / 2) + p, component c of site j is number
 c nx + j), multiplied by sigma_ref = sqrt(2 alpha kB T/(gamma mu_ref dt)) and by
 scale_i = sqrt(mu_ref/mu_i). Vacancies (occ = 0) keep S = 0 and are never updated.
+The field is that of the packed film form (:mod:`.site_field`: exchange, DMI, anisotropy,
+uniform and per-site Zeeman) plus an optional added field hd (n, 3) (T; the dipolar field,
+evaluated by the driver at the start-of-step spins for the predictor and at the predictor for
+the corrector: :func:`site_predict_stage` / :func:`site_correct_stage`); hd with 0 rows
+means none.
 Pass 1 computes the predictor of every site, pass 2 the corrector; each pass is parallel over
 rows and every site's arithmetic is fixed, so results do not depend on the thread count.
 """
@@ -22,9 +27,11 @@ import numpy as np
 from thinfilm.engines._kernels.rng import key, normals_row
 from thinfilm.engines._kernels.site_field import site_field
 
-__all__ = ["site_heun_run", "site_heun_run_serial", "site_heun_work"]
+__all__ = ["site_heun_run", "site_heun_run_serial", "site_heun_work", "site_predict_stage",
+           "site_correct_stage"]
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
+_NONE = np.zeros((0, 3))  # no added field
 
 
 def site_heun_work(ny, nx):
@@ -45,8 +52,19 @@ def _rhs(sx, sy, sz, hx, hy, hz, gdt, alpha):
 
 
 @nb.njit(inline="always", **_OPT)
-def _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, by, bz, gdt,
-                 alpha, sp, d1, nz):
+def _field(s, q, nbr, jt, dm, kt, axis, bs, hd, bx, by, bz, row, j, nx):
+    """Field of site q (T): packed form + added field hd (if any) + noise row entry j."""
+    hx, hy, hz = site_field(s, q, nbr, jt, dm, kt, axis, bs, bx, by, bz)
+    if hd.shape[0] > 0:
+        hx += hd[q, 0]
+        hy += hd[q, 1]
+        hz += hd[q, 2]
+    return hx + row[j], hy + row[nx + j], hz + row[2 * nx + j]
+
+
+@nb.njit(inline="always", **_OPT)
+def _predict_row(i, s, nx, k, npair, sigma, nbr, jt, dm, kt, axis, bs, hd, occ, scale, bx, by,
+                 bz, gdt, alpha, sp, d1, nz):
     """Noise and predictor of row i (pass 1)."""
     row = nz[i]
     if sigma > 0.0:
@@ -64,10 +82,7 @@ def _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, b
         row[j] *= c
         row[nx + j] *= c
         row[2 * nx + j] *= c
-        hx, hy, hz = site_field(s, q, nbr, jt, kt, axis, bx, by, bz)
-        hx += row[j]
-        hy += row[nx + j]
-        hz += row[2 * nx + j]
+        hx, hy, hz = _field(s, q, nbr, jt, dm, kt, axis, bs, hd, bx, by, bz, row, j, nx)
         sx = s[q, 0]
         sy = s[q, 1]
         sz = s[q, 2]
@@ -85,17 +100,15 @@ def _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, b
 
 
 @nb.njit(inline="always", **_OPT)
-def _correct_row(i, s, nx, nbr, jt, kt, axis, occ, bx, by, bz, gdt, alpha, sp, d1, nz):
+def _correct_row(i, s, nx, nbr, jt, dm, kt, axis, bs, hd, occ, bx, by, bz, gdt, alpha, sp, d1,
+                 nz):
     """Corrector of row i (pass 2): s = normalised s + (d1 + d2)/2."""
     row = nz[i]
     for j in range(nx):
         q = i * nx + j
         if not occ[q]:
             continue
-        hx, hy, hz = site_field(sp, q, nbr, jt, kt, axis, bx, by, bz)
-        hx += row[j]
-        hy += row[nx + j]
-        hz += row[2 * nx + j]
+        hx, hy, hz = _field(sp, q, nbr, jt, dm, kt, axis, bs, hd, bx, by, bz, row, j, nx)
         dx, dy, dz = _rhs(sp[q, 0], sp[q, 1], sp[q, 2], hx, hy, hz, gdt, alpha)
         ox = s[q, 0] + 0.5 * (d1[q, 0] + dx)
         oy = s[q, 1] + 0.5 * (d1[q, 1] + dy)
@@ -107,15 +120,15 @@ def _correct_row(i, s, nx, nbr, jt, kt, axis, occ, bx, by, bz, gdt, alpha, sp, d
 
 
 @nb.njit(parallel=True, **_OPT)
-def site_heun_run(s, nx, n_steps, step0, seed, nbr, jt, kt, axis, occ, scale, b0, db, temp0,
-                  dtemp, sigma_coef, gdt, alpha, sp, d1, nz):
+def site_heun_run(s, nx, n_steps, step0, seed, nbr, jt, dm, kt, axis, bs, occ, scale, b0, db,
+                  temp0, dtemp, sigma_coef, gdt, alpha, sp, d1, nz):
     """Advance the flat spins s (n, 3) in place by n_steps Heun steps (rows in parallel).
 
     Parameters
     ----------
     nx : int, columns (rows ny = n / nx).
     step0 : int, global index of the first step (keys the noise).
-    nbr, jt, kt, axis, occ : per-site arrays (see :mod:`.site_field`); jt, kt in T.
+    nbr, jt, dm, kt, axis, bs, occ : packed film arrays (see :mod:`.site_field`), T.
     scale : (n,) sqrt(mu_ref / mu_i), 0 on vacancies.
     b0, db : field (T) at the first step and its change per step (T).
     temp0, dtemp : temperature (K) at the first step and its change per step (K).
@@ -132,15 +145,16 @@ def site_heun_run(s, nx, n_steps, step0, seed, nbr, jt, kt, axis, occ, scale, b0
         bz = b0[2] + db[2] * st
         k = key(seed, 0, step0 + st)
         for i in nb.prange(ny):
-            _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, by, bz,
-                         gdt, alpha, sp, d1, nz)
+            _predict_row(i, s, nx, k, npair, sigma, nbr, jt, dm, kt, axis, bs, _NONE, occ, scale,
+                         bx, by, bz, gdt, alpha, sp, d1, nz)
         for i in nb.prange(ny):
-            _correct_row(i, s, nx, nbr, jt, kt, axis, occ, bx, by, bz, gdt, alpha, sp, d1, nz)
+            _correct_row(i, s, nx, nbr, jt, dm, kt, axis, bs, _NONE, occ, bx, by, bz, gdt, alpha,
+                         sp, d1, nz)
 
 
 @nb.njit(**_OPT)
-def site_heun_run_serial(s, nx, n_steps, step0, seed, nbr, jt, kt, axis, occ, scale, b0, db,
-                         temp0, dtemp, sigma_coef, gdt, alpha, sp, d1, nz):
+def site_heun_run_serial(s, nx, n_steps, step0, seed, nbr, jt, dm, kt, axis, bs, occ, scale, b0,
+                         db, temp0, dtemp, sigma_coef, gdt, alpha, sp, d1, nz):
     """:func:`site_heun_run` on one thread (bitwise the same result; small lattices)."""
     ny = s.shape[0] // nx
     npair = (3 * nx + 1) // 2
@@ -151,7 +165,31 @@ def site_heun_run_serial(s, nx, n_steps, step0, seed, nbr, jt, kt, axis, occ, sc
         bz = b0[2] + db[2] * st
         k = key(seed, 0, step0 + st)
         for i in range(ny):
-            _predict_row(i, s, nx, k, npair, sigma, nbr, jt, kt, axis, occ, scale, bx, by, bz,
-                         gdt, alpha, sp, d1, nz)
+            _predict_row(i, s, nx, k, npair, sigma, nbr, jt, dm, kt, axis, bs, _NONE, occ, scale,
+                         bx, by, bz, gdt, alpha, sp, d1, nz)
         for i in range(ny):
-            _correct_row(i, s, nx, nbr, jt, kt, axis, occ, bx, by, bz, gdt, alpha, sp, d1, nz)
+            _correct_row(i, s, nx, nbr, jt, dm, kt, axis, bs, _NONE, occ, bx, by, bz, gdt, alpha,
+                         sp, d1, nz)
+
+
+@nb.njit(parallel=True, **_OPT)
+def site_predict_stage(s, nx, step, seed, nbr, jt, dm, kt, axis, bs, hd, occ, scale, bx, by, bz,
+                       sigma, gdt, alpha, sp, d1, nz):
+    """Predictor of one step (rows in parallel) with the added field hd (n, 3) (T) at s; the
+    noise of step ``step`` (std sigma at mu_ref) is kept in nz for the corrector."""
+    ny = s.shape[0] // nx
+    npair = (3 * nx + 1) // 2
+    k = key(seed, 0, step)
+    for i in nb.prange(ny):
+        _predict_row(i, s, nx, k, npair, sigma, nbr, jt, dm, kt, axis, bs, hd, occ, scale, bx,
+                     by, bz, gdt, alpha, sp, d1, nz)
+
+
+@nb.njit(parallel=True, **_OPT)
+def site_correct_stage(s, nx, nbr, jt, dm, kt, axis, bs, hd, occ, bx, by, bz, gdt, alpha, sp, d1,
+                       nz):
+    """Corrector of one step with the added field hd (n, 3) (T) at the predictor sp."""
+    ny = s.shape[0] // nx
+    for i in nb.prange(ny):
+        _correct_row(i, s, nx, nbr, jt, dm, kt, axis, bs, hd, occ, bx, by, bz, gdt, alpha, sp,
+                     d1, nz)

@@ -14,7 +14,8 @@ tested as log(1 - u) <= -beta_i dE_i with u uniform in [0, 1):
 3. n_or over-relaxation moves S' = 2 (S.f) f/abs(f)^2 - S about the exchange + Zeeman field f.
 
 The local energy of site i in units of mu_i T is e(S) = -f.S - (kt_i/2)(S.n_i)^2 with
-f = sum_k jt_ik S_k + B, and beta_i = mu_i/(kB T) = beta_ref rel_i.
+f = sum_k (jt_ik S_k + dm_ik x S_k) + B + bs_i (the packed film form of :mod:`.site_field`),
+and beta_i = mu_i/(kB T) = beta_ref rel_i.
 
 Random numbers: key(seed, stream, sweep); site q takes normals from counters 2q, 2q + 1 and the
 uniform of move slot u (0 Gaussian, 1 reflection, 2 + r over-relaxation r) from counter
@@ -28,9 +29,9 @@ import numba as nb
 from thinfilm.engines._kernels.metropolis_layout import row_colouring
 from thinfilm.engines._kernels.metropolis_moves import _de
 from thinfilm.engines._kernels.rng import key, normal_pair, uniform01
-from thinfilm.engines._kernels.site_field import site_exchange_field, site_totals
+from thinfilm.engines._kernels.site_field import site_pair_field, site_totals, site_zeeman
 
-__all__ = ["row_classes", "site_mc_run"]
+__all__ = ["row_classes", "site_mc_run", "gaussian_trial", "over_relaxed"]
 
 _OPT = dict(cache=True, error_model="numpy", boundscheck=False)
 
@@ -43,8 +44,33 @@ def _accept(k, counter, beta, de):
     return math.log(1.0 - uniform01(k, counter)) <= -beta * de
 
 
+@nb.njit(inline="always", **_OPT)
+def gaussian_trial(k, q, sx, sy, sz, sigma):
+    """The Gaussian trial direction (S + sigma g)/abs(S + sigma g) of site q (normals at
+    counters 2q, 2q + 1 of key k)."""
+    g0, g1 = normal_pair(k, 2 * q)
+    g2, _ = normal_pair(k, 2 * q + 1)
+    px = sx + sigma * g0
+    py = sy + sigma * g1
+    pz = sz + sigma * g2
+    inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
+    return px * inv, py * inv, pz * inv
+
+
+@nb.njit(inline="always", **_OPT)
+def over_relaxed(sx, sy, sz, fx, fy, fz, f2):
+    """S reflected about the field f (f2 = abs(f)^2 > 0): 2 (S.f) f/f2 - S, normalised."""
+    t = 2.0 * (sx * fx + sy * fy + sz * fz) / f2
+    px = t * fx - sx
+    py = t * fy - sy
+    pz = t * fz - sz
+    inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
+    return px * inv, py * inv, pz * inv
+
+
 @nb.njit(**_OPT)
-def _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, n_or, cnt):
+def _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, reflect, n_or,
+         cnt):
     """Visit the sites of row i left to right; accepted moves are added to cnt (3,)."""
     n = s.shape[0]
     for j in range(nx):
@@ -56,22 +82,15 @@ def _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, 
         ay = axis[q, 1]
         az = axis[q, 2]
         hk = 0.5 * kt[q]
-        fx, fy, fz = site_exchange_field(s, q, nbr, jt)
-        fx += b[0]
-        fy += b[1]
-        fz += b[2]
+        fx, fy, fz = site_pair_field(s, q, nbr, jt, dm)
+        zx, zy, zz = site_zeeman(q, bs, b[0], b[1], b[2])
+        fx += zx
+        fy += zy
+        fz += zz
         sx = s[q, 0]
         sy = s[q, 1]
         sz = s[q, 2]
-        g0, g1 = normal_pair(k, 2 * q)
-        g2, _ = normal_pair(k, 2 * q + 1)
-        px = sx + sigma * g0
-        py = sy + sigma * g1
-        pz = sz + sigma * g2
-        inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
-        px *= inv
-        py *= inv
-        pz *= inv
+        px, py, pz = gaussian_trial(k, q, sx, sy, sz, sigma)
         if _accept(k, 2 * n + q, beta, _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, hk)):
             sx, sy, sz = px, py, pz
             cnt[0] += 1
@@ -87,14 +106,7 @@ def _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, 
         for r in range(n_or):
             if f2 == 0.0:
                 break
-            t = 2.0 * (sx * fx + sy * fy + sz * fz) / f2
-            px = t * fx - sx
-            py = t * fy - sy
-            pz = t * fz - sz
-            inv = 1.0 / math.sqrt(px * px + py * py + pz * pz)
-            px *= inv
-            py *= inv
-            pz *= inv
+            px, py, pz = over_relaxed(sx, sy, sz, fx, fy, fz, f2)
             de = _de(sx, sy, sz, px, py, pz, fx, fy, fz, ax, ay, az, hk)
             if _accept(k, (4 + r) * n + q, beta, de):
                 sx, sy, sz = px, py, pz
@@ -105,27 +117,28 @@ def _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, 
 
 
 @nb.njit(parallel=True, **_OPT)
-def _sweep_parallel(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma,
-                    reflect, n_or, counts):
+def _sweep_parallel(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref,
+                    sigma, reflect, n_or, counts):
     for c in range(bounds.size - 1):
         for r in nb.prange(bounds[c], bounds[c + 1]):
             i = order[r]
-            _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, n_or,
-                 counts[i])
+            _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, reflect,
+                 n_or, counts[i])
 
 
 @nb.njit(**_OPT)
-def _sweep_serial(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma,
-                  reflect, n_or, counts):
+def _sweep_serial(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref,
+                  sigma, reflect, n_or, counts):
     for r in range(order.size):
         i = order[r]
-        _row(s, i, nx, k, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, reflect, n_or,
+        _row(s, i, nx, k, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma, reflect, n_or,
              counts[i])
 
 
 @nb.njit(**_OPT)
-def site_mc_run(s, nx, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, sigma, seed,
-                stream, sweep0, n_samples, sample_every, reflect, n_or, counts, out, parallel):
+def site_mc_run(s, nx, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b, beta_ref, sigma,
+                seed, stream, sweep0, n_samples, sample_every, reflect, n_or, counts, out,
+                parallel):
     """n_samples x (sample_every sweeps, then totals into out[m]) on the flat spins s (n, 3).
 
     out (n_samples, 4): sum of S (3) and the energy in units of mu_ref T (see
@@ -137,13 +150,13 @@ def site_mc_run(s, nx, order, bounds, nbr, jt, kt, axis, occ, rel, b, beta_ref, 
         for _ in range(sample_every):
             k = key(seed, stream, sweep)
             if parallel:
-                _sweep_parallel(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b,
+                _sweep_parallel(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b,
                                 beta_ref, sigma, reflect, n_or, counts)
             else:
-                _sweep_serial(s, nx, k, order, bounds, nbr, jt, kt, axis, occ, rel, b,
+                _sweep_serial(s, nx, k, order, bounds, nbr, jt, dm, kt, axis, bs, occ, rel, b,
                               beta_ref, sigma, reflect, n_or, counts)
             sweep += 1
-        mx, my, mz, ex, an, ze = site_totals(s, nbr, jt, kt, axis, occ, rel, b)
+        mx, my, mz, ex, an, ze = site_totals(s, nbr, jt, dm, kt, axis, occ, rel, b, bs)
         out[m, 0] = mx
         out[m, 1] = my
         out[m, 2] = mz
