@@ -19,9 +19,10 @@ the thread count). Each chunk draws its bonds and joins its internal ones in a u
 own sites; bonds to a neighbouring chunk (the neighbour table only links rows i and i +- 1) are
 kept as flags and joined afterwards, serially, along the chunk edges. Unions follow Rem's
 algorithm with splicing, in which every link points to a smaller index, so a cluster's root is
-its smallest site index whatever the order of the unions. Every random number is a function of (seed, stream, sweep, site, slot):
-bond (i, q) uses counter i z + q of one key, the flip of a cluster the counter of its label of
-another. Results are therefore bitwise the same on any number of threads.
+its smallest site index whatever the order of the unions. Every random number is a function
+of (seed, stream, sweep, site, slot): bond (i, q) uses counter i z + q of one key, the flip of
+a cluster the counter of its label of another. Results are therefore bitwise the same on any
+number of threads.
 
 Spins are read and written in the banded layout as in :mod:`.wolff` (flat view Tf, addresses
 addr and ghost addresses gaddr).
