@@ -20,6 +20,19 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     stochastic LLG run (:mod:`thinfilm.runs.time_resolved`). See :mod:`thinfilm.input.modes`.
     """
     sc = _scenario(source)
+    if resume and overwrite:
+        raise InputError("--resume and --overwrite (resume=True, overwrite=True) exclude each "
+                         "other: continue the run in the folder, or delete it and start afresh")
+    from thinfilm.runs.folder import refresh_file_list
+    from thinfilm.runs.lifecycle import hold
+
+    with hold(out_dir):  # one writer for the whole run, its figures and its movie
+        _run(sc, out_dir, resume, overwrite, workers, cluster, progress)
+        refresh_file_list(out_dir)
+    return Path(out_dir)
+
+
+def _run(sc, out_dir, resume, overwrite, workers, cluster, progress):
     if sc.is_sweep:
         from thinfilm.runs.sweep import run_sweep
 
@@ -53,7 +66,6 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
             write_movie(out_dir, Path(out_dir) / ("movie.gif" if sc.movie["gif"] else "movie.mp4"),
                         fps=sc.movie["fps"], colour=sc.movie["colour"], gif=sc.movie["gif"],
                         instrument=True if sc.movie["instrument"] and sc.instrument else None)
-    return Path(out_dir)
 
 
 def plot_run(run_dir):

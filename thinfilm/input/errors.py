@@ -5,6 +5,7 @@ __all__ = [
     "ScenarioError",
     "InputError",
     "StabilityError",
+    "OutputError",
     "ThinFilmWarning",
 ]
 
@@ -35,6 +36,10 @@ class ScenarioError(ThinFilmError, ValueError):
 
 class InputError(ThinFilmError, ValueError):
     """A command-line value, image or run folder is invalid."""
+
+
+class OutputError(ThinFilmError, OSError):
+    """A file or folder cannot be written (no permission, disk full, a file in the way)."""
 
 
 class StabilityError(ThinFilmError, RuntimeError):

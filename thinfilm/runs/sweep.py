@@ -25,7 +25,8 @@ from tqdm import tqdm
 
 from thinfilm._io import write_csv, write_json, write_npz
 from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
-from thinfilm.runs.folder import versions
+from thinfilm.runs.folder import RunFolder
+from thinfilm.runs.lifecycle import scenario_identity
 from thinfilm.runs.sweep_point import (
     ROW_COLUMNS,
     PointTask,
@@ -101,8 +102,8 @@ def _warm_kernels(sc):
     load them from numba's on-disk cache instead of each compiling them at the same time."""
     from dataclasses import replace
 
-    d = replace(sc.dynamics, sweeps_warmup=2, sweeps_samples=20, duration_s=20 * sc.dynamics.time_step_s,
-                warmup_s=0.0, sample_every=1)
+    d = replace(sc.dynamics, sweeps_warmup=2, sweeps_samples=20,
+                duration_s=20 * sc.dynamics.time_step_s, warmup_s=0.0, sample_every=1)
     tiny = sc.with_changes(dynamics=d, sweep=replace(sc.sweep, snapshots=2))
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -169,10 +170,11 @@ def _final_spins(out, name):
         return np.array(d["spins"], dtype=np.float64)
 
 
-def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
+def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None, on_point=None):
     """Run the chains; fill rows {(L, T): row}; at most ``window`` tasks in flight.
 
-    start_from: {chain index: (spins, label)} for chains that continue another state.
+    start_from: {chain index: (spins, label)} for chains that continue another state;
+    on_point: called after each point is written.
     """
     pending = {}
     ready = []  # (chain, point index, spins, start label) waiting for a slot
@@ -213,6 +215,8 @@ def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
             _write_point(out, res, name)
             rows[(L, t)] = _read_point(out, name)
             bar.update(1)
+            if on_point is not None:
+                on_point()
             if k + 1 < len(chains[ci]):
                 advance(ci, k + 1)
         fill()
@@ -233,25 +237,6 @@ def _refine_chains(sc, chains, extra):
             parents[len(new)] = point_name(L, before[-1])
         new.append([(L, t) for t in temps])
     return new, parents
-
-
-def _prepare(out, sc, resume, overwrite):
-    if out.exists() and not out.is_dir():
-        raise InputError(f"{out}: exists and is not a folder; choose another output folder with -o")
-    man = out / "manifest.json"
-    if man.exists() and not (resume or overwrite):
-        raise InputError(f"{out}: already holds a run (manifest.json). Use --resume to continue "
-                         f"it, --overwrite to replace it, or choose another folder with -o")
-    if resume and man.exists():
-        try:
-            old = json.loads(man.read_text())
-        except (OSError, ValueError):
-            old = {}
-        if old.get("scenario") not in (None, _jsonable(sc.describe())):
-            raise InputError(f"{out}: was written by a different scenario (manifest.json "
-                             f"'scenario' differs); resume it with the same scenario file, or "
-                             f"use --overwrite or another folder")
-    out.mkdir(parents=True, exist_ok=True)
 
 
 def _jsonable(obj):
@@ -290,28 +275,44 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
     sc = scenario
     _check(sc)
     out = Path(out_dir)
-    _prepare(out, sc, resume, overwrite)
-    started = time.time()
+    folder = RunFolder(out, resume=resume, overwrite=overwrite, kind="sweep",
+                       identity=scenario_identity(sc))
+    try:
+        _sweep(sc, out, folder, resume, workers, cluster, progress)
+    finally:
+        folder.close()
+    return out
+
+
+def _sweep(sc, out, folder, resume, workers, cluster, progress):
     chains = sweep_plan(sc)
     n_parallel = len(chains)
     manifest = {"kind": "sweep", "scenario": _jsonable(sc.describe()), "order": sc.sweep.order,
                 "method": sc.dynamics.method, "sizes": sorted({c[0][0] for c in chains}),
                 "temperatures_K": list(sc.sweep.temperatures_K), "refine": sc.sweep.refine,
                 "snapshots_per_point": sc.sweep.snapshots, "seed": sc.seed,
-                "instrument": sc.instrument, "finished": False}
+                "instrument": sc.instrument}
     executor, how, close = _executor(n_parallel, workers, cluster)
     if how["kind"] == "processes":
         _warm_kernels(sc)
     manifest["executor"] = how
     window = how.pop("window")
-    _write_manifest(out, manifest, started, [])
+    folder.write_manifest(manifest)
+    last = [time.time()]
+
+    def saved():
+        """After each finished point: the manifest's wall time and file list (at most 1/s)."""
+        if time.time() - last[0] > 1.0:
+            folder.write_manifest(manifest)
+            last[0] = time.time()
+
     rows = {}
     if not resume:
         _clear_marks(out, chains)
     bar = tqdm(total=sum(map(len, chains)), unit="point", desc="sweep",
                disable=(not progress) or None, leave=False)
     try:
-        _run_chains(sc, out, chains, rows, executor, bar, window)
+        _run_chains(sc, out, chains, rows, executor, bar, window, on_point=saved)
         extra = []
         if sc.sweep.refine == "near-tc":
             extra = refine_temperatures(rows, sc.sweep.temperatures_K)
@@ -324,12 +325,11 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
                 bar.refresh()
                 start = {ci: (_final_spins(out, p), f"points/{p}/final.npz")
                          for ci, p in parents.items()}
-                _run_chains(sc, out, rchains, rows, executor, bar, window, start)
+                _run_chains(sc, out, rchains, rows, executor, bar, window, start, on_point=saved)
     finally:
         bar.close()
         close()
-    _finish(out, sc, manifest, rows, started)
-    return out
+    _finish(out, folder, manifest, rows)
 
 
 def _clear_marks(out, chains):
@@ -341,15 +341,7 @@ def _clear_marks(out, chains):
                 p.unlink()
 
 
-def _write_manifest(out, manifest, started, files):
-    m = dict(manifest)
-    m["versions"] = versions()
-    m["wall_time_s"] = round(time.time() - started, 3)
-    m["files"] = sorted(set(files) | {"manifest.json"})
-    write_json(out / "manifest.json", m)
-
-
-def _finish(out, sc, manifest, rows, started):
+def _finish(out, folder, manifest, rows):
     keys = sorted(rows)
     table = [[rows[k][c] for c in ROW_COLUMNS] for k in keys]
     write_csv(out / "observables.csv", ROW_COLUMNS, table)
@@ -359,16 +351,11 @@ def _finish(out, sc, manifest, rows, started):
         tc = tc_estimate(rows)
     tc["warnings"] = sorted({str(w.message) for w in caught})
     write_json(out / "tc.json", tc)
-    points = [f"points/{point_name(*k)}/{f}" for k in keys
-              for f in ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv",
-                        "point.json")]
     manifest["points"] = [point_name(*k) for k in keys]
-    manifest["finished"] = True
     manifest["tc_K"] = tc.get("tc_K")
     low = sorted(point_name(*k) for k in keys if rows[k]["n_effective"] < 50)
     manifest["points_with_few_samples"] = low
-    _write_manifest(out, manifest, started,
-                    ["observables.csv", "columns.json", "tc.json", *points])
+    folder.write_manifest(manifest, finished=True)
     if low:
         warnings.warn(f"{len(low)} of {len(keys)} sweep points have fewer than 50 effectively "
                       f"independent samples (e.g. {low[0]}); their error bars are unreliable: "
