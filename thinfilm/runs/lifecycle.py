@@ -249,9 +249,22 @@ def differences(old, new):
     return [(k, a.get(k), b.get(k)) for k in sorted(set(a) | set(b)) if a.get(k) != b.get(k)]
 
 
-def _show(v):
+def _show(v, digits=6):
+    if isinstance(v, float):
+        return f"{v:.{digits}g}"
+    if isinstance(v, list) and all(isinstance(x, float) for x in v):
+        return "[" + ", ".join(f"{x:.{digits}g}" for x in v) + "]"
     s = json.dumps(v) if not isinstance(v, str) else v
     return s if len(s) <= 40 else s[:37] + "..."
+
+
+def _pair(a, b):
+    """The two values as text, with enough digits to tell them apart."""
+    for digits in (6, 12, 17):
+        x, y = _show(a, digits), _show(b, digits)
+        if x != y:
+            return x, y
+    return x, y
 
 
 def check_identity(folder, stored, current, *, doing="resume", overwrite_flag="--overwrite"):
@@ -259,7 +272,8 @@ def check_identity(folder, stored, current, *, doing="resume", overwrite_flag="-
     diff = differences(stored, current)
     if not diff:
         return
-    shown = "; ".join(f"{k}: {_show(a)} in the folder, {_show(b)} now" for k, a, b in diff[:6])
+    shown = "; ".join("{}: {} in the folder, {} now".format(k, *_pair(a, b))
+                      for k, a, b in diff[:6])
     more = f" (and {len(diff) - 6} more)" if len(diff) > 6 else ""
     raise InputError(
         f"{folder}: cannot {doing} it with this scenario: the folder holds a run of a different "
