@@ -79,10 +79,13 @@ def plot_run(run_dir):
                          f"'thinfilm run' or 'thinfilm demo'")
     kind = json.loads(man.read_text()).get("kind")
     from thinfilm.render import plots
+    from thinfilm.runs.folder import refresh_file_list
+    from thinfilm.runs.lifecycle import hold
 
-    if kind == "sweep":
-        return plots.plot_sweep(run_dir)
-    return plots.plot_timeseries(run_dir)
+    with hold(run_dir):  # not while a run writes the folder; the manifest lists the figures
+        paths = plots.plot_sweep(run_dir) if kind == "sweep" else plots.plot_timeseries(run_dir)
+        refresh_file_list(run_dir)
+    return paths
 
 
 def plan(source, out_dir, **options):

@@ -124,8 +124,20 @@ def _cmd_movie(args):
             raise InputError(f"--fwhm/--pixel: {exc}") from None
         instrument = {"fwhm_nm": fwhm, "pixel_nm": pix, "noise": args.noise}
     out = args.output or str(Path(args.run_dir) / ("movie.gif" if args.gif else "movie.mp4"))
-    info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour, instrument=instrument,
-                       gif=args.gif)
+    run_dir = Path(args.run_dir)
+    inside = (run_dir / "manifest.json").is_file() and \
+        Path(out).resolve().is_relative_to(run_dir.resolve())
+    if inside:  # a movie written into a run folder: not while a run writes it, and listed
+        from thinfilm.runs.folder import refresh_file_list
+        from thinfilm.runs.lifecycle import hold
+
+        with hold(run_dir):
+            info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour,
+                               instrument=instrument, gif=args.gif)
+            refresh_file_list(run_dir)
+    else:
+        info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour,
+                           instrument=instrument, gif=args.gif)
     print(f"movie: {info.path} ({info.n_frames} frames, {info.width} x {info.height} px, {info.fps} fps)")
     return 0
 

@@ -127,6 +127,7 @@ class RunFolder:
             self.close()
             raise
         self.resumed = old is not None
+        self.earlier = old  # the manifest of the run that is continued, or None
         self.earlier_wall_s = float((old or {}).get("wall_time_s") or 0.0)
         self.processes = int((old or {}).get("processes") or (1 if old else 0)) + 1
 

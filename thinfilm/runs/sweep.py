@@ -145,14 +145,19 @@ def _executor(n_tasks, workers, cluster):
 
 
 def _write_point(out, res, name):
-    """Write a point folder; ``point.json`` last (the 'finished' mark)."""
+    """Write a point folder; ``point.json`` last (the 'finished' mark). Returns the point's
+    compute time (s), which goes to the manifest: the point's files hold results only, so an
+    interrupted and resumed sweep writes them byte for byte as an uninterrupted one."""
     d = out / "points" / name
+    details = dict(res["details"])
+    seconds = details.pop("compute_time_s", None)
     write_npz(d / "final.npz", **res["final"])
     write_csv(d / "timeseries.csv", *res["timeseries"])
     write_csv(d / "correlation.csv", ("r_nm", "C", "C_err"), res["correlation"])
     write_csv(d / "domain_sizes.csv", ("snapshot", "area_nm2", "diameter_nm", "sign"),
               res["domains"])
-    write_json(d / "point.json", {"row": res["row"], "details": res["details"]})
+    write_json(d / "point.json", {"row": res["row"], "details": details})
+    return seconds
 
 
 def _read_point(out, name):
@@ -212,11 +217,11 @@ def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None, o
             res = fut.result()
             L, t = chains[ci][k]
             name = point_name(L, t)
-            _write_point(out, res, name)
+            seconds = _write_point(out, res, name)
             rows[(L, t)] = _read_point(out, name)
             bar.update(1)
             if on_point is not None:
-                on_point()
+                on_point(name, seconds)
             if k + 1 < len(chains[ci]):
                 advance(ci, k + 1)
         fill()
@@ -297,11 +302,15 @@ def _sweep(sc, out, folder, resume, workers, cluster, progress):
         _warm_kernels(sc)
     manifest["executor"] = how
     window = how.pop("window")
+    manifest["point_compute_time_s"] = dict((folder.earlier or {}).get("point_compute_time_s")
+                                            or {})
     folder.write_manifest(manifest)
     last = [time.time()]
 
-    def saved():
-        """After each finished point: the manifest's wall time and file list (at most 1/s)."""
+    def saved(name, seconds):
+        """After each finished point: its compute time, the manifest's wall time and file list
+        (written at most once a second)."""
+        manifest["point_compute_time_s"][name] = seconds
         if time.time() - last[0] > 1.0:
             folder.write_manifest(manifest)
             last[0] = time.time()
