@@ -94,6 +94,7 @@ def _campaign(kind, tmp_path, kills):
         assert_same_folder(ref, out, ignore_keys=("sweep",), normalise=_provenance)
     else:
         assert_same_folder(ref, out)
+    return hits
 
 
 def _provenance(text, folder):

@@ -160,6 +160,7 @@ class hold:  # noqa: N801 - used as a context manager, reads as a verb
     """
 
     def __init__(self, folder):
+        self.created = not Path(folder).exists()
         self.folder = _mkdir(folder)
         self.key = os.path.realpath(self.folder)
         self.lock = None
@@ -195,6 +196,11 @@ class hold:  # noqa: N801 - used as a context manager, reads as a verb
                 del _held[self.key]
         if last:
             entry[0].release()
+            if self.created:  # a run refused before it wrote anything leaves no empty folder
+                try:
+                    self.folder.rmdir()
+                except OSError:
+                    pass
         self.lock = None
 
 
