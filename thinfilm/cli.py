@@ -273,8 +273,9 @@ def main(argv=None):
         print(f"thinfilm: error: {os_error(exc, doing='use it')}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
-        print("thinfilm: interrupted; finished parts are saved. Continue with the same command and --resume.",
-              file=sys.stderr)
+        flag = "--reuse" if getattr(args, "command", "") == "plan" else "--resume"
+        print(f"thinfilm: interrupted; finished parts are saved. Continue with the same command "
+              f"and {flag}.", file=sys.stderr)
         return 130
     if getattr(args, "command", "") in ("run", "demo", "plan"):
         print(f"wall time {time.time() - t:.1f} s")
