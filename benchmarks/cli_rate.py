@@ -74,7 +74,7 @@ def cli_rate(n=256, threads=2, repeats=5):
         cmd = [sys.executable, "-m", "thinfilm", "--threads", str(threads), "run", "--quiet"]
         subprocess.run(cmd + [str(files[1]), "-o", f"{tmp}/warm", "--overwrite"], env=env,
                        check=True, capture_output=True)
-        for r in range(repeats):
+        for _ in range(repeats):
             wall = {}
             for ps in (1, 4):
                 t = time.perf_counter()

@@ -14,8 +14,12 @@ __all__ = ["main"]
 
 def _print_check(sc):
     from thinfilm.engines.stochastic_llg import stable_time_step
-    from thinfilm.input.derived import (dipolar_shape_cost_J, exchange_length_nm, mean_field_tc_K,
-                                        wall_parameter_nm)
+    from thinfilm.input.derived import (
+        dipolar_shape_cost_J,
+        exchange_length_nm,
+        mean_field_tc_K,
+        wall_parameter_nm,
+    )
     from thinfilm.input.units import KB_J_PER_K, MEV_J
     from thinfilm.model.parameters import build_model
 

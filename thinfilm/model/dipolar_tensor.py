@@ -44,8 +44,8 @@ from scipy import fft as sfft
 from scipy import special
 
 from thinfilm.model import prism_tensor as prism
-from thinfilm.model.prism_periodic import periodic_correction
 from thinfilm.model.lattice import Lattice
+from thinfilm.model.prism_periodic import periodic_correction
 
 __all__ = ["SublatticeGrid", "sublattice_grid", "hessian", "tensor_spectrum", "EWALD_X",
            "isotropic_self_term", "check_prism_lattice"]
