@@ -250,9 +250,23 @@ def test_6_path_spelling_and_instrument_do_not_change_the_identity(tmp_path, mon
         (ref / "observables.csv").read_bytes()
 
 
-def test_6_the_plan_accepts_overwrite():
+def test_6_the_plan_accepts_overwrite(tmp_path):
+    from thinfilm.api import plan
+
     args = build_parser().parse_args(["plan", "x.yaml", "-o", "out", "--overwrite"])
     assert args.overwrite is True
+    out = tmp_path / "out"
+    run_dynamics(load_scenario(_edit(DYNAMICS, ("dynamics", "duration"), "0.5 ps")), out,
+                 progress=False)
+    sc = load_scenario(_edit(SWEEP, ("temperature",), ["1.5 K", "2 K", "2.5 K", "3 K", "3.5 K"]))
+    opts = dict(resolution="1 nm", exposure="1 ms", progress=False, llg_size=6,
+                llg_duration="2 ps", n_boot=20, workers=1)
+    with pytest.raises(InputError, match="--overwrite"):
+        plan(sc, out, **opts)
+    res = plan(sc, out, overwrite=True, **opts)
+    assert res["plan"]["sweep"] == "ran"
+    assert not (out / "snapshots").exists() and not (out / "timeseries.csv").exists()
+    assert json.loads((out / "manifest.json").read_text())["kind"] == "sweep"
 
 
 # --- 7. nothing finished is recomputed; checkpoints are frequent --------------------------------
