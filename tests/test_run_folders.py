@@ -364,7 +364,9 @@ def test_8_the_recorded_plan_command_reproduces_the_plan(tmp_path):
     res = make_plan(sc, tmp_path, resolution="2 nm", exposure="10 ms", reuse=True,
                     progress=False, llg_duration="3 ps", n_points=7, dwell="10 min",
                     llg_size=8, n_boot=50)
-    argv = shlex.split(res["plan"]["command"])[1:]
+    assert res["plan"]["command"].endswith("# made in Python with llg_size=8, n_boot=50 "
+                                           "(make_plan keywords), which this command does not set")
+    argv = shlex.split(res["plan"]["command"], comments=True)[1:]
     args = build_parser().parse_args(argv)
     assert args.points == 7 and args.reuse
     assert parse_quantity(args.llg_duration, "time") == pytest.approx(3e-12, rel=1e-12)

@@ -415,6 +415,14 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
     plan["timescale_note"] = plan_report.timescale_note(plan)
     plan["options"] = {"n_points": n_points, "dwell_s": dwell_s, "llg_duration_s": llg_s}
     plan["command"] = plan_report.command(plan, out)
+    api_only = {k: v for k, v, default in (("llg_size", llg_size, 16), ("n_boot", n_boot, 400),
+                                           ("seed", seed, 0), ("llg_temperatures",
+                                                               llg_temperatures, None))
+                if v != default}
+    if api_only:  # options the command line cannot set: say so next to the command
+        plan["command"] += ("  # made in Python with " + ", ".join(
+            f"{k}={v!r}" for k, v in api_only.items()) + " (make_plan keywords), which this "
+            "command does not set")
     figures = plan_report.figures(plan, out)
     plan["figures"] = [p.name for p in figures]
     plan_json = write_json(out / f"{plan['file_stem']}.json", plan)
