@@ -221,6 +221,18 @@ def test_5_stray_temporary_files_are_removed_at_the_next_start(tmp_path, monkeyp
     assert not any(".tmp" in f for f in man["files"])
 
 
+def test_5_temporary_files_of_a_run_folder_inside_are_left_to_that_run(tmp_path):
+    from thinfilm.runs.lifecycle import remove_stray_temps
+
+    sub = tmp_path / "step"
+    sub.mkdir()
+    (sub / LOCK_NAME).write_text("{}")  # another run writes (or wrote) this subfolder
+    (sub / ".timeseries.csv.k2j4h5g6.tmp").write_text("")
+    (tmp_path / ".tc.json.a1b2c3d4.tmp").write_text("")
+    assert remove_stray_temps(tmp_path) == 1
+    assert [p.name for p in temp_files(tmp_path)] == [".timeseries.csv.k2j4h5g6.tmp"]
+
+
 # --- 6. a resume does not depend on the path spelling or the instrument -----------------------
 
 def test_6_path_spelling_and_instrument_do_not_change_the_identity(tmp_path, monkeypatch):

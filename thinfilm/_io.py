@@ -76,7 +76,10 @@ def atomic_write_bytes(path, data):
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
-            os.fchmod(fh.fileno(), file_mode())
+            try:
+                os.fchmod(fh.fileno(), file_mode())
+            except OSError:  # a file system without Unix permissions keeps its own
+                pass
             os.fsync(fh.fileno())
         os.replace(tmp, path)
     except BaseException as exc:

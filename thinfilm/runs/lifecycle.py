@@ -315,9 +315,13 @@ def stored_identity(manifest):
 # --- stray files and emptying ------------------------------------------------------------------
 
 def remove_stray_temps(folder):
-    """Remove temporary files of interrupted writes under ``folder``; returns how many."""
+    """Remove temporary files of interrupted writes under ``folder``; returns how many.
+
+    A subfolder that is a run folder of its own (it holds a lock file: a run is writing it, or
+    one was killed there) is left to that run, which cleans it when it starts."""
     n = 0
-    for root, _dirs, files in os.walk(folder):
+    for root, dirs, files in os.walk(folder):
+        dirs[:] = [d for d in dirs if not os.path.exists(os.path.join(root, d, LOCK_NAME))]
         for f in files:
             if is_temp_name(f):
                 try:
