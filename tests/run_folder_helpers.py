@@ -65,6 +65,7 @@ def env():
     root = str(Path(__file__).resolve().parents[1])
     e["PYTHONPATH"] = root + os.pathsep + e.get("PYTHONPATH", "")
     e.setdefault("MPLBACKEND", "Agg")
+    e["THINFILM_POINT_CHECKPOINT_S"] = "0"  # Monte Carlo points save their state at every chunk
     return e
 
 

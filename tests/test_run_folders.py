@@ -327,6 +327,40 @@ def test_7_the_plans_fluctuation_runs_are_saved_one_by_one(tmp_path, monkeypatch
     assert res["plan"]["llg"]["runs"][:2] == saved
 
 
+def test_7_a_monte_carlo_point_continues_from_its_saved_state(tmp_path, monkeypatch):
+    import thinfilm.runs.sweep_point as sp
+    from thinfilm.engines.montecarlo import MonteCarlo
+
+    data = _edit(SWEEP, ("sweep", "snapshots"), 6) | {"sizes": [8], "temperature": ["2.5 K"]}
+    sc = load_scenario(data)
+    ref = run_sweep(sc, tmp_path / "ref", workers=1, progress=False)
+    monkeypatch.setenv("THINFILM_POINT_CHECKPOINT_S", "0")
+    real_save, saves = sp._save_partial, []
+
+    def save_then_kill(*a, **k):
+        real_save(*a, **k)
+        saves.append(a[4])
+        if len(saves) == 3:
+            raise KeyboardInterrupt  # killed after the third of six chunks was saved
+
+    monkeypatch.setattr(sp, "_save_partial", save_then_kill)
+    with pytest.raises(KeyboardInterrupt):
+        run_sweep(sc, tmp_path / "cut", workers=1, progress=False)
+    point = tmp_path / "cut" / "points" / "L8_T2.500K"
+    assert (point / "partial.npz").is_file() and not (point / "point.json").exists()
+    monkeypatch.setattr(sp, "_save_partial", real_save)
+    warmups = []
+    real_warmup = MonteCarlo.warmup
+    monkeypatch.setattr(MonteCarlo, "warmup",
+                        lambda self, n, **k: (warmups.append(n), real_warmup(self, n, **k))[1])
+    run_sweep(sc, tmp_path / "cut", resume=True, workers=1, progress=False)
+    assert 40 not in warmups  # the warm-up was not repeated: sampling went on from chunk 4
+    assert not (point / "partial.npz").exists()
+    for name in ("observables.csv", "points/L8_T2.500K/point.json",
+                 "points/L8_T2.500K/timeseries.csv", "points/L8_T2.500K/final.npz"):
+        assert (tmp_path / "cut" / name).read_bytes() == (ref / name).read_bytes(), name
+
+
 def test_7_a_time_resolved_run_checkpoints_at_least_every_2_percent(tmp_path, monkeypatch):
     steps = []
     real = RunFolder.write_checkpoint

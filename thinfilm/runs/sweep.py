@@ -40,6 +40,7 @@ from thinfilm.runs.sweep_tables import COLUMN_UNITS, refine_temperatures, tc_est
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
 CONNECT_TIMEOUT_S = 20  # seconds to wait for a Dask scheduler
+PARTIAL = "partial.npz"  # state of an unfinished Monte Carlo point (removed when it finishes)
 
 
 def available_cores():
@@ -157,6 +158,7 @@ def _write_point(out, res, name):
     write_csv(d / "domain_sizes.csv", ("snapshot", "area_nm2", "diameter_nm", "sign"),
               res["domains"])
     write_json(d / "point.json", {"row": res["row"], "details": details})
+    (d / PARTIAL).unlink(missing_ok=True)  # the point is finished
     return seconds
 
 
@@ -175,11 +177,13 @@ def _final_spins(out, name):
         return np.array(d["spins"], dtype=np.float64)
 
 
-def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None, on_point=None):
+def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None, on_point=None,
+                local=True):
     """Run the chains; fill rows {(L, T): row}; at most ``window`` tasks in flight.
 
     start_from: {chain index: (spins, label)} for chains that continue another state;
-    on_point: called after each point is written.
+    on_point: called after each point is written; local: the workers share this file system
+    (they keep the state of an unfinished Monte Carlo point in ``points/<name>/partial.npz``).
     """
     pending = {}
     ready = []  # (chain, point index, spins, start label) waiting for a slot
@@ -204,7 +208,9 @@ def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None, o
         while ready and len(pending) < window:
             ci, k, spins, start = ready.pop(0)
             L, t = chains[ci][k]
-            task = PointTask(sc, L, t, point_seed(sc.seed, L, t), spins, start)
+            partial = (str((out / "points" / point_name(L, t) / PARTIAL).resolve())
+                       if local else None)
+            task = PointTask(sc, L, t, point_seed(sc.seed, L, t), spins, start, partial)
             pending[executor.submit(compute_point, task)] = (ci, k)
 
     for ci in range(len(chains)):
@@ -321,7 +327,8 @@ def _sweep(sc, out, folder, resume, workers, cluster, progress):
     bar = tqdm(total=sum(map(len, chains)), unit="point", desc="sweep",
                disable=(not progress) or None, leave=False)
     try:
-        _run_chains(sc, out, chains, rows, executor, bar, window, on_point=saved)
+        local = how["kind"] != "dask"
+        _run_chains(sc, out, chains, rows, executor, bar, window, on_point=saved, local=local)
         extra = []
         if sc.sweep.refine == "near-tc":
             extra = refine_temperatures(rows, sc.sweep.temperatures_K)
@@ -334,7 +341,8 @@ def _sweep(sc, out, folder, resume, workers, cluster, progress):
                 bar.refresh()
                 start = {ci: (_final_spins(out, p), f"points/{p}/final.npz")
                          for ci, p in parents.items()}
-                _run_chains(sc, out, rchains, rows, executor, bar, window, start, on_point=saved)
+                _run_chains(sc, out, rchains, rows, executor, bar, window, start, on_point=saved,
+                            local=local)
     finally:
         bar.close()
         close()
@@ -342,12 +350,12 @@ def _sweep(sc, out, folder, resume, workers, cluster, progress):
 
 
 def _clear_marks(out, chains):
-    """Without resume every point is recomputed: drop stale 'finished' marks first."""
+    """Without resume every point is recomputed: drop stale 'finished' marks and states of
+    unfinished points first."""
     for chain in chains:
         for L, t in chain:
-            p = out / "points" / point_name(L, t) / "point.json"
-            if p.exists():
-                p.unlink()
+            for name in ("point.json", PARTIAL):
+                (out / "points" / point_name(L, t) / name).unlink(missing_ok=True)
 
 
 def _finish(out, folder, manifest, rows):

@@ -76,6 +76,10 @@ class PointTask:
         Starting spins (heating/cooling chains); None starts from ``scenario.initial``.
     start : str
         Where the spins came from (for ``point.json``).
+    checkpoint : str or None
+        File for the state of an unfinished Monte Carlo point (written by the worker at most
+        every :data:`POINT_CHECKPOINT_S`, read back when the point is computed again after a
+        kill); None (e.g. on a remote cluster) keeps no such state.
     """
 
     scenario: object
@@ -84,6 +88,57 @@ class PointTask:
     seed: int
     spins: object = None
     start: str = "initial"
+    checkpoint: object = None
+
+
+#: wall-clock seconds between the checkpoints of an unfinished Monte Carlo point
+#: (THINFILM_POINT_CHECKPOINT_S overrides it)
+POINT_CHECKPOINT_S = 10.0
+
+
+def _checkpoint_every_s():
+    import os
+
+    try:
+        return float(os.environ.get("THINFILM_POINT_CHECKPOINT_S", POINT_CHECKPOINT_S))
+    except ValueError:
+        return POINT_CHECKPOINT_S
+
+
+def _load_partial(task, n_samples, n_chunks):
+    """The saved state of this point's Monte Carlo sampling, or None."""
+    if not task.checkpoint:
+        return None
+    try:
+        with np.load(task.checkpoint, allow_pickle=False) as z:
+            ck = {k: z[k] for k in z.files}
+    except (OSError, ValueError):
+        return None
+    try:
+        key = (int(ck["seed"]), int(ck["size"]), float(ck["temperature_K"]), int(ck["n_samples"]),
+               int(ck["n_chunks"]))
+    except KeyError:
+        return None
+    if key != (int(task.seed), int(task.size), float(task.temperature_K), n_samples, n_chunks) \
+            or not 0 < int(ck["done"]) < n_chunks:
+        return None
+    return ck
+
+
+def _save_partial(task, mc, n_samples, n_chunks, done, parts, acc, snaps):
+    from thinfilm._io import write_npz
+
+    st = mc.state
+    write_npz(task.checkpoint, compress=False,
+              seed=np.int64(task.seed), size=np.int64(task.size),
+              temperature_K=np.float64(task.temperature_K), n_samples=np.int64(n_samples),
+              n_chunks=np.int64(n_chunks),
+              spins=st["spins"], sweep=st["sweep"], sigma=st["sigma"],
+              clusters_per_sweep=st.get("clusters_per_sweep", -1), done=done,
+              energy_J=np.concatenate([p["energy_J"] for p in parts]),
+              m_vector=np.concatenate([p["m_vector"] for p in parts]),
+              sweeps=np.concatenate([p["sweep"] for p in parts]),
+              acceptance=np.asarray(acc, dtype=np.float64), snaps=np.asarray(snaps))
 
 
 def point_seed(seed, size, temperature_K):
@@ -144,13 +199,33 @@ def _sample_mc(task, model, spins):
                                            "cluster_direction": d.cluster_direction}
     mc = make_monte_carlo(model, task.temperature_K, params, seed=task.seed, initial_spins=spins,
                           **extra)
-    mc.warmup(int(d.sweeps_warmup))
+    chunks = _split(n_samples, task.scenario.sweep.snapshots)
     parts, snaps, acc = [], [], []
-    for n in _split(n_samples, task.scenario.sweep.snapshots):
+    ck = _load_partial(task, n_samples, len(chunks))
+    if ck is None:
+        mc.warmup(int(d.sweeps_warmup))
+        first = 0
+    else:  # continue a point a kill interrupted: its state after ck["done"] chunks
+        state = {"spins": ck["spins"], "sweep": int(ck["sweep"]), "sigma": float(ck["sigma"])}
+        if int(ck["clusters_per_sweep"]) >= 0:
+            state["clusters_per_sweep"] = int(ck["clusters_per_sweep"])
+        mc.state = state
+        first = int(ck["done"])
+        parts.append({"energy_J": ck["energy_J"], "m_vector": ck["m_vector"],
+                      "sweep": ck["sweeps"]})
+        acc.extend(float(a) for a in ck["acceptance"])
+        snaps.extend(np.array(x) for x in ck["snaps"])
+    every_s, last = _checkpoint_every_s(), time.time()
+    for i, n in enumerate(chunks):
+        if i < first:
+            continue
         r = mc.run(0, n, every, tune=False)
         parts.append(r)
         acc.append(r["acceptance"]["gaussian"])
         snaps.append(mc.spins @ model.axis)  # S.n only: 8 bytes per site and snapshot
+        if task.checkpoint and i + 1 < len(chunks) and time.time() - last >= every_s:
+            _save_partial(task, mc, n_samples, len(chunks), i + 1, parts, acc, snaps)
+            last = time.time()
     series = {
         "energy_J": np.concatenate([p["energy_J"] for p in parts]),
         "m_vector": np.concatenate([p["m_vector"] for p in parts]),
