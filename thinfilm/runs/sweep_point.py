@@ -201,6 +201,7 @@ def _sample_mc(task, model, spins):
                           **extra)
     chunks = _split(n_samples, task.scenario.sweep.snapshots)
     parts, snaps, acc = [], [], []
+    every_s, last = _checkpoint_every_s(), time.time()
     ck = _load_partial(task, n_samples, len(chunks))
     if ck is None:
         mc.warmup(int(d.sweeps_warmup))
@@ -215,7 +216,6 @@ def _sample_mc(task, model, spins):
                       "sweep": ck["sweeps"]})
         acc.extend(float(a) for a in ck["acceptance"])
         snaps.extend(np.array(x) for x in ck["snaps"])
-    every_s, last = _checkpoint_every_s(), time.time()
     for i, n in enumerate(chunks):
         if i < first:
             continue
