@@ -84,4 +84,5 @@ def test_a_run_with_vacancies_keeps_them_empty(tmp_path):
     norms = np.linalg.norm(s, axis=-1)
     empty = norms == 0
     assert 0 < empty.sum() < s.shape[0] * s.shape[1]  # some sites are vacancies
-    np.testing.assert_allclose(norms[~empty], 1.0, atol=1e-12)  # unit spins elsewhere
+    # unit spins elsewhere, to float32 rounding (snapshots keep 24-bit mantissas: 6e-8 each)
+    np.testing.assert_allclose(norms[~empty], 1.0, atol=1e-6)

@@ -1,6 +1,7 @@
 """Tests of rasterising, the instrument view and the image loader / analyser."""
 
 import json
+import warnings
 
 import imageio.v3 as iio
 import numpy as np
@@ -10,7 +11,7 @@ import tifffile
 from thinfilm.analysis.correlation import second_moment_length, structure_factor
 from thinfilm.analysis.imaging import analyse_image, load_image
 from thinfilm.analysis.instrument import FWHM_PER_SIGMA, instrument_view, rasterise
-from thinfilm.input.errors import InputError
+from thinfilm.input.errors import InputError, ThinFilmWarning
 from thinfilm.model.lattice import Lattice
 
 
@@ -147,7 +148,9 @@ def test_load_image_normalises_and_masks(tmp_path):
     assert pixel_nm == pytest.approx(20.0)
     assert valid.sum() == img.size - 100 and np.all(out[:10, :10] == 0)
     assert np.max(np.abs(out[valid])) == pytest.approx(1.0)
-    assert np.median(out[valid]) == pytest.approx(0.0, abs=1e-12)
+    med, _, _ = load_image(p, pixel_size="20 nm", mask=m, background="plane",
+                           threshold="median")
+    assert np.median(med[valid]) == pytest.approx(0.0, abs=1e-12)
     rgb = write_png(tmp_path / "g.png", np.stack([img] * 3, -1))
     out2, _, _ = load_image(rgb, pixel_size="20 nm", mask=m, background="plane")
     np.testing.assert_allclose(out2, out)
@@ -246,3 +249,79 @@ def test_bad_images_raise_input_error(tmp_path, make, kwargs, match):
     with pytest.raises(InputError, match=match) as info:
         load_image(path, **kw)
     assert "\n" not in str(info.value)
+
+
+def two_level_image(n=128, bright=0.38, noise=20.0, seed=3):
+    """8-bit image of bright discs (grey 180) on a dark film (grey 60) plus Gaussian noise;
+    returns the image and the exact bright fraction of the construction."""
+    rng = np.random.default_rng(seed)
+    gy, gx = np.indices((n, n))
+    up = np.zeros((n, n), dtype=bool)
+    while up.mean() < bright:
+        cx, cy, rad = rng.uniform(0, n), rng.uniform(0, n), rng.uniform(5, 12)
+        up |= (gx - cx) ** 2 + (gy - cy) ** 2 < rad**2
+    img = np.where(up, 180.0, 60.0) + rng.normal(0.0, noise, (n, n))
+    return np.clip(np.rint(img), 0, 255).astype(np.uint8), float(up.mean())
+
+
+def test_otsu_threshold_measures_the_bright_fraction(tmp_path):
+    # exact: the bright fraction of the construction; two grey levels 6 noise widths apart are
+    # misread on P(|z| > 3) = 0.27 % of the pixels at most (normal distribution), so 0.01
+    img, truth = two_level_image()
+    p = write_png(tmp_path / "b.png", img)
+    res = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "o", background="none")
+    assert res["threshold_method"] == "otsu"
+    assert res["up_area_fraction"] == pytest.approx(truth, abs=0.01)
+    assert not res["warnings"]
+    # the median threshold calls half of any film bright: the bias the default avoids (its
+    # level lies inside the dark film's noise, which then breaks up into specks: a warning)
+    with pytest.warns(ThinFilmWarning, match="smaller than 4 pixels"):
+        med = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "m", background="none",
+                            threshold="median")
+    assert med["up_area_fraction"] == pytest.approx(0.5, abs=0.01)
+
+
+def test_pixel_noise_domains_warn_and_smoothing_removes_them(tmp_path):
+    # noise of half the level spacing misreads P(z > 1) = 16 % of pixels (normal distribution):
+    # thousands of one-pixel domains beside a few real ones
+    img, _ = two_level_image(noise=60.0)
+    p = write_png(tmp_path / "n.png", img)
+    with pytest.warns(ThinFilmWarning, match="smaller than 4 pixels"):
+        res = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "o", background="none")
+    assert res["warnings"] and res["small_domain_count"] > res["domain_count"] / 2
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ThinFilmWarning)
+        smooth = analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "s", background="none",
+                               smoothing="10 nm")
+    assert not smooth["warnings"] and smooth["domain_count"] < res["domain_count"] / 10
+
+
+def test_level_outside_the_range_is_refused(tmp_path, capsys):
+    from thinfilm.cli import main
+
+    p = write_png(tmp_path / "d.png", domain_image())
+    with pytest.raises(InputError, match=r"level 2\.0 is outside -1 \.\. 1"):
+        analyse_image(p, pixel_size="5 nm", out_dir=tmp_path / "o", level=2)
+    assert main(["image", str(p), "--pixel-size", "5 nm", "-o", str(tmp_path / "c"),
+                 "--level", "2"]) == 2
+    assert "--level 2.0 is outside" in capsys.readouterr().err
+
+
+def test_corrupt_image_is_not_readable(tmp_path):
+    p = write_png(tmp_path / "d.png", domain_image())
+    p.write_bytes(p.read_bytes()[:60])  # a truncated PNG
+    with pytest.raises(InputError, match="not a readable image") as info:
+        load_image(p, pixel_size="5 nm")
+    assert "plugin" not in str(info.value) and "\n" not in str(info.value)
+
+
+def test_figure_with_outlines_and_fit(tmp_path):
+    from thinfilm.render.image_plot import analyse_image_with_figure
+
+    p = write_png(tmp_path / "d.png", domain_image())
+    res = analyse_image_with_figure(p, pixel_size="5 nm", out_dir=tmp_path / "o",
+                                    smoothing="5 nm")
+    assert res == json.loads((tmp_path / "o" / "image_analysis.json").read_text())
+    png = tmp_path / "o" / "image_analysis.png"
+    assert png.is_file() and png.stat().st_size > 10_000
+    assert "## image_analysis.png" in (tmp_path / "o" / "captions.md").read_text()

@@ -19,7 +19,7 @@ import pytest
 
 PKG = Path(__file__).resolve().parents[1] / "thinfilm"
 ORDER = ["leaf", "input", "model", "engines", "analysis", "runs", "render", "plan", "api",
-         "demo_pipeline", "cli", "top"]
+         "demo_pipeline", "cli_lab", "cli", "top"]
 LEAVES = {"thinfilm._io", "thinfilm._version", "thinfilm.config"}
 MAX_LINES = 420
 

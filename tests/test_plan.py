@@ -147,24 +147,40 @@ def test_coarse_resolution_takes_the_resolved_window_from_the_extrapolation(tmp_
 
 
 @pytest.mark.parametrize("kw, words", [
-    ({"resolution": "-30 nm"}, ["--resolution", "positive"]),
-    ({"resolution": "30"}, ["--resolution", "no unit"]),
-    ({"exposure": "10 nm"}, ["--exposure", "wrong kind of unit"]),
-    ({"resolution": "10 um", "field_of_view": "5 um"}, ["--resolution", "smaller than --field-of-view"]),
-    ({"exposure": None}, ["no instrument exposure", "--exposure"]),
+    ({"resolution": "-30 nm"}, ["resolution '-30 nm'", "positive", 'resolution="30 nm"']),
+    ({"resolution": "30"}, ["resolution '30'", "no unit"]),
+    ({"exposure": "10 nm"}, ["exposure '10 nm'", "wrong kind of unit"]),
+    ({"resolution": "10 um", "field_of_view": "5 um"},
+     ["resolution", "smaller than field_of_view"]),
+    ({"exposure": None}, ["no instrument exposure", 'exposure="10 ms"']),
     ({"dwell": "five minutes"}, ["dwell"]),
 ])
 def test_bad_instrument_values_are_input_errors(tmp_path, kw, words):
+    """Called from Python, the messages name the keywords (no command-line flags)."""
     args = {"resolution": "30 nm", "exposure": "10 ms", "field_of_view": "5 um", **kw}
     with pytest.raises(InputError) as exc:
         make_plan(SCENARIO, tmp_path, reuse=True, progress=False, **args)
     for w in words:
         assert w in str(exc.value)
+    assert "--" not in str(exc.value)
+
+
+def test_bad_instrument_value_on_the_command_line_names_the_flag(tmp_path, capsys):
+    import yaml
+
+    from thinfilm.cli import main
+
+    f = tmp_path / "film.yaml"
+    f.write_text(yaml.safe_dump(SCENARIO))
+    assert main(["plan", str(f), "-o", str(tmp_path / "out"), "--resolution", "30",
+                 "--exposure", "10 ms", "-q"]) == 2
+    err = capsys.readouterr().err
+    assert "--resolution '30'" in err and '--resolution "30 nm"' in err
 
 
 def test_a_folder_with_a_run_needs_reuse(tmp_path):
     make_synthetic_sweep(tmp_path)
-    with pytest.raises(InputError, match="--reuse"):
+    with pytest.raises(InputError, match=r"reuse=True.*\(out_dir\)"):
         make_plan(SCENARIO, tmp_path, resolution="2 nm", exposure="1 s", progress=False, **FAST)
 
 
@@ -205,7 +221,7 @@ def test_a_plan_per_named_instrument_reuses_the_fluctuation_runs(tmp_path):
     # a coarser instrument resolves a narrower window (xi must exceed its resolution)
     wa, wb = a["plan"]["resolved_window_K"], b["plan"]["resolved_window_K"]
     assert wb[1] - wb[0] < wa[1] - wa[0]
-    with pytest.raises(InputError, match="--instrument 'sem'"):
+    with pytest.raises(InputError, match="^instrument 'sem'"):  # from Python: the keyword
         make_plan(sc, tmp_path, reuse=True, progress=False, instrument="sem", **FAST)
 
 

@@ -56,8 +56,14 @@ def test_extrapolated_lengths_table_has_flags_and_covers_the_exact_xi():
     cols = out["columns"]
     assert set(cols) == set(EXTRAPOLATION_COLUMNS)
     flags = np.array(cols["correlation_length_flag"])
-    assert set(flags) <= {"measured", "extrapolated"} and "extrapolated" in flags
+    assert set(flags) <= {"measured", "finite-size scaling", "extrapolated"}
+    assert "extrapolated" in flags
     T = np.array(cols["temperature_K"])
+    # "measured" only where some size converged (here: the cap L/3 is below the exact length
+    # for every size closer to Tc than |t| ~ 0.03): rows with xi of 64 nm / 10 and more are not
+    meas = flags == "measured"
+    assert np.all(xi_exact(T[meas]) < 64.0 / 3)
+    assert "finite-size scaling" in flags
     xi = np.array(cols["correlation_length_nm"])
     err = np.array(cols["correlation_length_err_nm"])
     ext = flags == "extrapolated"
@@ -99,3 +105,101 @@ def test_collapse_from_table_gives_tc_and_the_ising_check():
     with pytest.raises(InputError, match="no entry for size"):
         collapse_from_table(tab, {16: 16.0}, tc_guess_K=2.25, anisotropy=1.0,
                             quantities=("xi_over_L",))
+
+
+def fss_table(seed, sizes=(16, 32, 64)):
+    """Above-Tc lengths of finite films from a crossover that is not the fit's own form:
+    xi_L = xi tanh(0.9 L / xi) (0.9 L at L << xi, approaching xi as 2 exp(-1.8 L/xi) at
+    L >> xi, the exponential approach of a length on a torus but outside the fit's family;
+    ours),
+    xi the exact square-Ising length (Onsager 1944), 2 % noise."""
+    rng = np.random.default_rng(seed)
+    cols = {k: [] for k in ("size", "temperature_K", "correlation_length_nm",
+                            "correlation_length_nm_err")}
+    for L in sizes:
+        T = TC * (1 + np.geomspace(0.005, 0.3, 14))
+        xi = xi_exact(T)
+        xl = xi * np.tanh(0.9 * L / xi)
+        cols["size"] += [L] * T.size
+        cols["temperature_K"] += list(T)
+        cols["correlation_length_nm"] += list(xl * (1 + 0.02 * rng.standard_normal(T.size)))
+        cols["correlation_length_nm_err"] += list(0.02 * xl)
+    return {k: np.array(v, dtype=float) for k, v in cols.items()}
+
+
+def test_finite_size_scaling_recovers_the_infinite_film_where_no_size_converges():
+    # exact square-Ising xi (Onsager 1944; McCoy and Wu 1973) cut down by the film: where the
+    # largest film cuts xi by more than 3 % (6 standard errors of a point), no row may be
+    # flagged measured; the infinite-film values from the scaling fit must agree with the exact
+    # length within 3 of their errors (14 temperatures, 0.3 % chance each for Gaussian errors;
+    # the crossover shape lies outside the fit's family: over seeds 0-5 the values stayed
+    # within 2.0 errors)
+    tab = fss_table(4)
+    out = extrapolated_lengths(tab, 1.0, tc_K=TC, tc_err_K=0.0, anisotropy=1.0,
+                               temperatures_K=np.unique(tab["temperature_K"]))
+    cols = out["columns"]
+    T = np.array(cols["temperature_K"])
+    xi, err = np.array(cols["correlation_length_nm"]), np.array(cols["correlation_length_err_nm"])
+    flags = np.array(cols["correlation_length_flag"])
+    near = np.tanh(0.9 * 64.0 / xi_exact(T)) < 0.97
+    assert near.sum() >= 4 and np.all(flags[near] == "finite-size scaling")
+    conv = np.array([np.nan if v is None else v for v in cols["converged_length_nm"]])
+    assert np.all(np.isnan(conv[near])) and np.isfinite(conv[~near]).any()
+    ok = flags != "refused"
+    assert np.all(np.abs(xi[ok] - xi_exact(T[ok])) < 3 * err[ok])
+    assert out["fits"]["correlation_length"]["finite_size"] is True
+    # the largest lattice's own values there lie below the exact length by more than 3 errors
+    # of the scaled values: the test can tell the two apart
+    for t, e in zip(T[near], err[near], strict=True):
+        at = (tab["size"] == 64) & np.isclose(tab["temperature_K"], t)
+        own = tab["correlation_length_nm"][at]
+        assert own.size == 1 and xi_exact(t) - own[0] > 3 * e
+
+
+def test_plan_asks_for_large_lattices_near_tc_and_uses_them(tmp_path):
+    # the tanh-cut exact lengths of fss_table on 16, 32, 64 nm films: near Tc no size
+    # converges, so the plan writes a large-lattice scenario and the commands; once that run's
+    # table exists (here the exact lengths, Onsager 1944, on L = 1024 at the asked temperatures)
+    # (L = 2048: > 10 xi at each) those temperatures become measured and are not asked again
+    import yaml
+
+    from thinfilm._io import write_csv
+    from thinfilm.input.scenario import load_scenario
+    from thinfilm.plan.beyond_lattice import LARGE_DIR, LARGE_YAML, beyond_lattice
+    from thinfilm.runs.folder import read_csv_table
+
+    tab = fss_table(7)
+    names = list(tab)
+    write_csv(tmp_path / "observables.csv", names,
+              list(zip(*[tab[c] for c in names], strict=True)))
+    src = tmp_path / "film.yaml"
+    src.write_text(yaml.safe_dump({
+        "name": "exact-film", "lattice": {"shape": "square", "cells": [16, 16], "spacing": "1 nm"},
+        "material": {"moment": "1 muB", "exchange": "1 meV",
+                     "anisotropy": {"constant": "1 meV", "axis": [0, 0, 1]}},
+        "temperature": ["3 K", "4 K"], "sizes": [16, 32, 64],
+        "dynamics": {"method": "monte-carlo"}}))
+    sc = load_scenario(src)
+    res = beyond_lattice(sc, tmp_path, tc_K=TC, tc_err_K=0.0, resolution_nm=30.0)
+    req = res["large_lattice_request"]
+    assert req["commands"] and (tmp_path / LARGE_YAML).is_file()
+    asked = load_scenario(tmp_path / LARGE_YAML)
+    assert asked.sweep.sizes == (req["size"],) and "cluster" in asked.dynamics.moves
+    T = np.array(req["temperatures_K"])
+    # the size asked for holds 10 xi (+ 2 errors) at every asked temperature, or it is the
+    # largest the plan asks for (1024) and the plan says that it falls short
+    assert req["enough"] == (req["film_side_nm"] >= req["needed_side_nm"])
+    assert req["enough"] or req["size"] == 1024
+    assert req["needed_side_nm"] > 10 * xi_exact(T).max()
+    (tmp_path / LARGE_DIR).mkdir()
+    write_csv(tmp_path / LARGE_DIR / "observables.csv", names,
+              [(2048, t, x, 0.01 * x) for t, x in zip(T, xi_exact(T), strict=True)])
+    res = beyond_lattice(sc, tmp_path, tc_K=TC, tc_err_K=0.0, resolution_nm=30.0)
+    out = read_csv_table(tmp_path / "extrapolation.csv")
+    for t in T:
+        k = np.argmin(np.abs(out["temperature_K"] - t))
+        assert out["correlation_length_flag"][k] == "measured"
+        assert out["converged_size"][k] == 2048
+    assert res["large_lattice_used"]["sizes"] == [2048]
+    assert not any(t in (res.get("large_lattice_request") or {}).get("temperatures_K", [])
+                   for t in T)

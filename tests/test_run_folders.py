@@ -85,7 +85,7 @@ def test_1_a_resume_with_an_edited_scenario_is_refused(tmp_path, monkeypatch, fi
     with pytest.raises(InputError) as exc:
         run_dynamics(load_scenario(_edit(film, key, value)), out, resume=True, progress=False)
     msg = str(exc.value)
-    assert named in msg and "--overwrite" in msg and "-o" in msg and "\n" not in msg
+    assert named in msg and "overwrite=True" in msg and "out_dir" in msg and "\n" not in msg
     assert (out / "timeseries.csv").read_bytes() == before  # nothing was written
     assert not (out / LOCK_NAME).exists()
     run_dynamics(load_scenario(film), out, resume=True, progress=False)  # the same one resumes
@@ -273,7 +273,7 @@ def test_6_the_plan_accepts_overwrite(tmp_path):
     sc = load_scenario(_edit(SWEEP, ("temperature",), ["1.5 K", "2 K", "2.5 K", "3 K", "3.5 K"]))
     opts = dict(resolution="1 nm", exposure="1 ms", progress=False, llg_size=6,
                 llg_duration="2 ps", n_boot=20, workers=1)
-    with pytest.raises(InputError, match="--overwrite"):
+    with pytest.raises(InputError, match="overwrite=True"):
         plan(sc, out, **opts)
     res = plan(sc, out, overwrite=True, **opts)
     assert res["plan"]["sweep"] == "ran"

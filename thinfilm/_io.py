@@ -16,7 +16,7 @@ from pathlib import Path
 
 import numpy as np
 
-from thinfilm.input.errors import OutputError
+from thinfilm.input.errors import OutputError, option
 
 __all__ = ["atomic_write_bytes", "atomic_write_text", "write_json", "write_npz", "write_csv",
            "os_error", "file_mode"]
@@ -33,19 +33,18 @@ def file_mode():
 
 
 _ADVICE = {
-    errno.EACCES: "you have no permission to write there; choose a folder you own with -o "
-                  "(out_dir in Python) or ask for write access",
-    errno.EPERM: "the operation is not permitted there; choose a folder you own with -o "
-                 "(out_dir in Python)",
+    errno.EACCES: "you have no permission to write there; choose a folder you own ({out}) or "
+                  "ask for write access",
+    errno.EPERM: "the operation is not permitted there; choose a folder you own ({out})",
     errno.ENOSPC: "the disk is full; free some space or choose a folder on another disk, then "
-                  "continue with --resume (resume=True): finished parts are kept",
+                  "continue with {resume}: finished parts are kept",
     errno.EDQUOT: "your disk quota is used up; free some space or choose a folder on another "
-                  "disk, then continue with --resume (resume=True): finished parts are kept",
-    errno.EROFS: "the file system is read-only; choose a writable folder with -o",
+                  "disk, then continue with {resume}: finished parts are kept",
+    errno.EROFS: "the file system is read-only; choose a writable folder ({out})",
     errno.ENOTDIR: "a part of that path is a file, not a folder; choose another output folder "
-                   "with -o",
-    errno.EEXIST: "a file of that name is in the way; choose another output folder with -o",
-    errno.EISDIR: "a folder of that name is in the way; choose another output folder with -o",
+                   "({out})",
+    errno.EEXIST: "a file of that name is in the way; choose another output folder ({out})",
+    errno.EISDIR: "a folder of that name is in the way; choose another output folder ({out})",
 }
 
 
@@ -53,7 +52,8 @@ def os_error(exc, path=None, doing="write it"):
     """An :class:`OutputError` (one paragraph) for an OSError met while writing ``path``."""
     where = path or exc.filename or "the output folder"
     reason = exc.strerror or str(exc)
-    advice = _ADVICE.get(exc.errno, "check the path and the disk, then try again")
+    advice = _ADVICE.get(exc.errno, "check the path and the disk, then try again").format(
+        out=option("out_dir"), resume=option("resume"))
     return OutputError(f"{where}: cannot {doing} ({reason}); {advice}.")
 
 

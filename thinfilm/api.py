@@ -2,7 +2,7 @@
 
 from pathlib import Path
 
-from thinfilm.input.errors import InputError
+from thinfilm.input.errors import InputError, option
 from thinfilm.input.scenario import Scenario, load_scenario
 
 __all__ = ["run", "plot_run", "plan"]
@@ -12,6 +12,19 @@ def _scenario(source):
     return source if isinstance(source, Scenario) else load_scenario(source)
 
 
+def _refuse_worker_import(name):
+    """A sweep's worker processes import the user's script; work done at its top level would run
+    again in every worker (and find the folder its parent is filling). Say how to guard it."""
+    import multiprocessing
+
+    if getattr(multiprocessing.current_process(), "_inheriting", False):
+        raise InputError(
+            f"thinfilm.{name}() was called while a worker process was importing the script that "
+            f"calls it: a sweep's workers import that script, so its top-level code runs again "
+            f"in each of them. Put the calls under 'if __name__ == \"__main__\":' (see the "
+            f"example in help(thinfilm)); a notebook needs no guard")
+
+
 def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None, progress=True):
     """Run a scenario (path, dict or Scenario) into ``out_dir``; return the folder path.
 
@@ -19,10 +32,11 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     realisations: :mod:`thinfilm.runs.ensemble_sweep`), otherwise as one time-resolved
     stochastic LLG run (:mod:`thinfilm.runs.time_resolved`). See :mod:`thinfilm.input.modes`.
     """
+    _refuse_worker_import("run")
     sc = _scenario(source)
     if resume and overwrite:
-        raise InputError("--resume and --overwrite (resume=True, overwrite=True) exclude each "
-                         "other: continue the run in the folder, or delete it and start afresh")
+        raise InputError(f"{option('resume')} and {option('overwrite')} exclude each other: "
+                         f"continue the run in the folder, or delete it and start afresh")
     from thinfilm.runs.folder import refresh_file_list
     from thinfilm.runs.lifecycle import hold
 
@@ -95,4 +109,5 @@ def plan(source, out_dir, **options):
     """
     from thinfilm.plan import make_plan
 
+    _refuse_worker_import("plan")
     return make_plan(_scenario(source), out_dir, runner=run, **options)

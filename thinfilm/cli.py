@@ -7,7 +7,12 @@ import warnings
 from pathlib import Path
 
 from thinfilm._version import __version__
-from thinfilm.input.errors import InputError, ThinFilmError, ThinFilmWarning
+from thinfilm.input.errors import (
+    InputError,
+    ThinFilmError,
+    ThinFilmWarning,
+    command_line_spelling,
+)
 
 __all__ = ["main"]
 
@@ -31,7 +36,12 @@ def _print_check(sc):
           f"{lat['spacing_nm']:g} nm, {lat['edges']} edges, {model.lattice.n_sites} sites, "
           f"{model.lattice.box_nm[0]:.4g} x {model.lattice.box_nm[1]:.4g} nm")
     print(f"  moment      {mat['moment_muB']:.4g} muB per site")
-    print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
+    if mat.get("calibration"):  # exchange set from a measured Tc (thinfilm/cli_lab.py)
+        from thinfilm.cli_lab import print_calibration
+
+        print_calibration(mat["calibration"], prefix="  exchange    ")
+    else:
+        print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
     print(f"  anisotropy  K = {mat['anisotropy_meV']:.4g} meV per site along {mat['axis']} "
           f"({'easy axis' if model.anisotropy_J > 0 else 'easy plane' if model.anisotropy_J < 0 else 'none'})")
     if mat.get("dipolar"):
@@ -50,7 +60,11 @@ def _print_check(sc):
         print(f"  sweep       {len(t)} temperatures {t[0]:g} .. {t[-1]:g} K, sizes {sc.sweep.sizes or [lat['cells'][0]]}, "
               f"order {sc.sweep.order}, method {sc.dynamics.method}")
     else:
-        print(f"  temperature {sc.temperature_K:g} K  (kB T = {KB_J_PER_K * sc.temperature_K / MEV_J:.4g} meV)")
+        given = sc.raw.get("temperature") if isinstance(sc.raw, dict) else None
+        as_written = (f", given as {given!r}" if isinstance(given, str)
+                      and given.strip() != f"{sc.temperature_K:g} K" else "")
+        print(f"  temperature {sc.temperature_K:g} K  (kB T = "
+              f"{KB_J_PER_K * sc.temperature_K / MEV_J:.4g} meV{as_written})")
     print("  initial     " + (f"labyrinth of up and down domains {sc.initial_width_nm:g} nm wide"
                               if sc.initial == "labyrinth" else sc.initial))
     tc = mean_field_tc_K(model)
@@ -101,16 +115,20 @@ def _cmd_demo(args):
 
 
 def _cmd_image(args):
-    from thinfilm.analysis.imaging import analyse_image
+    from thinfilm.render.image_plot import analyse_image_with_figure
 
-    res = analyse_image(args.file, pixel_size=args.pixel_size, out_dir=args.output, level=args.level,
-                        smoothing=args.smoothing, background=args.background, mask=args.mask,
-                        highpass_length=args.highpass_length)
-    print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm")
+    res = analyse_image_with_figure(args.file, pixel_size=args.pixel_size, out_dir=args.output,
+                                    level=args.level, smoothing=args.smoothing,
+                                    background=args.background,
+                                    mask=args.mask, highpass_length=args.highpass_length,
+                                    threshold=args.threshold, resolution=args.resolution)
+    print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm, threshold "
+          f"{'Otsu' if res['threshold_method'] == 'otsu' else 'median'} + level {res['level']:g}, "
+          f"up area fraction {res['up_area_fraction']:.3g}")
     print(f"  correlation length  {res['correlation_length_nm']:.4g} +- {res['correlation_length_nm_err']:.2g} nm "
           f"(second moment); {res['correlation_length_fit_nm']:.4g} nm (Ornstein-Zernike fit)")
     print(f"  domains             {res['domain_count']}, mean area {res['mean_domain_area_nm2']:.4g} nm^2")
-    print(f"  written to {Path(args.output) / 'image_analysis.json'}")
+    print(f"  written to {Path(args.output) / 'image_analysis.json'} and image_analysis.png")
     return 0
 
 
@@ -205,7 +223,12 @@ def build_parser():
     s.add_argument("file", help="PNG or TIFF, greyscale")
     s.add_argument("--pixel-size", required=True, help='pixel size with unit, e.g. "5 nm"')
     s.add_argument("-o", "--output", required=True, help="output folder")
-    s.add_argument("--level", type=float, default=0.0, help="threshold on the normalised contrast (-1..1)")
+    s.add_argument("--level", type=float, default=0.0,
+                   help="threshold on the normalised contrast, -1..1 (0: the --threshold level)")
+    s.add_argument("--threshold", choices=["otsu", "median"], default="otsu",
+                   help="grey level of contrast 0: Otsu's threshold (default) or the median")
+    s.add_argument("--resolution", default=None,
+                   help='instrument resolution, e.g. "30 nm": smaller domains count as unresolved')
     s.add_argument("--smoothing", default=None, help='smoothing length, e.g. "10 nm"')
     s.add_argument("--background", default="plane", choices=["none", "mean", "plane", "highpass"],
                    help="background subtraction")
@@ -249,6 +272,11 @@ def build_parser():
                    help='length of each stochastic LLG run for the fluctuation time, e.g. "200 ps"')
     s.add_argument("-q", "--quiet", action="store_true")
     s.set_defaults(func=_cmd_plan)
+
+    # --- lab data to the model and back (thinfilm/cli_lab.py) ---
+    from thinfilm.cli_lab import add_lab_commands
+
+    add_lab_commands(sub)
     return p
 
 
@@ -267,14 +295,16 @@ def main(argv=None):
     warnings.simplefilter("always", ThinFilmWarning)
     t = time.time()
     try:
-        rc = args.func(args)
+        with command_line_spelling():
+            rc = args.func(args)
     except ThinFilmError as exc:
         print(f"thinfilm: error: {exc}", file=sys.stderr)
         return 2
     except OSError as exc:  # the file system refused (no permission, disk full, a file in the way)
         from thinfilm._io import os_error
 
-        print(f"thinfilm: error: {os_error(exc, doing='use it')}", file=sys.stderr)
+        with command_line_spelling():
+            print(f"thinfilm: error: {os_error(exc, doing='use it')}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         flag = "--reuse" if getattr(args, "command", "") == "plan" else "--resume"

@@ -30,9 +30,13 @@ FILMS = ("monolayer", "stripes", "grains")
 GRAINS_SCENARIO = DEFAULT_SCENARIO.with_name("grains_demo.yaml")
 
 
+STEP_DURATION_PS = 200.0
+
+
 def _step_scenario(sc, temperature_K):
     """Stochastic LLG on 64 x 64 sites after a temperature step: from the ordered state to
-    ``temperature_K`` (just above Tc), 20 ps: the break-up on its own time scale."""
+    ``temperature_K`` (just above Tc), 200 ps: the loss of order on the spins' own time scale
+    (the total m_z relaxes only through the damping: precession about the easy axis keeps it)."""
     raw = dict(sc.raw)
     raw.update({
         "name": f"{sc.name}-step",
@@ -40,12 +44,44 @@ def _step_scenario(sc, temperature_K):
         "temperature": f"{temperature_K:.4g} K",
         "initial": "up",
         "dynamics": {"method": "llg", "damping": sc.dynamics.damping,
-                     "timestep": f"{sc.dynamics.time_step_s * 1e15:g} fs", "duration": "20 ps"},
-        "record": {"every": "0.25 ps", "snapshots": "0.5 ps"},
+                     "timestep": f"{sc.dynamics.time_step_s * 1e15:g} fs",
+                     "duration": f"{STEP_DURATION_PS:g} ps"},
+        "record": {"every": "0.5 ps", "snapshots": "5 ps"},
     })
     for k in ("sizes", "sweep", "instrument", "analysis", "movie"):
         raw.pop(k, None)
     return load_scenario(raw)
+
+
+def step_relaxation(step_dir, sweep_dir, size=64):
+    """Relaxation of the step run's m_axis towards the sweep's equilibrium <|m|> at its
+    temperature (size ``size``, interpolated in T): written to ``step_dir/relaxation.json``.
+
+    The relaxation time is the integral of x(t) = (m(t) - m_eq) / (m(0) - m_eq) over the run
+    (exactly tau for an exponential decay); when m has not reached m_eq by the end it is a lower
+    bound, and ``reached`` is False.
+    """
+    from thinfilm.render.rundir import read_table
+
+    ts = read_table(Path(step_dir) / "timeseries.csv")
+    t, m = ts["time_ps"], ts["m_axis"]
+    temp = float(ts["temperature_K"][-1])
+    obs = read_table(Path(sweep_dir) / "observables.csv")
+    sel = obs["size"] == size
+    order = np.argsort(obs["temperature_K"][sel])
+    m_eq = float(np.interp(temp, obs["temperature_K"][sel][order], obs["m_abs"][sel][order]))
+    x = (m - m_eq) / (m[0] - m_eq)
+    tau = float(np.sum(0.5 * (x[1:] + x[:-1]) * np.diff(t)))
+    tail = m[len(m) * 3 // 4:]
+    reached = bool(np.mean(np.abs(tail)) <= m_eq + 2 * np.std(tail))
+    res = {"temperature_K": temp, "duration_ps": float(t[-1]), "m_axis_start": float(m[0]),
+           "m_axis_end_mean_last_quarter": float(np.mean(tail)), "m_abs_equilibrium": m_eq,
+           "equilibrium_from": f"observables.csv, size {size}, interpolated at {temp:.4g} K",
+           "relaxation_time_ps": tau, "reached": reached,
+           "relaxation_time_is": "integral of (m - m_eq)/(m0 - m_eq) dt" +
+           ("" if reached else ": a lower bound, m has not reached m_eq")}
+    write_json(Path(step_dir) / "relaxation.json", res)
+    return res
 
 
 def _sequence_temperatures(sc, tc_K, n=10):
@@ -82,11 +118,18 @@ def run_demo(out_dir, scenario_path, *, workers=None, progress=True):
                                temperatures_K=seq_temps, frames=3, between=4, warmup=12,
                                overwrite=True, progress=progress)
     write_movie(seq.path, seq.path / "movie.mp4", fps=4)
+    _print_sampling(seq.path)
     print(f"[3/4] stochastic LLG after a step to {1.03 * tc:.3g} K (1.03 Tc), with a movie")
     step = _step_scenario(sc, 1.03 * tc)
     run(step, out_dir / "step", progress=progress, overwrite=True)
     write_movie(out_dir / "step", out_dir / "step" / "movie.mp4", fps=(sc.movie or {}).get("fps", 15))
     plot_timeseries(out_dir / "step")
+    rel = step_relaxation(out_dir / "step", out_dir)
+    print(f"      m_z {rel['m_axis_start']:.2f} -> {rel['m_axis_end_mean_last_quarter']:.2f} "
+          f"(mean of the last quarter) against the equilibrium <|m|> = "
+          f"{rel['m_abs_equilibrium']:.2f} of the 64 x 64 sweep; relaxation time "
+          f"{'' if rel['reached'] else '>= '}{rel['relaxation_time_ps']:.2g} ps "
+          f"({'reached' if rel['reached'] else 'not reached within'} {rel['duration_ps']:g} ps)")
     names = [i.get("name") for i in sc.instruments]
     print(f"[4/4] heating plans for {', '.join(n or 'the instrument' for n in names)}")
     for name in names:
@@ -135,13 +178,20 @@ def stripe_table(run_dir, lattice, *, time_offset_ps=0.0):
     return tuple(STRIPE_COLUMNS), rows
 
 
-def _movie_frames(stages):
-    """Frames of several run folders in order, with the time running on across them."""
+def _movie_frames(stages, start=None):
+    """Frames of several run folders in order, with the time running on across them; the very
+    first frame (the initial state, before any dynamics) is labelled ``start`` and carries no
+    temperature (it was made, not thermalised)."""
+    first = True
     for folder, offset_ps, note in stages:
         for p in iter_snapshots(folder, source="snapshots"):
             fr = load_snapshot(p)
             fr["time_ps"] = fr.get("time_ps", 0.0) + offset_ps
             fr["label"] = note
+            if first and start:
+                fr["label"] = start
+                fr.pop("temperature_K", None)
+            first = False
             yield fr
 
 
@@ -187,10 +237,17 @@ def run_stripe_demo(out_dir, scenario_path=STRIPE_SCENARIO, *, n_threads=None, p
     write_csv(out_dir / "stripes_vs_temperature.csv", cols, rows)
     write_json(out_dir / "stripes_vs_temperature.columns.json", STRIPE_COLUMNS)
     plot_stripes(out_dir / "stripes_vs_temperature.csv", out_dir / "plots")
-    plot_timeseries(out_dir / "heating")
+    plot_timeseries(out_dir / "heating", caption=(
+        "The net in-plane magnetisation (m_⊥, here mostly m_y) grows during the ramp: the "
+        "moments cant away from the perpendicular axis and their in-plane parts line up in one "
+        "direction (an in-plane magnetisation of a thin film costs no dipolar energy), "
+        "more so as heating lowers the effective anisotropy "
+        "towards the reorientation into the plane."))
     fps = (sc.movie or {}).get("fps", 12)
+    start = (f"start: {sc.initial_width_nm:g} nm labyrinth" if sc.initial == "labyrinth"
+             else f"start: {sc.initial}")
     info = write_movie(_movie_frames([(out_dir / "relax", -relax_ps, "settling"),
-                                      (out_dir / "heating", 0.0, "heating")]),
+                                      (out_dir / "heating", 0.0, "heating")], start=start),
                        out_dir / "movie.mp4", fps=fps, size=512)
     _print_stripe_summary(rows)
     print(f"movie: {info.path} ({info.n_frames} frames, {info.width} x {info.height} px)")
@@ -200,11 +257,32 @@ def run_stripe_demo(out_dir, scenario_path=STRIPE_SCENARIO, *, n_threads=None, p
 def _print_stripe_summary(rows):
     arr = np.asarray(rows, dtype=float)
     col = {c: i for i, c in enumerate(STRIPE_COLUMNS)}
-    print("   T (K)   period: peak, mean (nm)   stripe order   <|m_z|>")
+    print("   T (K)   period: peak, mean (nm)   stripe order   <|m_z|>   m_inplane")
     for r in arr[:: max(1, len(arr) // 8)]:
         print(f"  {r[col['temperature_K']]:6.2f}   {r[col['stripe_period_nm']]:9.3g}  "
               f"{r[col['mean_period_nm']]:9.3g}     {r[col['stripe_order']]:12.3f}   "
-              f"{r[col['mean_abs_m_axis']]:7.3f}")
+              f"{r[col['mean_abs_m_axis']]:7.3f}   {r[col['m_inplane']]:9.3f}")
+
+
+# Metropolis sweeps of the grains heating sequence (the per-site engine has no cluster moves):
+# the warm-up after each temperature step and the sweeps between two frames, chosen from the
+# tau_int the sequence measures (its manifest's "sampling"; printed by the demo)
+GRAINS_WARMUP, GRAINS_BETWEEN = 400, 100
+
+
+def _print_sampling(seq_dir):
+    """Print tau_int of the order parameter at each temperature of a heating sequence."""
+    man = json.loads((Path(seq_dir) / "manifest.json").read_text())
+    rows = man.get("sampling", [])
+    if rows and all(r["tau_int_sweeps"] != r["tau_int_sweeps"] for r in rows):
+        print(f"      tau_int of m: not determined ({rows[0]['sweeps_sampled']} sampled sweeps per "
+              f"temperature; the frames say how many sweeps they had)")
+        return
+    parts = []
+    for row in rows:
+        tau = row["tau_int_sweeps"]
+        parts.append(f"{row['temperature_K']:g} K: " + (f"{tau:.2g}" if tau == tau else "n/a"))
+    print("      tau_int of m (sweeps) per temperature: " + "; ".join(parts))
 
 
 def run_grains_demo(out_dir, *, workers=None, progress=True):
@@ -228,9 +306,10 @@ def run_grains_demo(out_dir, *, workers=None, progress=True):
     temps = _sequence_temperatures(sc, tc_k, n=8)
     print(f"[2/3] heating sequence with grains on 192 x 192 sites, {temps[0]:g}-{temps[-1]:g} K")
     seq = run_heating_sequence(sc, out_dir / "heating_sequence", size=192, temperatures_K=temps,
-                               frames=3, between=6, warmup=30, overwrite=True,
-                               progress=progress)
-    write_movie(seq.path, seq.path / "movie.mp4", fps=4)
+                               frames=3, between=GRAINS_BETWEEN, warmup=GRAINS_WARMUP,
+                               overwrite=True, progress=progress)
+    write_movie(seq.path, seq.path / "movie.mp4", fps=4, grain_boundaries=True)
+    _print_sampling(seq.path)
     print("[3/3] heating plan")
     res = plan(sc, out_dir, reuse=True, progress=progress)
     print(res["summary_text"])

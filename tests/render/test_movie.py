@@ -194,3 +194,20 @@ def test_order_axis_and_instrument_from_manifest(tmp_path):
     assert info.width > 2 * info.height  # map + gap + instrument panel side by side
     with pytest.raises(InputError, match="axis"):
         write_movie(run, tmp_path / "z.mp4", axis=(0, 0, 0))
+
+
+def test_monte_carlo_frames_keep_their_sign(tmp_path):
+    """A frame whose film reversed (as a cluster move does) is shown as -S and says so."""
+    from thinfilm.render.movie import _continuous_sign
+
+    up = np.zeros((8, 8, 3))
+    up[..., 2] = 1.0
+    up[0, :4, 2] = -1.0
+    noise = np.random.default_rng(0).choice([-1.0, 1.0], (8, 8))
+    disordered = np.zeros((8, 8, 3))
+    disordered[..., 2] = noise
+    frames = [{"spins": up}, {"spins": -up}, {"spins": up}, {"spins": disordered}]
+    out = list(_continuous_sign(frames, (0, 0, 1)))
+    assert [bool(f.get("reversed")) for f in out] == [False, True, False,
+                                                      bool(np.vdot(up[..., 2], noise) < -6.4)]
+    assert all(f["spins"][..., 2].mean() > 0.8 for f in out[:3])

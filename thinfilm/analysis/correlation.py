@@ -24,6 +24,9 @@ __all__ = [
     "second_moment_length",
     "ornstein_zernike_fit",
     "correlation_length",
+    "second_moment_series",
+    "kmin_plan",
+    "kmin_power",
 ]
 
 
@@ -253,3 +256,137 @@ def correlation_length(
         )
     fit = {"r_min_nm": r_min_nm, "r_max_nm": r_max_nm, "xi_guess_nm": None}
     return _analyse(f, valid, pos, box, period, cell, periodic, subtract_mean, n_blocks, fit)
+
+
+
+def kmin_plan(positions_nm, box_nm, period=(1, 1)):
+    """What :func:`kmin_power` needs: the smallest non-zero torus wavevectors of equal length.
+
+    The candidates are (2 pi/Lx, 0) and (0, 2 pi/Ly); both are kept when their khat^2 agree
+    (square boxes), else the shorter one alone (its partner -k gives the same S for a real
+    field). ``khat = 2 sin(k c / 2) / c`` on square grids (c the spacing), ``|k|`` otherwise.
+
+    Returns
+    -------
+    dict
+        ``phases`` (N, n_modes) complex, ``khat2`` (1/nm^2), ``n_modes``, ``n_sites``.
+    """
+    ny, nx = np.asarray(positions_nm).shape[:2]
+    _, _, pos, box, period, cell = _geometry(np.zeros((ny, nx)), positions_nm, box_nm, period,
+                                             True)
+    k1 = _TWO_PI / box
+    square = tuple(period) == (1, 1)
+    kh = np.array([_khat2(k1[0], cell[0], square), _khat2(k1[1], cell[1], square)])
+    keep = np.nonzero(np.abs(kh - kh.min()) <= 1e-9 * kh.min())[0]
+    ks = np.array([[k1[0], 0.0], [0.0, k1[1]]])[keep]
+    return {"phases": np.exp(-1j * (pos.reshape(-1, 2) @ ks.T)), "khat2": float(kh.min()),
+            "n_modes": int(keep.size), "n_sites": int(nx * ny)}
+
+
+def kmin_power(field, plan):
+    """S(k_min) of one field (ny, nx), averaged over the equivalent wavevectors of ``plan``."""
+    amp = np.asarray(field, dtype=np.float64).reshape(-1) @ plan["phases"]
+    return float(np.mean(np.abs(amp) ** 2) / plan["n_sites"])
+
+
+def second_moment_series(moment_sum, s_kmin, khat2_min, n_sites, *, probe_at=None,
+                         connected=False, n_blocks=20):
+    """Second-moment correlation length (nm) from time series of S(0) and S(k_min).
+
+    Cooper, Freedman and Preston (Nucl. Phys. B 210, 210, 1982)::
+
+        xi^2 = (S(0) / S(k_min) - 1) / khat_min^2
+
+    * ``S(0) = <M^2> / N`` over every sample of the run (M the sum of the order-axis spin
+      component over the N sites), or ``(<M^2> - <|M|>^2) / N`` with ``connected=True``
+      (ordered phase, where <M^2> holds the spontaneous moment): the susceptibility times
+      kB T, from the whole time series rather than a few snapshots;
+    * ``S(k_min)``: the mean of the probes ``s_kmin`` taken along the same run, each already
+      averaged over the equivalent smallest wavevectors (:func:`kmin_power`); averages are
+      taken before the ratio, so one noisy direction or probe cannot void the value.
+
+    Errors: jackknife over ``n_blocks`` consecutive stretches of the run; a stretch removes its
+    samples from S(0) and its probes from S(k_min) together, so correlations between the two
+    and along the run are carried.
+
+    Where noise puts S(0) at or below S(k_min) (xi well below the lattice spacing, far above
+    Tc) the estimate of xi^2 is not positive: the value is 0 and the error sqrt(error of xi^2),
+    an upper bound. NaN only where the estimator is undefined in expectation, with the reason:
+    S(k_min) = 0 (a uniform film), or fewer than two samples or probes.
+
+    Parameters
+    ----------
+    moment_sum : array_like (n_samples,)
+        Sum over sites of the spin component along the order axis, one entry per sample.
+    s_kmin : array_like (n_probes,)
+        S(k_min) probes along the run (:func:`kmin_power`).
+    khat2_min : float
+        khat^2 of k_min (1/nm^2), ``kmin_plan(...)["khat2"]``.
+    n_sites : int
+        N, the number of sites of the fields (normalisation of S).
+    probe_at : array_like of int (n_probes,), optional
+        Sample index at which each probe was taken; default evenly spread over the run.
+    connected : bool
+        Subtract <|M|>^2 (ordered phase).
+    n_blocks : int
+        Jackknife stretches (at most the number of probes).
+
+    Returns
+    -------
+    dict
+        ``xi_nm``, ``xi_err_nm``, ``reason`` ("" when defined), ``s0``, ``s_kmin``,
+        ``n_probes``, ``n_blocks``.
+    """
+    mom = np.asarray(moment_sum, dtype=np.float64).ravel()
+    s1 = np.asarray(s_kmin, dtype=np.float64).ravel()
+    if not (np.all(np.isfinite(mom)) and np.all(np.isfinite(s1))):
+        raise InputError("second_moment_series: the series hold NaN or infinite values")
+    if probe_at is None:
+        probe_at = np.linspace(0, max(mom.size - 1, 0), s1.size).round()
+    at = np.asarray(probe_at, dtype=np.float64).ravel()
+    if at.size != s1.size:
+        raise InputError(f"second_moment_series: probe_at has {at.size} entries for "
+                         f"{s1.size} probes")
+    if not (khat2_min > 0 and n_sites > 0):
+        raise InputError(f"second_moment_series: khat2_min {khat2_min!r} and n_sites "
+                         f"{n_sites!r} must be positive")
+    out = {"xi_nm": np.nan, "xi_err_nm": np.nan, "reason": "", "s0": np.nan,
+           "s_kmin": float(s1.mean()) if s1.size else np.nan, "n_probes": int(s1.size),
+           "n_blocks": 0}
+    if mom.size < 2 or s1.size < 2:
+        out["reason"] = "fewer than two samples or S(k_min) probes"
+        return out
+    if not out["s_kmin"] > 1e-12 * np.mean(mom**2) / n_sites:  # zero up to rounding
+        out["reason"] = "S(k_min) = 0: a uniform film (no fluctuation at the smallest wavevector)"
+        return out
+
+    def xi2(keep_samples, keep_probes):
+        mm = mom[keep_samples]
+        s0 = np.mean(mm**2) / n_sites
+        if connected:
+            s0 -= np.mean(np.abs(mm)) ** 2 / n_sites
+        den = s1[keep_probes].mean()
+        return ((s0 / den - 1.0) / khat2_min if den > 0 else np.nan), s0
+
+    val2, out["s0"] = xi2(slice(None), slice(None))
+    n_b = min(int(n_blocks), s1.size)
+    edges = np.linspace(0, mom.size, n_b + 1) if n_b >= 2 else np.array([])
+    idx = np.arange(mom.size)
+    reps = [xi2((idx < a) | (idx >= b), (at < a) | (at >= b))[0]
+            for a, b in zip(edges[:-1], edges[1:], strict=True)]
+
+    def jackknife(v):
+        v = np.asarray(v, dtype=np.float64)
+        if v.size < 2 or not np.all(np.isfinite(v)):
+            return np.nan
+        return float(np.sqrt((v.size - 1) / v.size * np.sum((v - v.mean()) ** 2)))
+
+    out["n_blocks"] = len(reps)
+    if val2 > 0:
+        out["xi_nm"] = float(np.sqrt(val2))
+        out["xi_err_nm"] = jackknife(np.sqrt(np.maximum(reps, 0.0)))
+    else:
+        out["xi_nm"] = 0.0
+        e2 = jackknife(reps)
+        out["xi_err_nm"] = float(np.sqrt(e2)) if np.isfinite(e2) else np.nan
+    return out

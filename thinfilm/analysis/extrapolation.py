@@ -45,8 +45,12 @@ def _arr(x, n=None):
     return a if n is None else np.broadcast_to(a, (n,)) if a.size == 1 else a
 
 
-def _ln_model(p, m, T, side):
-    """ln y at temperatures T (K) on the given side(s) ("above"/"below" array) for params p."""
+def _ln_model(p, m, T, side, film_nm=None):
+    """ln y at temperatures T (K) on the given side(s) ("above"/"below" array) for params p.
+
+    ``film_nm`` None: the infinite film. Otherwise (fits with ``finite_size``) the film sides
+    (nm) of the points: the finite-size form of :func:`fit_critical_length`.
+    """
     v = dict(zip(m["names"], p, strict=True))
     tc = v.get("tc", m["tc_fixed"])
     nu = v.get("nu", m["nu_fixed"])
@@ -60,6 +64,12 @@ def _ln_model(p, m, T, side):
     if m["correction"]:
         c = np.where(below, v.get("c_below", 0.0), v.get("c_above", 0.0))
         out = out + np.log(np.maximum(1.0 + c * at, 1e-12))
+    if film_nm is not None and m.get("finite_size"):
+        ln_c = np.where(below, v.get("ln_cl_below", 0.0), v.get("ln_cl_above", 0.0))
+        q = np.exp(v["ln_p"])
+        # ln y_L = ln y + (1/q) ln(1 - exp(-(cL L / y)^q)), without underflow
+        zq = np.exp(np.clip(q * (ln_c + np.log(film_nm) - out), -700.0, 700.0))
+        out = out + np.log(-np.expm1(-zq)) / q
     return out
 
 
@@ -87,8 +97,20 @@ def _band(fit, T, side):
 def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_err_K=0.0,
                         film_side_nm=None, min_ratio=6.0, t_max=0.3, nu=1.0, sides="auto",
                         amplitude_ratio=2.0, correction=True, max_rel_err=0.25,
-                        max_factor=10.0, quantity="correlation_length"):
+                        max_factor=10.0, quantity="correlation_length", finite_size=False):
     """Fit y = A abs(t)^-nu (1 + c abs(t)) to a length (nm) on one or both sides of Tc.
+
+    With ``finite_size=True`` every point enters whatever its film side L, through the
+    finite-size scaling form (Fisher and Barber, Phys. Rev. Lett. 28, 1516, 1972)::
+
+        y_L(T) = y(T) [1 - exp(-(c_s L / y(T))^q)]^(1/q) = L f(t L^(1/nu))
+
+    which is c_s L (c_s the ratio y_L/L at Tc on side s) for L << y and approaches y(T) as
+    exp(-(c_s L/y)^q)/q for L >> y: with q = 1 the exp(-L/xi) approach of a length on a torus
+    (common practice), larger q a sharper crossover. c_s and q are fitted (the family is ours,
+    a smooth interpolation between the limits the scaling form requires). The amplitude, and
+    so y of the infinite film, then uses the points that the box cuts down as well, with the
+    errors that carries.
 
     Parameters
     ----------
@@ -119,6 +141,8 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
         Validity rule of the extrapolation (module docstring).
     quantity : str
         Name carried into messages and the result.
+    finite_size : bool
+        Fit the finite-size form above to every point (``min_ratio`` is then not applied).
 
     Returns
     -------
@@ -149,18 +173,21 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
     side_nm = _arr(film_side_nm, T.size)
     at = np.abs(T - tc_K) / tc_K
     ok = np.isfinite(T) & np.isfinite(y) & np.isfinite(e) & (y > 0) & (e > 0) & (at > 0)
-    ok &= (side_nm >= min_ratio * y) & (at <= t_max)
+    ok &= (at <= t_max) & (side_nm > 0)
+    if not finite_size:
+        ok &= side_nm >= min_ratio * y
     side = np.where(T > tc_K, "above", "below")
-    need = 3 if correction else 2
+    need = (3 if correction else 2) + (2 if finite_size else 0)
     want = {"auto": SIDES, "both": SIDES}.get(sides, (sides,))
     if any(s not in SIDES for s in want):
         raise InputError(f"{quantity}: sides={sides!r}; use 'auto', 'above', 'below' or 'both'")
     counts = {s: int(np.sum(ok & (side == s))) for s in SIDES}
     fitted = [s for s in want if counts[s] >= need]
     if sides != "auto" and len(fitted) < len(want) or not fitted:
-        raise InputError(f"{quantity}: too few usable points (film side >= {min_ratio:g} x "
-                         f"length, 0 < abs(t) <= {t_max:g}): {counts} per side, need {need} on "
-                         f"each fitted side. Add temperatures farther from Tc or larger films")
+        cut = "" if finite_size else f"film side >= {min_ratio:g} x length, "
+        raise InputError(f"{quantity}: too few usable points ({cut}0 < abs(t) <= {t_max:g}): "
+                         f"{counts} per side, need {need} on each fitted side. Add temperatures "
+                         f"farther from Tc or larger films")
     ok &= np.isin(side, fitted)
     names, p0, lo, hi = [], [], [], []
 
@@ -183,18 +210,22 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
         if correction:
             tmax_s = float(at[ok & (side == s)].max())
             add(f"c_{s}", 0.0, -0.9 / tmax_s, np.inf)
+        if finite_size:
+            add(f"ln_cl_{s}", np.log(0.8), np.log(0.02), np.log(20.0))
+    if finite_size:
+        add("ln_p", 0.0, np.log(0.5), np.log(20.0))
     # a lone below side without a ratio: ln_a is the amplitude below Tc
     model = {"names": names, "tc_fixed": tc_K, "nu_fixed": nu0, "ratio": amplitude_ratio,
-             "correction": bool(correction)}
+             "correction": bool(correction), "finite_size": bool(finite_size)}
     n_free = len(names) - (1 if "tc" in names else 0)
     n_pts = int(ok.sum())
     if n_pts - n_free < 1:
         raise InputError(f"{quantity}: {n_pts} usable points for {n_free} parameters; add "
                          f"temperatures or drop the correction (correction=False)")
-    Tu, lyu, wu, su = T[ok], np.log(y[ok]), y[ok] / e[ok], side[ok]
+    Tu, lyu, wu, su, lu = T[ok], np.log(y[ok]), y[ok] / e[ok], side[ok], side_nm[ok]
 
     def resid(p):
-        r = (_ln_model(p, model, Tu, su) - lyu) * wu
+        r = (_ln_model(p, model, Tu, su, lu if finite_size else None) - lyu) * wu
         if "tc" in names:
             r = np.append(r, (p[0] - tc_K) / tc_err_K)
         return r
@@ -211,6 +242,7 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
            "nu_err": float(err.get("nu", 0.0)), "nu_fitted": nu is None,
            "chi2": chi2, "dof": int(dof), "chi2_dof": chi2 / dof, "errors_scaled_by": factor,
            "sides": fitted, "used": ok, "params": p, "names": names, "cov": cov, "model": model,
+           "finite_size": bool(finite_size),
            "rule": {"max_rel_err": max_rel_err, "max_factor": max_factor,
                     "min_ratio": min_ratio, "t_max": t_max}}
     a = float(np.exp(v["ln_a"]))
@@ -222,11 +254,16 @@ def fit_critical_length(temperatures_K, length_nm, length_err_nm, *, tc_K, tc_er
     else:
         out["amplitude_below_nm"] = a / amplitude_ratio if amplitude_ratio else float("nan")
     out["correction"] = {s: float(v.get(f"c_{s}", 0.0)) for s in fitted}
+    if finite_size:
+        out["xi_over_L_at_tc"] = {s: float(np.exp(v[f"ln_cl_{s}"])) for s in fitted}
+        out["crossover_q"] = float(np.exp(v["ln_p"]))
     out["t_range"], out["max_used_nm"] = {}, {}
     for s in fitted:
         k = ok & (side == s)
         out["t_range"][s] = (float(at[k].min()), float(at[k].max()))
         out["max_used_nm"][s] = float(y[k].max())
+        if finite_size:  # the largest infinite-film length the fitted points stand for
+            out["max_used_nm"][s] = float(np.exp(_ln_model(p, model, T[k], side[k])).max())
     out["valid_t_min"], out["valid_range_K"], out["limit_reason"] = {}, {}, {}
     for s in fitted:
         _validity(out, s)

@@ -3,6 +3,7 @@
 Re-exports :func:`rasterise` and :func:`instrument_view` from :mod:`thinfilm.analysis.instrument`.
 """
 
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -16,12 +17,30 @@ from thinfilm.analysis.correlation import (
 )
 from thinfilm.analysis.domains import domain_statistics, label_domains
 from thinfilm.analysis.instrument import instrument_view, rasterise
-from thinfilm.input.errors import InputError
+from thinfilm.input.errors import InputError, ThinFilmWarning, option
 from thinfilm.input.units import parse_quantity
 
-__all__ = ["rasterise", "instrument_view", "load_image", "analyse_image"]
+__all__ = ["rasterise", "instrument_view", "load_image", "analyse_image", "contrast_threshold"]
 
 BACKGROUNDS = ("none", "mean", "plane", "highpass")
+THRESHOLDS = ("otsu", "median")
+SMALL_DOMAIN_PX = 4  # a domain of fewer pixels than a 2 x 2 block is not resolved by the image
+
+
+def contrast_threshold(values, method="otsu"):
+    """Grey level separating bright from dark pixels.
+
+    ``"otsu"``: Otsu's threshold (N. Otsu, IEEE Trans. Syst. Man Cybern. 9, 62 (1979)), from
+    ``skimage.filters.threshold_otsu`` on 256 histogram bins: the level that maximises the
+    between-class variance of the two populations, so it does not depend on what fraction of the
+    film is bright. ``"median"``: the median (half the pixels on each side whatever the film).
+    """
+    v = np.asarray(values, dtype=np.float64).ravel()
+    if method == "median":
+        return float(np.median(v))
+    from skimage.filters import threshold_otsu
+
+    return float(threshold_otsu(v, nbins=256))
 
 
 def _length_nm(text, what, path):
@@ -53,7 +72,9 @@ def _read_grey(path, what):
             data = iio.imread(path)
     except Exception as exc:  # readers raise many unrelated types for corrupt files
         raise InputError(
-            f"{what} {path}: cannot be read as an image ({type(exc).__name__}: {exc})"
+            f"{what} {path}: not a readable image (the reader stopped with "
+            f"{type(exc).__name__}); the file is damaged or not a PNG or TIFF image: open it in "
+            f"an image viewer, or export the image again as greyscale PNG or TIFF"
         ) from None
     data = np.asarray(data)
     if data.ndim == 3 and data.shape[-1] in (1, 2, 3, 4):
@@ -74,7 +95,8 @@ def _read_grey(path, what):
     return data.astype(np.float64)
 
 
-def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=None):
+def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=None,
+               threshold="otsu"):
     """Read a greyscale PNG/TIFF and normalise its contrast.
 
     Parameters
@@ -90,17 +112,23 @@ def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=
         Gaussian low-pass of standard deviation ``highpass_length`` (high-pass filter).
     highpass_length : str, optional
         Length with unit for ``background="highpass"``.
+    threshold : {"otsu", "median"}
+        Grey level put at 0 (:func:`contrast_threshold`): Otsu's threshold of the valid pixels
+        (default), or their median (which calls half of any film bright).
 
     Returns
     -------
     image : ndarray, shape (ny, nx)
-        Contrast with the median of valid pixels at 0 and scaled into [-1, 1]; 0 on invalid
+        Contrast with the threshold of valid pixels at 0 and scaled into [-1, 1]; 0 on invalid
         pixels.
     valid : ndarray of bool
         True on valid pixels.
     pixel_nm : float
         Pixel size in nm.
     """
+    if threshold not in THRESHOLDS:
+        raise InputError(f"image {path}: threshold {threshold!r} is unknown; allowed: "
+                         f"{', '.join(THRESHOLDS)}")
     background = "none" if background is None else str(background).lower()
     if background not in BACKGROUNDS:
         raise InputError(
@@ -148,7 +176,7 @@ def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=
         num = ndimage.gaussian_filter(np.where(valid, img, 0.0), sigma, mode="reflect")
         den = ndimage.gaussian_filter(valid.astype(float), sigma, mode="reflect")
         img = img - num / np.maximum(den, 1e-12)
-    img = img - np.median(img[valid])
+    img = img - contrast_threshold(img[valid], threshold)
     scale = np.max(np.abs(img[valid]))
     if not scale > 1e-12 * max(1.0, float(np.max(np.abs(img)))):
         raise InputError(
@@ -174,11 +202,15 @@ def analyse_image(
     background="plane",
     mask=None,
     highpass_length=None,
+    threshold="otsu",
+    resolution=None,
+    return_arrays=False,
 ):
     """Correlation length and domain sizes of one measured (or rendered) image.
 
     Writes ``image_analysis.json``, ``correlation.csv`` (``r_nm, C, pair_count``) and
-    ``domain_sizes.csv`` (``domain_id, sign, area_nm2, equivalent_diameter_nm``) to ``out_dir``.
+    ``domain_sizes.csv`` (``domain_id, sign, area_nm2, equivalent_diameter_nm``) to ``out_dir``
+    (:func:`thinfilm.render.image_plot.analyse_image_with_figure` adds the figure).
     The image is treated with open edges. ``correlation_length_nm`` is the second-moment estimator
     for open fields and ``correlation_length_fit_nm`` the OZ fit of C(r) (see
     :mod:`thinfilm.analysis.correlation`); the error of the former is a jackknife over the four
@@ -191,23 +223,47 @@ def analyse_image(
     out_dir : str or Path
         Output folder (created).
     level : float
-        Domain threshold on the normalised contrast [-1, 1].
+        Domain threshold on the normalised contrast, -1 .. 1 (0: the ``threshold`` level).
     smoothing : str, optional
         Gaussian smoothing (standard deviation, with unit) before thresholding.
+    threshold : {"otsu", "median"}
+        Grey level of contrast 0 (see :func:`load_image`).
+    resolution : str, optional
+        Instrument resolution with unit: domains smaller than a disc of that diameter are
+        counted as unresolved, like those under four pixels.
+    return_arrays : bool
+        Also return the arrays behind the numbers (for the figure): ``image`` (normalised
+        contrast), ``valid``, ``labels``, ``r_nm``, ``C``, ``fit``, ``pixel_nm``.
+
+    Warns
+    -----
+    ThinFilmWarning
+        When most domains are smaller than four pixels (or than the resolution): pixel noise or
+        unresolved features counted as domains; the JSON's ``warnings`` keeps the text.
 
     Returns
     -------
     dict
-        The JSON content.
+        The JSON content; with ``return_arrays`` the pair (dict, arrays).
     """
+    try:
+        level = float(level)
+    except (TypeError, ValueError):
+        level = float("nan")
+    if not -1.0 <= level <= 1.0:
+        raise InputError(f"image {path}: {option('level', None)} {level!r} is outside -1 .. 1; "
+                         f"the level is a threshold on the contrast normalised to -1 .. 1 "
+                         f"(0 = the {threshold} threshold of the grey levels)")
     img, valid, pixel_nm = load_image(
         path,
         pixel_size=pixel_size,
         mask=mask,
         background=background,
         highpass_length=highpass_length,
+        threshold=threshold,
     )
     smoothing_nm = None if smoothing is None else _length_nm(smoothing, "smoothing", path)
+    resolution_nm = None if resolution is None else _length_nm(resolution, "resolution", path)
     ny, nx = img.shape
     gy, gx = np.indices(img.shape)
     pos = np.stack([gx * pixel_nm, gy * pixel_nm], axis=-1).astype(float)
@@ -257,6 +313,23 @@ def analyse_image(
     )
     stats = domain_statistics(labels, pixel_nm**2, signs=signs)
     edge = np.unique(np.concatenate([labels[0], labels[-1], labels[:, 0], labels[:, -1]]))
+    small_nm2 = SMALL_DOMAIN_PX * pixel_nm**2
+    if resolution_nm is not None:
+        small_nm2 = max(small_nm2, np.pi * (resolution_nm / 2) ** 2)
+    areas = np.asarray(stats["area_by_label_nm2"], dtype=np.float64)[1:]
+    n_small = int(np.count_nonzero(areas < small_nm2))
+    notes = []
+    if areas.size and n_small > areas.size / 2:
+        what = (f"{SMALL_DOMAIN_PX} pixels" if resolution_nm is None else
+                f"{SMALL_DOMAIN_PX} pixels or a disc of the {resolution_nm:g} nm resolution")
+        flag = option("smoothing", None)
+        eg = (f'{flag} "{2 * pixel_nm:.3g} nm"' if flag.startswith("-")
+              else f'smoothing="{2 * pixel_nm:.3g} nm"')
+        hint = f"smooth the image ({eg}) to count the domains the image resolves"
+        notes.append(f"image {path}: {n_small} of {areas.size} domains are smaller than {what}: "
+                     f"pixel noise or unresolved features are counted as domains; {hint}")
+    for text in notes:
+        warnings.warn(text, ThinFilmWarning, stacklevel=2)
     result = {
         "image_path": str(path),
         "image_shape_px": [ny, nx],
@@ -264,7 +337,12 @@ def analyse_image(
         "background": background,
         "valid_fraction": float(valid.mean()),
         "level": float(level),
+        "threshold_method": threshold,
         "smoothing_nm": smoothing_nm,
+        "resolution_nm": resolution_nm,
+        "small_domain_count": n_small,
+        "small_domain_area_nm2": float(small_nm2),
+        "warnings": notes,
         "correlation_length_nm": _finite(full["second_moment_nm"]),
         "correlation_length_nm_err": _finite(err),
         "xi_error_method": method,
@@ -299,4 +377,7 @@ def analyse_image(
         ],
     )
     _io.write_json(out / "image_analysis.json", result)
+    if return_arrays:
+        return result, {"image": img, "valid": valid, "labels": labels, "r_nm": r, "C": c,
+                        "fit": fit, "pixel_nm": pixel_nm}
     return result

@@ -259,19 +259,20 @@ def joint_collapse_fit(datasets, *, tc_guess_K, nu_guess=1.0, x_window=(-1.5, 1.
         om_err = float(boot[:, 2].std(ddof=1)) if model.fit_omega else float("nan")
         corr = float(np.corrcoef(boot[:, 0], boot[:, 1])[0, 1])
         factor = 1.0
-    tcf, nuf, omf, qs = model.split(p)
-    xs = {n: scaling_variable(d["L"], d["T"], tcf, nuf) for n, d in data.items()}
+    tc_fit, nu_fit, omega_fit, coeffs = model.split(p)  # best-fit Tc, nu, omega; per-curve terms
+    xs = {n: scaling_variable(d["L"], d["T"], tc_fit, nu_fit) for n, d in data.items()}
     used_x = np.concatenate([xs[n][sel[n]] for n in data])
     sizes = sorted({int(L) for n, d in data.items() for L in d["L"][sel[n]]})
     return {
-        "tc_K": float(tcf), "tc_err_K": float(tc_err), "nu": float(nuf), "nu_err": float(nu_err),
-        "corr_tc_nu": corr, "omega": float(omf) if model.has_corr else float("nan"),
+        "tc_K": float(tc_fit), "tc_err_K": float(tc_err), "nu": float(nu_fit),
+        "nu_err": float(nu_err), "corr_tc_nu": corr,
+        "omega": float(omega_fit) if model.has_corr else float("nan"),
         "omega_err": om_err, "chi2": chi2, "dof": int(dof), "chi2_dof": chi2 / dof,
         "error_method": error_method, "errors_scaled_by": factor, "x_window": (lo_w, hi_w),
         "x_range": (float(used_x.min()), float(used_x.max())), "n_points": int(n_pts),
         "sizes": sizes, "used": sel, "x": xs,
-        "coefficients": {n: q[: model.degree + 1].tolist() for n, q in qs.items()},
-        "correction_amplitude": ({n: float(q[-1]) for n, q in qs.items()} if model.has_corr
+        "coefficients": {n: q[: model.degree + 1].tolist() for n, q in coeffs.items()},
+        "correction_amplitude": ({n: float(q[-1]) for n, q in coeffs.items()} if model.has_corr
                                  else None),
         "x_scale": scale, "degree": model.degree, "n_iter": n_iter,
         "selection_settled": settled,

@@ -78,7 +78,8 @@ def initial_spins(lattice, kind, *, seed=0, axis=(0.0, 0.0, 1.0), width_nm=None)
         s = np.array(data["spins"], dtype=np.float64)
     if s.shape != (ny, nx, 3):
         raise ValueError(f"snapshot {kind} holds spins of shape {s.shape}, the lattice needs {(ny, nx, 3)}")
-    return np.ascontiguousarray(s / np.linalg.norm(s, axis=-1, keepdims=True))
+    norm = np.linalg.norm(s, axis=-1, keepdims=True)  # snapshots hold float32: renormalise
+    return np.ascontiguousarray(np.divide(s, norm, out=np.zeros_like(s), where=norm > 0))
 
 
 def measure(model, spins, work=None, field_T=None):

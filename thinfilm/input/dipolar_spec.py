@@ -22,7 +22,8 @@ __all__ = ["parse_dipolar", "point_shape_ratio", "point_window", "POINT_DIPOLE_S
            "POINT_TOLERANCE", "PRISM_ASPECT_RANGE"]
 
 # sum' (a / r)^3 over each lattice (Ewald sums of thinfilm.model.dipolar_tensor, checked in
-# tests/test_prism_scenario.py; square: 4 zeta(3/2) beta(3/2))
+# tests/test_prism_scenario.py; recomputed by direct summation with a rigorous tail bound in
+# tests/validation/test_lattice_sums_direct.py; square: 4 zeta(3/2) beta(3/2))
 POINT_DIPOLE_SUM = {"square": 9.03362168310, "triangular": 11.0341757349,
                     "honeycomb": 6.57885192260}
 POINT_TOLERANCE = 0.10  # accepted |point-dipole shape energy / continuum - 1|

@@ -1,4 +1,6 @@
-"""Exception and warning classes of thinfilm."""
+"""Exception and warning classes of thinfilm, and how an error message spells an option."""
+
+import contextlib
 
 __all__ = [
     "ThinFilmError",
@@ -7,7 +9,36 @@ __all__ = [
     "StabilityError",
     "OutputError",
     "ThinFilmWarning",
+    "option",
+    "command_line_spelling",
 ]
+
+# Python keyword -> command-line flag where the flag is not "--" + keyword with "-" for "_"
+_FLAGS = {"out_dir": "-o", "n_points": "--points"}
+_SPELLING = {"cli": False}
+
+
+def option(keyword, value="True"):
+    """An option as the caller spells it, for error messages.
+
+    ``option("resume")`` is ``"--resume"`` while the command line runs (inside
+    :func:`command_line_spelling`) and ``"resume=True"`` for a Python caller;
+    ``option("out_dir")`` is ``"-o"`` or ``"out_dir"``; ``value=None`` leaves the value out.
+    """
+    if _SPELLING["cli"]:
+        return _FLAGS.get(keyword, "--" + keyword.replace("_", "-"))
+    return keyword if value is None or keyword == "out_dir" else f"{keyword}={value}"
+
+
+@contextlib.contextmanager
+def command_line_spelling():
+    """Within this block error messages name command-line flags instead of keywords."""
+    before = _SPELLING["cli"]
+    _SPELLING["cli"] = True
+    try:
+        yield
+    finally:
+        _SPELLING["cli"] = before
 
 
 class ThinFilmError(Exception):

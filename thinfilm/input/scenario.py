@@ -13,6 +13,7 @@ from types import SimpleNamespace
 import numpy as np
 import yaml
 
+from thinfilm.input import calibration_spec as curie
 from thinfilm.input.continuum import continuum_to_lattice
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
@@ -81,7 +82,7 @@ def _material(r, lat):
     m = r.sub("material", required=True)
     continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
-    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar"})
+    m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", curie.KEY})
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
     if given_c and given_l:
@@ -89,12 +90,12 @@ def _material(r, lat):
             f"give either lattice parameters (moment, exchange, anisotropy) or continuum parameters "
             f"(stiffness, anisotropy_density, magnetisation, thickness), not both; got {sorted(m.data)}", "")
     if given_c:
-        a = m.quantity("stiffness", "stiffness", required=True, nonneg=True)
         ku = m.quantity("anisotropy_density", "energy_density", default="0 J/m^3")
         ms = m.quantity("magnetisation", "magnetisation", required=True, positive=True)
         t = m.quantity("thickness", "length", required=True, positive=True)
         dipolar, dip_t = parse_dipolar(m, lat, t)
         shape_aniso = m.flag("shape_anisotropy", default=False)
+        a, calib = curie.continuum_stiffness(m, lat, ku, ms, t, shape_aniso, dipolar)
         if dipolar and shape_aniso:
             raise m.error("shape_anisotropy: true folds the thin-film demagnetising energy into K, "
                           "and dipolar: true computes it from the moments: together they count it "
@@ -106,10 +107,9 @@ def _material(r, lat):
         cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
                 "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso,
                 "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
-        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t)
+        return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, calib)
     dipolar, dip_t = parse_dipolar(m, lat)
     mu = m.quantity("moment", "moment", required=True, positive=True)
-    jj = m.quantity("exchange", "energy", required=True)
     aniso = m.raw("anisotropy")
     if aniso is None:
         kk, axis = 0.0, np.array([0.0, 0.0, 1.0])
@@ -120,7 +120,8 @@ def _material(r, lat):
         axis = an.vector("axis", default=[0, 0, 1], nonzero=True)
     if m.has("axis"):
         raise m.error("put the axis under material.anisotropy.axis", "axis")
-    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t)
+    jj, calib = curie.lattice_exchange(m, lat, kk, dipolar)  # given, or from a measured Tc
+    return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), None, dipolar, dip_t, calib)
 
 
 def _lattice(r):

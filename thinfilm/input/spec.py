@@ -41,6 +41,7 @@ class MaterialSpec:
     continuum: dict | None = None  # the continuum inputs when the film was given that way
     dipolar: bool = False  # dipole-dipole interaction between the site moments
     dipolar_thickness_nm: float | None = None  # prism sites a x a x t; None: point dipoles
+    calibration: dict | None = None  # exchange set from a measured Tc (input.calibration)
 
 
 @dataclass(frozen=True)
@@ -133,6 +134,8 @@ class Scenario:
             out["initial_width_nm"] = self.initial_width_nm
         if m.continuum:
             out["material"]["continuum"] = m.continuum
+        if m.calibration:
+            out["material"]["calibration"] = m.calibration
         if m.dipolar:
             out["material"]["dipolar"] = True
             if m.dipolar_thickness_nm is not None:

@@ -1,6 +1,7 @@
 """Physical constants and parsing of quantities with units (pint at the boundary only)."""
 
 import math
+import re
 
 import pint
 
@@ -63,13 +64,32 @@ EXAMPLE = {
 }
 
 
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+# an exponent written straight after a unit name: "m3", "m-3", "s^-1" is pint's already
+_EXPONENT = re.compile(r"(?<=[A-Za-z\u00b5\u03bc])(-?\d+)(?![\d.])")
+
+
+def _quantity(text):
+    """pint Quantity of "value unit" text. The value is split off first, so offset units
+    ("27 degC", "80 degF") are read as a temperature on that scale, and the common exponent
+    spellings "m3" and "m-3" mean m^3 and m^-3 (pint itself reads "m^3", "m**3", "m³")."""
+    m = _NUMBER.match(text)
+    if m is None or not m.group(2):
+        return ureg.Quantity(text.strip())
+    unit = _EXPONENT.sub(r"**\1", m.group(2))
+    return ureg.Quantity(float(m.group(1)), unit)
+
+
 def parse_quantity(text, kind):
     """Parse ``"1.5 meV"``-like text into a float in SI units of ``kind``.
 
     Parameters
     ----------
     text : str or number
-        Value and unit. Plain numbers are refused: every quantity carries its unit.
+        Value and unit. Plain numbers are refused: every quantity carries its unit. Any unit
+        pint knows for the dimension of ``kind`` is accepted ("0.8 MJ/m^3", "0.8 MJ/m3",
+        "27 degC", "2 um", "5 G", "10 Oe" as mu0 H), with exponents as ^n, **n, superscripts
+        or digits after the unit name.
     kind : str
         One of the keys of ``DIMENSIONS`` (``"energy"``, ``"length"``, ...).
 
@@ -89,9 +109,17 @@ def parse_quantity(text, kind):
             f"must be a quantity with a unit written as a string, such as {example}; got {text!r}"
         )
     try:
-        q = ureg.Quantity(text.strip())
+        q = _quantity(text)
     except Exception as exc:  # pint raises several unrelated exception types
         raise ValueError(f"cannot read {text!r} as a quantity (example: {example})") from exc
+    if kind == "field" and q.check("[mass] ** 0.5 / [length] ** 0.5 / [time]"):
+        # Gaussian units (G, Oe): pint keeps them apart from the tesla; 1 G = 1e-4 T, and an
+        # applied H in Oe is taken as the vacuum flux density mu0 H (1 Oe -> 1e-4 T)
+        return float(q.to("gauss").magnitude) * 1e-4
+    if kind == "field" and q.check("[current] / [length]"):
+        raise ValueError(f"{text!r} is a magnetic field strength H ({q.units:~}); give the "
+                         f"flux density mu0 H in tesla (1 Oe is 0.1 mT in vacuum), for example "
+                         f"{example}")
     if isinstance(q, (int, float)) or q.dimensionless:
         raise ValueError(f"{text!r} has no unit; write it like {example}")
     if not q.check(DIMENSIONS[kind]):

@@ -12,10 +12,12 @@ wide (then Tc has to be located in the experiment, and the plan says so).
 """
 
 import math
+from pathlib import Path
 
 import numpy as np
+import yaml
 
-from thinfilm._io import write_csv
+from thinfilm._io import atomic_write_text, write_csv
 from thinfilm.input.errors import InputError
 from thinfilm.model.parameters import build_model
 from thinfilm.plan.curves import clean_json
@@ -27,7 +29,14 @@ from thinfilm.plan.extrapolated import (
 from thinfilm.runs.folder import read_csv_table
 from thinfilm.runs.sweep_point import sized_scenario
 
-__all__ = ["beyond_lattice"]
+__all__ = ["beyond_lattice", "infinite_film_points", "LARGE_DIR", "LARGE_YAML"]
+
+#: Folder (inside the plan's folder) of the large-lattice points the plan asks for, and the
+#: scenario it writes for them.
+LARGE_DIR, LARGE_YAML = "large_lattice", "large_lattice.yaml"
+#: Large-lattice points asked for per side of Tc, and the samples per point (cluster moves
+#: decorrelate the film in a few sweeps near Tc; ours).
+N_LARGE_PER_SIDE, LARGE_SAMPLES, LARGE_WARMUP = 2, 1000, 200
 
 
 def _halfwidths(fit, tc_K, resolution_nm):
@@ -44,17 +53,11 @@ def _halfwidths(fit, tc_K, resolution_nm):
 
 
 def _lengths(tab):
-    """The table with correlation_length_nm taken from the S(k) Ornstein-Zernike length where
-    that has a finite value and error (it is far less noisy than the second moment, on both
-    sides of Tc), else from the second-moment estimator."""
-    sk, sk_err = tab.get("correlation_length_sk_nm"), tab.get("correlation_length_sk_nm_err")
-    if sk is None or sk_err is None:
-        return tab
-    ok = np.isfinite(sk) & np.isfinite(sk_err) & (sk_err > 0)
-    out = dict(tab)
-    out["correlation_length_nm"] = np.where(ok, sk, tab["correlation_length_nm"])
-    out["correlation_length_nm_err"] = np.where(ok, sk_err, tab["correlation_length_nm_err"])
-    return out
+    """The observables table as the fits read it: correlation_length_nm is the second-moment
+    length, the one estimator whose box dependence the size-convergence rule and the
+    finite-size scaling form are written for (xi_L/L tends to a constant at Tc); the S(k) and
+    C(r) fits enter only the convergence test (the largest estimate at a row)."""
+    return tab
 
 
 def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_view_nm=None):
@@ -65,6 +68,8 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
     ``resolved_halfwidth_K`` ({side: [K, error K]}), ``universality``, ``csv`` and ``note``.
     """
     tab = _lengths(read_csv_table(out / "observables.csv"))
+    tab, large_note = _with_large(tab, out)
+    tab = _forms_by_tc(tab, tc_K)
     sides = {}
 
     def film_side(size):
@@ -85,7 +90,10 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
         res.update(extrapolation_refused=str(exc), csv=None)
         return clean_json(res)
     res.update(fits=ext["fits"], resolved_window=ext["resolved_window"],
-               universality=ext["universality"], note=ext["note"], csv=None)
+               universality=ext["universality"], note=ext["note"], csv=None,
+               converged=ext.get("converged"))
+    if large_note:
+        res["large_lattice_used"] = large_note
     cols = ext["columns"]
     if cols is not None:
         names = [c for c in EXTRAPOLATION_COLUMNS if c in cols]
@@ -96,7 +104,12 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
         res["curve"] = {"temperature_K": cols["temperature_K"],
                         "correlation_length_nm": cols["correlation_length_nm"],
                         "correlation_length_err_nm": cols["correlation_length_err_nm"],
-                        "flag": cols["correlation_length_flag"]}
+                        "flag": cols["correlation_length_flag"],
+                        "converged_length_nm": cols["converged_length_nm"],
+                        "converged_length_err_nm": cols["converged_length_err_nm"]}
+        req = _large_request(scenario, out, cols, tc_K, film_side)
+        if req:
+            res["large_lattice_request"] = req
         fit = ext["fits"].get("correlation_length", {})
         res["resolved_halfwidth_K"] = _halfwidths(fit, tc_K, resolution_nm)
         if field_of_view_nm is not None:
@@ -107,3 +120,144 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
                               f"than the error of Tc ({tc_err_K:.2g} K): locate Tc in the "
                               f"experiment and step by less than the half-width around it")
     return clean_json(res)
+
+
+def _forms_by_tc(tab, tc_K):
+    """correlation_length_nm re-chosen with the plan's Tc where the table has both forms of the
+    second moment: the full form above Tc, the connected one below (as the sweep does with its
+    own Tc; a large-lattice run of a few temperatures has no Tc of its own worth the name)."""
+    if "correlation_length_full_nm" not in tab or tc_K is None:
+        return tab
+    out = dict(tab)
+    below = tab["temperature_K"] < tc_K
+    for c in ("correlation_length_nm", "correlation_length_nm_err"):
+        full = c.replace("correlation_length", "correlation_length_full")
+        conn = c.replace("correlation_length", "correlation_length_connected")
+        out[c] = np.where(below, tab[conn], tab[full])
+    return out
+
+
+def _with_large(tab, out):
+    """The sweep table with the rows of ``out/large_lattice/observables.csv`` appended, when
+    that run exists (the large-lattice points the plan asked for); and a note saying so."""
+    path = Path(out) / LARGE_DIR / "observables.csv"
+    if not path.is_file():
+        return tab, None
+    big = read_csv_table(path)
+    keys = [k for k in tab if k in big and tab[k].dtype.kind == "f" and big[k].dtype.kind == "f"]
+    merged = {k: np.concatenate([tab[k], big[k]]) for k in keys}
+    sizes = sorted({int(v) for v in big["size"]})
+    temps = sorted({round(float(v), 4) for v in big["temperature_K"]})
+    return merged, {"folder": f"{LARGE_DIR}/", "sizes": sizes, "temperatures_K": temps}
+
+
+def _large_request(scenario, out, cols, tc_K, film_side):
+    """Large-lattice points for sweep temperatures near Tc where no size converged.
+
+    Up to :data:`N_LARGE_PER_SIDE` sweep temperatures per side of Tc, the closest to Tc whose
+    length is known only through finite-size scaling; one size L, the smallest power of two
+    whose film side is at least 10 x (xi + 2 errors) at all of them (at most 1024). Writes the
+    scenario ``large_lattice.yaml`` beside the plan when the scenario came from a file, and
+    returns the request with the commands (None when nothing needs a larger lattice).
+    """
+    T = np.asarray(cols["temperature_K"], dtype=float)
+    flag = np.asarray(cols["correlation_length_flag"])
+    xi = np.asarray(cols["correlation_length_nm"], dtype=float)
+    err = np.asarray(cols["correlation_length_err_nm"], dtype=float)
+    sweep_T = set(np.round(read_csv_table(out / "observables.csv")["temperature_K"], 6))
+    cand = [i for i in range(T.size) if flag[i] == "finite-size scaling"
+            and round(float(T[i]), 6) in sweep_T and np.isfinite(xi[i])]
+    pick = []
+    for above in (True, False):
+        side = sorted((i for i in cand if (T[i] > tc_K) == above), key=lambda i: abs(T[i] - tc_K))
+        pick += side[:N_LARGE_PER_SIDE]
+    if not pick:
+        return None
+    need = max(10.0 * (xi[i] + 2.0 * (err[i] if np.isfinite(err[i]) else 0.0)) for i in pick)
+    size = 64
+    while film_side(size) < need and size < 1024:
+        size *= 2
+    temps = sorted(float(T[i]) for i in pick)
+    req = {"temperatures_K": temps, "size": size, "film_side_nm": film_side(size),
+           "needed_side_nm": need,
+           "why": ("no lattice size of the sweep converged at these temperatures near Tc; their "
+                   "lengths come from finite-size scaling alone"),
+           "enough": bool(film_side(size) >= need)}
+    src = Path(str(scenario.source))
+    if not src.is_file():
+        req["commands"] = None
+        req["how"] = (f"run the scenario with sizes: [{size}], temperature: the list above, "
+                      f"sweep order independent and cluster moves into {out / LARGE_DIR}, then "
+                      f"build the plan again with reuse")
+        return req
+    data = yaml.safe_load(src.read_text(encoding="utf-8"))
+    data["sizes"] = [size]
+    data["temperature"] = [f"{t:.6g} K" for t in temps]
+    sweep = dict(data.get("sweep") or {})
+    # the S(k) and C(r) fits, precise where L >> xi, average over the snapshots
+    sweep.update(order="independent", snapshots=max(int(sweep.get("snapshots", 0)), 100))
+    data["sweep"] = sweep
+    dyn = dict(data.get("dynamics") or {})
+    dyn.update(method="monte-carlo", moves=["metropolis", "cluster"],
+               sweeps={"warmup": LARGE_WARMUP, "samples": LARGE_SAMPLES})
+    data["dynamics"] = dyn
+    data.pop("movie", None)
+    data["name"] = f"{data.get('name', 'film')}-large-lattice"
+    head = ("# Written by thinfilm plan: large-lattice points near Tc for the plan of "
+            f"{src.name}\n# (Monte Carlo with cluster moves, L = {size}).\n")
+    yml = Path(out) / LARGE_YAML
+    atomic_write_text(yml, head + yaml.safe_dump(data, sort_keys=False))
+    req["scenario"] = LARGE_YAML
+    req["commands"] = [f"thinfilm run {yml} -o {Path(out) / LARGE_DIR}",
+                       f"thinfilm plan {src} -o {out} --reuse"]
+    return req
+
+
+def infinite_film_points(plan):
+    """Plan points with the infinite-film correlation length where the sweep determines it.
+
+    Each point keeps the largest lattice's value as ``correlation_length_lattice_nm``. Its
+    ``correlation_length_nm`` is interpolated in ln xi against T, on its own side of Tc, from
+    the extrapolation curve (flag: measured, finite-size scaling or extrapolated, the weakest
+    of the two neighbours), or outside the curve from the converged lattice values of the
+    neighbouring sweep temperatures (flag "measured"); where neither reaches, the lattice
+    value stays, flagged "finite-size limited" (an underestimate). ``resolved`` follows.
+    """
+    ext = plan.get("extrapolation") or {}
+    res = plan["instrument"]["resolution_nm"]
+    tc = plan["tc_K"]
+    for p in plan.get("points") or []:
+        p["correlation_length_lattice_nm"] = p["correlation_length_nm"]
+        p["correlation_length_flag"] = "finite-size limited"
+
+    def table(t, x, flag):
+        t = np.asarray(t, dtype=float)
+        x = np.array([np.nan if v is None else v for v in x], dtype=float)
+        return t, x, np.asarray(flag, dtype=object)
+
+    sources = []
+    cur = ext.get("curve")
+    if cur:
+        sources.append(table(cur["temperature_K"], cur["correlation_length_nm"], cur["flag"]))
+    conv = ext.get("converged")
+    if conv:
+        ok = [bool(c) for c in conv["converged"]]
+        sources.append(table(conv["temperature_K"], conv["value_nm"],
+                             np.where(ok, "measured", "refused")))
+    order = {"measured": 0, "finite-size scaling": 1, "extrapolated": 2}
+    for p in plan.get("points") or []:
+        temp = p["temperature_K"]
+        for t, x, flag in sources:
+            ok = np.isfinite(x) & (x > 0) & (flag != "refused") & ((t > tc) == (temp > tc))
+            if ok.sum() < 2 or not t[ok].min() <= temp <= t[ok].max():
+                continue
+            ts, ls, fs = t[ok], np.log(x[ok]), flag[ok]
+            o = np.argsort(ts)
+            ts, ls, fs = ts[o], ls[o], fs[o]
+            k = int(np.clip(np.searchsorted(ts, temp), 1, ts.size - 1))
+            # neighbours in the sweep must be adjacent there: no gap across a refused value
+            p["correlation_length_nm"] = float(np.exp(np.interp(temp, ts, ls)))
+            p["correlation_length_flag"] = str(max(fs[k], fs[k - 1], key=order.get))
+            p["resolved"] = bool(p["correlation_length_nm"] > res)
+            break
+    return plan

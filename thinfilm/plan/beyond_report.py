@@ -2,7 +2,16 @@
 
 import numpy as np
 
-__all__ = ["beyond_figure", "beyond_caption", "beyond_lines"]
+__all__ = ["beyond_figure", "beyond_caption", "beyond_lines", "infinite_film_overlay",
+           "INFINITE_FILM_CURVE"]
+
+#: Legend entry and caption text of :func:`infinite_film_overlay`.
+INFINITE_FILM_CURVE = (
+    "ξ infinite film",
+    "correlation length of the infinite film (extrapolation.csv): filled where a lattice size "
+    "converged at that temperature, open where no size did and the value rests on finite-size "
+    "scaling of all sizes; the second-moment curve of the largest lattice is cut down by its "
+    "box there")
 
 BLUE, VERMILION, SKY, GREY = "#0072B2", "#D55E00", "#56B4E9", "#7F7F7F"
 
@@ -24,13 +33,24 @@ def beyond_figure(plan, path):
     t = np.asarray(cur["temperature_K"], dtype=float)
     x, e = _arr(cur["correlation_length_nm"]), _arr(cur["correlation_length_err_nm"])
     flag = np.array(cur["flag"])
+    conv = _arr(cur.get("converged_length_nm") or [None] * t.size)
+    conv_e = _arr(cur.get("converged_length_err_nm") or [None] * t.size)
     fig, (ax,) = new_figure(1, 1, 6.4, 4.6)
     for side, sel_side, mark in (("above Tc", t > tc, "o"), ("below Tc", t < tc, "s")):
         red = np.abs(t - tc) / tc
         m = sel_side & (flag == "measured")
         if m.any():
             ax.errorbar(red[m], x[m], yerr=e[m], fmt=mark, color=BLUE, ms=4,
-                        label=f"fit at lattice points, {side}")
+                        label=f"fit where a size converged, {side}")
+        f = sel_side & (flag == "finite-size scaling")
+        if f.any():
+            ax.errorbar(red[f], x[f], yerr=e[f], fmt=mark, color=BLUE, mfc="white", ms=5,
+                        label=f"finite-size scaling (no size converged), {side}")
+        c = sel_side & np.isfinite(conv) & (conv > 0)
+        if c.any():
+            ax.errorbar(red[c], conv[c], yerr=conv_e[c], fmt=mark, color=VERMILION, ms=3,
+                        mfc=VERMILION, alpha=0.8, lw=0.8,
+                        label=f"converged lattice value, {side}")
         ex = sel_side & (flag == "extrapolated")
         if ex.any():
             o = np.argsort(red[ex])
@@ -48,7 +68,8 @@ def beyond_figure(plan, path):
         ax.plot(r, a / r, ls, color=GREY, lw=1,
                 label=f"A/|t| {side} Tc: sets the window width (its position carries the error of Tc)")
     ax.axhline(res, color=VERMILION, ls="--", label=f"resolution {res:g} nm")
-    ax.axhline(plan["box_nm"] / 6, color=GREY, ls=":", label="film side / 6 (largest fitted)")
+    ax.axhline(plan["box_nm"] / 10, color=GREY, ls=":",
+               label="film side / 10 (largest sweep size)")
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set(xlabel="|T - Tc| / Tc (1)", ylabel="ξ (nm)", title="correlation length beyond the lattice")
@@ -56,12 +77,36 @@ def beyond_figure(plan, path):
     return save_png(fig, path, dpi=120)
 
 
+def infinite_film_overlay(ax, plan):
+    """Infinite-film xi at the sweep's temperatures on a lengths-against-T axis: filled where
+    measured (a size converged), open where from finite-size scaling. Returns True if drawn."""
+    cur = (plan.get("extrapolation") or {}).get("curve")
+    if not cur:
+        return False
+    t = np.asarray(cur["temperature_K"], dtype=float)
+    x, e = _arr(cur["correlation_length_nm"]), _arr(cur["correlation_length_err_nm"])
+    flag = np.asarray(cur["flag"])
+    at_sweep = np.isin(np.round(t, 6), np.round(_arr(plan["sweep_curves"]["temperature_K"]), 6))
+    drawn = False
+    for which, face in (("measured", VERMILION), ("finite-size scaling", "white")):
+        sel = at_sweep & (flag == which) & np.isfinite(x)
+        if sel.any():
+            ax.errorbar(t[sel], x[sel], yerr=e[sel], fmt="D", ms=5, color=VERMILION, mfc=face,
+                        capsize=2, lw=1,
+                        label=f"{INFINITE_FILM_CURVE[0]} ({which})")
+            drawn = True
+    return drawn
+
+
 def beyond_caption(plan):
     """Caption markdown of the figure."""
-    return ("Correlation length against the reduced distance from Tc = "
-            f"{plan['tc_K']:.4g} K on log axes. Markers: the fitted form at the sweep's "
-            "temperatures (the lattice points the fit uses have a film side of at least 6 ξ); "
-            "lines and bands: the fit ξ = A |t|^-ν (1 + c |t|) extrapolated beyond the lattice, "
+    return ("Correlation length of the infinite film against the reduced distance from Tc = "
+            f"{plan['tc_K']:.4g} K on log axes. Filled blue markers: the fitted form at sweep "
+            "temperatures where a lattice size converged (film side >= 10 ξ, or two sizes "
+            "agree); open blue markers: where no size converged and the value rests on the "
+            "finite-size scaling form ξ_L = L f(t L^(1/ν)) fitted to every size; small "
+            "vermilion markers: the converged lattice values themselves. "
+            "Lines and bands: the fit ξ = A |t|^-ν (1 + c |t|) extrapolated beyond the lattice, "
             "with one standard error (the error of Tc included); it stops where the error exceeds "
             "25 % or ξ exceeds 10 times the largest fitted value. Grey lines: the leading "
             "term A/|t| of the fit, whose crossing with the resolution gives the half-width of "
@@ -74,8 +119,14 @@ def _beyond_summary(plan):
     if not hw:
         return []
     w = max(v[0] for v in hw.values())
-    return [f"  beyond       xi > {plan['instrument']['resolution_nm']:g} nm only within about "
-            f"{w:.3g} K of Tc (extrapolated from the lattice; extrapolation.csv)"]
+    out = [f"  beyond       xi > {plan['instrument']['resolution_nm']:g} nm only within about "
+           f"{w:.3g} K of Tc (extrapolated from the lattice; extrapolation.csv)"]
+    req = (plan.get("extrapolation") or {}).get("large_lattice_request")
+    if req and req.get("commands"):
+        out.append(f"  not measured xi at {', '.join(f'{t:.5g}' for t in req['temperatures_K'])} "
+                   f"K rests on finite-size scaling; to measure it (L = {req['size']}):")
+        out += [f"               {c}" for c in req["commands"]]
+    return out
 
 
 def beyond_lines(plan):
@@ -95,14 +146,51 @@ def beyond_lines(plan):
         return out
     fit = (b.get("fits") or {}).get("correlation_length")
     if fit:
-        out.append(f"- xi (the S(k) length where it is defined, else the second moment) fitted "
-                   f"as A |t|^-nu (1 + c |t|), nu = {fit['nu']:g}, to "
-                   f"{fit['n_points']} points with film side >= 6 xi (largest used "
-                   f"{max(v for v in fit['max_used_nm'].values() if v is not None):.3g} nm); "
-                   f"values in extrapolation.csv are flagged measured / extrapolated / refused; "
-                   f"extrapolation stops where the relative error exceeds "
+        how = ("the finite-size scaling form xi_L = xi [1 - exp(-(c L/xi)^q)]^(1/q) = "
+               "L f(t L^(1/nu)) to every size (xi/L at Tc "
+               + ", ".join(f"{k} {v:.3g}" for k, v in (fit.get("xi_over_L_at_tc") or {}).items())
+               + f", q = {fit.get('crossover_q', float('nan')):.3g})"
+               if fit.get("finite_size") else "the rows converged in the film size")
+        out.append(f"- xi (second moment, S(0) from the whole run) fitted as A |t|^-nu "
+                   f"(1 + c |t|), nu = {fit['nu']:g}, A = {fit['amplitude_nm']:.3g} +- "
+                   f"{fit['amplitude_err_nm']:.2g} nm, through {how}: {fit['n_points']} points, "
+                   f"{fit.get('n_converged_rows', 0)} rows converged in size (film side >= 10 "
+                   f"xi, or two sizes agree within 2 errors). Values in extrapolation.csv are "
+                   f"flagged measured (a size converged) / finite-size scaling / extrapolated / "
+                   f"refused; extrapolation stops where the relative error exceeds "
                    f"{fit['rule']['max_rel_err']:g} or xi exceeds {fit['rule']['max_factor']:g} x "
                    f"the largest fitted value (values there are refused).")
+    used = b.get("large_lattice_used")
+    if used:
+        out.append(f"- Large-lattice points from {used['folder']} (L = {used['sizes']}, T = "
+                   f"{used['temperatures_K']} K) are part of these fits.")
+    req = b.get("large_lattice_request")
+    if req:
+        cmd = ("; ".join(f"`{c}`" for c in req["commands"]) if req.get("commands")
+               else req.get("how", ""))
+        out.append(f"- Not measured: at T = {', '.join(f'{t:.5g}' for t in req['temperatures_K'])}"
+                   f" K {req['why']}. To measure them, run L = {req['size']} (film side "
+                   f"{req['film_side_nm']:.3g} nm"
+                   + ("" if req.get("enough") else f", short of the {req['needed_side_nm']:.3g} "
+                      "nm that 10 xi needs: the two largest sizes must then agree")
+                   + f") with cluster moves: {cmd}.")
+    pts = [p for p in plan.get("points") or [] if "correlation_length_flag" in p]
+    table = []
+    if pts:
+        table += ["", "Correlation length at the schedule temperatures (the xi column of the "
+                "schedule above): the infinite film beside the largest lattice's own "
+                "kernel-smoothed value.", "",
+                "| T (K) | xi, infinite film (nm) | how | xi on the lattice (nm) |",
+                "|---|---|---|---|"]
+        for p in pts:
+            table.append(f"| {p['temperature_K']:.4g} | {p['correlation_length_nm']:.3g} | "
+                         f"{p['correlation_length_flag']} | "
+                         f"{p['correlation_length_lattice_nm']:.3g} |")
+        table.append("")
+        table.append("how: measured (interpolated between sweep temperatures where a size "
+                     "converged), finite-size scaling, extrapolated, or finite-size limited (no "
+                     "converged or scaled value reaches: the lattice's own value, cut down by "
+                     "the box).")
     w = b.get("resolved_window")
     if w:
         edges = w.get("window_K") or [None, None]
@@ -118,4 +206,4 @@ def beyond_lines(plan):
                        for s, v in hw.items()) + ".")
     if b.get("tc_note"):
         out.append(f"- Note: {b['tc_note']}.")
-    return out
+    return out + table

@@ -23,9 +23,9 @@ import numpy as np
 
 from thinfilm._io import atomic_write_text, write_json
 from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
-from thinfilm.input.errors import InputError, ScenarioError
+from thinfilm.input.errors import InputError, ScenarioError, option
 from thinfilm.input.scenario import Scenario, load_scenario
-from thinfilm.plan.beyond_lattice import beyond_lattice
+from thinfilm.plan.beyond_lattice import beyond_lattice, infinite_film_points
 from thinfilm.plan.curves import clean_json as _clean
 from thinfilm.plan.curves import crossing, fill_errors, schedule, smooth_log
 from thinfilm.plan.instrument import _quantity, instrument_values
@@ -59,22 +59,23 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
                             "list or a {start, stop, step} range (at least 5 temperatures)",
                             path=sc.source, key="temperature")
     if reuse and overwrite:
-        raise InputError("--reuse and --overwrite (reuse=True, overwrite=True) exclude each "
-                         "other: build the plan from the sweep in the folder, or delete it and "
-                         "start afresh")
+        raise InputError(f"{option('reuse')} and {option('overwrite')} exclude each other: "
+                         f"build the plan from the sweep in the folder, or delete it and start "
+                         f"afresh")
     m = read_manifest(out)
     if m is not None:
         if overwrite:
             runner(sc, out, overwrite=True, workers=workers, progress=progress)
             return "ran"
         if not reuse:
-            raise InputError(f"{out}: already holds a run (manifest.json). Pass --reuse "
-                             f"(reuse=True) to build the plan from its sweep (an unfinished sweep "
-                             f"is continued), --overwrite (overwrite=True) to delete it and start "
-                             f"afresh, or choose another folder with -o.")
+            raise InputError(f"{out}: already holds a run (manifest.json). Pass {option('reuse')} "
+                             f"to build the plan from its sweep (an unfinished sweep is "
+                             f"continued), {option('overwrite')} to delete it and start afresh, "
+                             f"or choose another folder ({option('out_dir')}).")
         if m.get("kind") != "sweep":
             raise InputError(f"{out}: holds a {m.get('kind')!r} run, not a sweep; choose another "
-                             f"folder with -o, or --overwrite to replace it")
+                             f"folder ({option('out_dir')}), or {option('overwrite')} to "
+                             f"replace it")
         stored = stored_identity(m)
         if stored is not None:
             check_identity(out, stored, scenario_identity(sc), doing="reuse")
@@ -349,7 +350,8 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     sc = _scenario(source)
     ins = instrument_values(sc, resolution, exposure, field_of_view, instrument)
     if isinstance(n_points, bool) or not isinstance(n_points, (int, np.integer)) or n_points < 3:
-        raise InputError(f"--points (n_points) {n_points!r}: must be a whole number of at least 3 temperatures")
+        raise InputError(f"{option('n_points', None)} {n_points!r}: must be a whole number of "
+                         f"at least 3 temperatures")
     if isinstance(llg_size, bool) or not isinstance(llg_size, (int, np.integer)) or llg_size < 4:
         raise InputError(f"llg_size {llg_size!r}: must be a whole number L >= 4 (L x L sites)")
     dwell_s = _quantity("dwell", dwell, "time", "5 min")
@@ -408,6 +410,7 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
                                            resolution_nm=ins["resolution_nm"],
                                            field_of_view_nm=ins["field_of_view_nm"])
     _use_extrapolated_window(plan)
+    infinite_film_points(plan)  # schedule lengths of the infinite film where known
     plan = _clean(plan)
     plan["instrument_name"] = ins["name"]
     plan["file_stem"] = f"plan-{ins['name']}" if instrument is not None else "plan"

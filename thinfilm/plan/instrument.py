@@ -1,20 +1,24 @@
 """The instrument of a heating plan: command-line values over the scenario's (named) instruments."""
 
-from thinfilm.input.errors import InputError
+from thinfilm.input.errors import InputError, option
 from thinfilm.input.units import parse_quantity
 
 __all__ = ["instrument_values"]
 
 
-def _quantity(option, text, kind, example):
+def _quantity(keyword, text, kind, example):
+    """``text`` as a positive quantity of dimension ``kind`` (SI); errors name the option as
+    the caller spells it (``--field-of-view`` on the command line, ``field_of_view`` in Python)."""
+    name = option(keyword, None)
+    eg = f'{name} "{example}"' if name.startswith("-") else f'{keyword}="{example}"'
     try:
         v = parse_quantity(text, kind)
     except ValueError as exc:
-        raise InputError(f"{option} {text!r}: {exc}. Give the value with a {kind} unit, for "
-                         f"example {option} \"{example}\".") from None
+        raise InputError(f"{name} {text!r}: {exc}. Give the value with a {kind} unit, for "
+                         f"example {eg}.") from None
     if not v > 0:
-        raise InputError(f"{option} {text!r}: must be positive; give a {kind} greater than zero, "
-                         f"for example {option} \"{example}\".")
+        raise InputError(f"{name} {text!r}: must be positive; give a {kind} greater than zero, "
+                         f"for example {eg}.")
     return v
 
 
@@ -39,30 +43,34 @@ def instrument_values(scenario, resolution=None, exposure=None, field_of_view=No
     if name is not None:
         named = {i.get("name"): i for i in getattr(scenario, "instruments", ())}
         if name not in named:
-            raise InputError(f"--instrument {name!r}: the scenario names "
+            flag = option("instrument", None)
+            raise InputError(f"{flag} {name!r}: the scenario names "
                              f"{', '.join(repr(n) for n in named if n) or 'no instruments'}; "
-                             f"give one of those names, or leave --instrument out")
+                             f"give one of those names, or leave {flag} out")
         ins = dict(named[name])
     out, src = {}, {}
     for key, opt, val, kind, ex, scale in (
-            ("resolution_nm", "--resolution", resolution, "length", "30 nm", 1e9),
-            ("exposure_s", "--exposure", exposure, "time", "10 ms", 1.0),
-            ("field_of_view_nm", "--field-of-view", field_of_view, "length", "5 um", 1e9)):
+            ("resolution_nm", "resolution", resolution, "length", "30 nm", 1e9),
+            ("exposure_s", "exposure", exposure, "time", "10 ms", 1.0),
+            ("field_of_view_nm", "field_of_view", field_of_view, "length", "5 um", 1e9)):
         if val is not None:
             out[key], src[key] = _quantity(opt, val, kind, ex) * scale, "command line"
         elif key in ins:
             out[key], src[key] = float(ins[key]), "scenario"
         elif key != "field_of_view_nm":
             what = "resolution" if key == "resolution_nm" else "exposure"
-            raise InputError(f"no instrument {what}: give {opt} with a unit, e.g. {opt} \"{ex}\", "
+            flag = option(opt, None)
+            eg = f'{flag} "{ex}"' if flag.startswith("-") else f'{opt}="{ex}"'
+            raise InputError(f"no instrument {what}: give {flag} with a unit, e.g. {eg}, "
                              f"or set instrument.{what} in the scenario.")
         else:
             out[key] = None
     fov = out["field_of_view_nm"]
     if fov is not None and out["resolution_nm"] >= fov:
-        raise InputError(f"--resolution ({out['resolution_nm']:g} nm) must be smaller than "
-                         f"--field-of-view ({fov:g} nm): the instrument cannot resolve anything "
-                         f"inside its own view. Check the units of both values.")
+        raise InputError(f"{option('resolution', None)} ({out['resolution_nm']:g} nm) must be "
+                         f"smaller than {option('field_of_view', None)} ({fov:g} nm): the "
+                         f"instrument cannot resolve anything inside its own view. Check the "
+                         f"units of both values.")
     out["source"] = src
     out["name"] = ins.get("name")
     return out

@@ -10,10 +10,12 @@ import shlex
 import numpy as np
 
 from thinfilm.plan.beyond_report import (
+    INFINITE_FILM_CURVE,
     _beyond_summary,
     beyond_caption,
     beyond_figure,
     beyond_lines,
+    infinite_film_overlay,
 )
 
 __all__ = ["resolved_note", "timescale_note", "command", "figures", "markdown", "summary_text",
@@ -170,6 +172,8 @@ def _captions(plan):
         ("resolution", f"instrument resolution, {ins['resolution_nm']:g} nm"),
         ("view limit", "the smaller of the field of view and the simulated film side, "
          f"{plan['view_limit_nm']:.3g} nm")]
+    if (plan.get("extrapolation") or {}).get("curve"):
+        curves.insert(1, INFINITE_FILM_CURVE)
     return {
         f"{_stem(plan)}_xi.png": f"Lengths of the simulated film (scenario {plan['scenario']}, lattice size "
         f"L = {plan['size']}) against the temperature, with the instrument limits. {common}\n\n"
@@ -227,6 +231,7 @@ def figures(plan, out):
                                 alpha=0.2, lw=0)
                 ax.plot(ct[sel], cx[sel], "-", color=BLUE, lw=1, label=label)
                 label = None
+    infinite_film_overlay(ax, plan)  # issue 27: what the box cuts down, marked
     _band(ax, plan)
     ax.set_yscale("log")
     ax.set(xlabel="T (K)", ylabel="length (nm)", title=f"{name}: lengths, L = {plan['size']}")
@@ -240,6 +245,7 @@ def figures(plan, out):
     ax.plot([p["temperature_K"] for p in plan["points"]],
             [p["fluctuation_time_ps"] for p in plan["points"]], "x", color=ORANGE,
             label="schedule (interpolated)")
+    infinite_film_overlay(ax, plan)  # issue 27: what the box cuts down, marked
     _band(ax, plan)
     ax.set_yscale("log")
     exp_ps = ins["exposure_s"] * 1e12

@@ -8,21 +8,13 @@ from typing import NamedTuple
 import numpy as np
 
 from thinfilm.input.errors import InputError
-from thinfilm.render.frames import (
-    COLOURS,
-    colour_frame,
-    draw_label,
-    draw_scale_bar,
-    grey_frame,
-    site_index_map,
-)
+from thinfilm.render.frames import COLOURS
+from thinfilm.render.painter import Painter
 from thinfilm.render.rundir import iter_snapshots, load_snapshot, read_json
 
 __all__ = ["write_movie", "MovieInfo"]
 
 SHAPES = ("square", "triangular", "honeycomb")
-_MIN_WIDTH_PX = 256  # default smallest map width, so burned-in text stays legible
-_GAP_PX = 4  # black gap between the map and the instrument view
 
 
 class MovieInfo(NamedTuple):
@@ -62,156 +54,6 @@ def _as_frame(item, spacing_nm):
     return fr
 
 
-class _Painter:
-    """Fixed geometry of one movie: turns a frame dict into an even-sized RGB array."""
-
-    def __init__(self, first, *, colour, size, axis, scale_bar_nm, instrument, labels):
-        s = first["spins"]
-        self.grid = s.shape
-        self.shape, self.periodic = first["shape"], bool(first["periodic"])
-        self.box = np.asarray(first["box_nm"], dtype=np.float64)
-        ny, nx = s.shape[:2]
-        self.colour, self.axis, self.labels = colour, axis, labels
-        self.scale_bar_nm = scale_bar_nm
-        if size is not None and not (isinstance(size, (int, np.integer)) and size > 0):
-            raise InputError(
-                f"size must be a positive whole number of pixels (map width); got {size!r}."
-            )
-        self.index_map = None
-        if self.shape == "square":
-            k = max(1, round(size / nx)) if size else max(1, -(-_MIN_WIDTH_PX // nx))
-            self.pixel_nm = self.box[0] / nx / k
-        else:
-            if "positions_nm" not in first:
-                raise InputError(
-                    f"A {self.shape} snapshot needs 'positions_nm' to be drawn at true positions."
-                )
-            self.pos = np.asarray(first["positions_nm"], dtype=np.float64)
-            self.pixel_nm = (
-                self.box[0] / size
-                if size
-                else min(0.5 * self.box[0] / nx, self.box[0] / _MIN_WIDTH_PX)
-            )
-            self.index_map = site_index_map(
-                self.pos, self.box, self.pixel_nm, periodic=self.periodic
-            )
-        self.instrument = None
-        if instrument is not None:
-            self._setup_instrument(first, instrument)
-
-    def _setup_instrument(self, first, inst):
-        if not isinstance(inst, Mapping) or "fwhm_nm" not in inst:
-            raise InputError(
-                "instrument must be a dict with 'fwhm_nm' (resolution, nm) and optionally "
-                "'pixel_nm' (nm), 'noise' (std of added noise, m_z units) and 'seed'; "
-                f"got {inst!r}."
-            )
-        fwhm = float(inst["fwhm_nm"])
-        pix = float(inst.get("pixel_nm", fwhm / 2))
-        noise = float(inst.get("noise", 0.0))
-        if not (fwhm > 0 and pix > 0 and noise >= 0):
-            raise InputError(
-                f"instrument needs fwhm_nm > 0, pixel_nm > 0 and noise >= 0; got {dict(inst)!r}."
-            )
-        if "positions_nm" in first:
-            pos = np.asarray(first["positions_nm"], dtype=np.float64)
-        else:
-            ny, nx = self.grid[:2]
-            a = self.box[0] / nx
-            i, j = np.meshgrid(np.arange(ny), np.arange(nx), indexing="ij")
-            pos = np.stack([j * a, i * a], axis=-1).astype(np.float64)
-        self.inst_pos = pos
-        self.instrument = {
-            "fwhm_nm": fwhm,
-            "pixel_nm": pix,
-            "noise": noise,
-            "rng": np.random.default_rng(int(inst.get("seed", 0))),
-        }
-        self.inst_map = None
-
-    def _instrument_image(self, field):
-        p = self.instrument
-        try:
-            from thinfilm.analysis.instrument import instrument_view
-        except ImportError:
-            instrument_view = None
-        if instrument_view is not None:
-            img, _ = instrument_view(
-                field,
-                self.inst_pos,
-                self.box,
-                pixel_nm=p["pixel_nm"],
-                fwhm_nm=p["fwhm_nm"],
-                noise=p["noise"],
-                rng=p["rng"],
-                periodic=self.periodic,
-            )
-            return np.asarray(img, dtype=np.float64)
-        # fallback until thinfilm.imaging exists: nearest-site raster, Gaussian blur, noise.
-        from scipy.ndimage import gaussian_filter
-
-        if self.inst_map is None:
-            self.inst_map = site_index_map(
-                self.inst_pos, self.box, p["pixel_nm"], periodic=self.periodic
-            )
-        img = field.ravel()[self.inst_map]
-        # Gaussian FWHM = 2 sqrt(2 ln 2) sigma (definition of the normal distribution's FWHM)
-        sigma_px = p["fwhm_nm"] / (2.0 * np.sqrt(2.0 * np.log(2.0))) / p["pixel_nm"]
-        img = gaussian_filter(img, sigma_px, mode="wrap" if self.periodic else "nearest")
-        if p["noise"] > 0:
-            img = img + p["rng"].normal(0.0, p["noise"], img.shape)
-        return img
-
-    def paint(self, fr):
-        s = fr["spins"]
-        if s.shape != self.grid:
-            src = fr.get("source", "a frame")
-            raise InputError(
-                f"{src}: spins have shape {s.shape} but the first frame had {self.grid}; "
-                "all frames of one movie must come from the same lattice."
-            )
-        img = colour_frame(
-            s,
-            colour=self.colour,
-            shape=self.shape,
-            box_nm=self.box,
-            pixel_nm=self.pixel_nm if self.shape == "square" else None,
-            index_map=self.index_map,
-            axis=self.axis,
-        )
-        if self.scale_bar_nm is not False:
-            draw_scale_bar(img, self.pixel_nm, length_nm=self.scale_bar_nm)
-        if self.labels:
-            th = max(10, img.shape[0] // 24)
-            y = max(4, th // 2)  # room above the first line for its box and accents
-            for text in _frame_text(fr):
-                _, h = draw_label(img, text, (max(2, th // 4), y), height_px=th)
-                y += h + 1
-        if self.instrument is not None:
-            field = s @ (np.asarray(self.axis, float) / np.linalg.norm(self.axis))
-            inst = grey_frame(self._instrument_image(field))
-            h = img.shape[0]
-            w = max(1, int(round(inst.shape[1] * h / inst.shape[0])))
-            rows = np.minimum((np.arange(h) * inst.shape[0]) // h, inst.shape[0] - 1)
-            cols = np.minimum((np.arange(w) * inst.shape[1]) // w, inst.shape[1] - 1)
-            inst = np.ascontiguousarray(inst[rows][:, cols])
-            if self.scale_bar_nm is not False:
-                draw_scale_bar(inst, self.box[0] / w, length_nm=self.scale_bar_nm)
-            th = max(10, h // 24)
-            draw_label(
-                inst,
-                f"FWHM {self.instrument['fwhm_nm']:g} nm",
-                (max(2, th // 4), max(2, th // 4)),
-                height_px=th,
-            )
-            img = np.concatenate([img, np.zeros((h, _GAP_PX, 3), np.uint8), inst], axis=1)
-        # H.264 with yuv420p needs even width and height: pad one black row/column if odd
-        ph, pw = img.shape[0] % 2, img.shape[1] % 2
-        if ph or pw:
-            img = np.pad(img, ((0, ph), (0, pw), (0, 0)))
-        return np.ascontiguousarray(img)
-
-
 def _manifest_instrument(manifest, where):
     ins = manifest.get("instrument") or {}
     if "resolution_nm" not in ins:
@@ -225,15 +67,34 @@ def _manifest_instrument(manifest, where):
     return out
 
 
-def _frame_text(fr):
-    out = []
-    if fr.get("time_ps") is not None:
-        out.append(f"t = {float(fr['time_ps']):.2f} ps")
-    if fr.get("temperature_K") is not None:
-        out.append(f"T = {float(fr['temperature_K']):.1f} K")
-    if fr.get("label"):
-        out.append(str(fr["label"]))
-    return out
+REVERSE_OVERLAP = 0.1
+
+
+def _continuous_sign(frames, axis):
+    """Frames with the sign of the picture kept from frame to frame: a frame whose order-axis
+    field overlaps the previous shown frame negatively (normalised overlap sum_i f_prev,i f_i /
+    (|f_prev| |f|) below -REVERSE_OVERLAP: the net magnetisation changed sign, as after a cluster
+    move that reverses the film) is shown as -S, the state of the same energy in zero field, and
+    marked ``reversed``. Uncorrelated frames (overlap ~ 1/sqrt(N)) are left as they are."""
+    n = np.asarray(axis, dtype=np.float64) / np.linalg.norm(axis)
+    prev = None
+    for fr in frames:
+        f = fr["spins"] @ n
+        norm = float(np.linalg.norm(prev) * np.linalg.norm(f)) if prev is not None else 0.0
+        if (prev is not None and prev.shape == f.shape and norm > 0
+                and float(np.vdot(prev, f)) < -REVERSE_OVERLAP * norm):
+            fr = dict(fr, spins=-fr["spins"], reversed=True)
+            f = -f
+        prev = f
+        yield fr
+
+
+def _with_in_plane(fr):
+    if fr.get("components") == "axis":
+        raise InputError(f"{fr.get('source', 'a snapshot')}: keeps only the order-axis component "
+                         f"of the spins (a heating sequence's frames), so it has no in-plane "
+                         f"angle; use colour='mz'")
+    return fr
 
 
 def _encoder(tmp, width, height, fps, gif, quality):
@@ -275,6 +136,8 @@ def write_movie(
     labels=True,
     quality=7,
     progress=None,
+    continuous_sign=None,
+    grain_boundaries=False,
 ):
     """Write a movie of spin states, one frame per snapshot, streamed to the encoder.
 
@@ -319,6 +182,15 @@ def write_movie(
         H.264 quality 1..10 (imageio-ffmpeg scale: CRF = int(51 (1 - quality / 10)), 7 = CRF 15).
     progress : callable, optional
         Called with the number of frames written so far after each frame.
+    continuous_sign : bool, optional
+        Keep the picture's sign from frame to frame: a frame whose order component overlaps
+        the previous one negatively (a cluster move or an independent sample reversed the
+        film) is shown as -S and labelled "shown reversed (-S)". Only in zero field, where -S
+        has the same energy. Default: on for Monte Carlo frames (a sweep or a heating
+        sequence) in zero field, off for dynamics.
+    grain_boundaries : bool
+        Darken the sites at grain boundaries (a run folder with ``grains.npz``, written by a
+        heating sequence of a film with grains).
 
     Returns
     -------
@@ -351,12 +223,32 @@ def write_movie(
         )
 
     manifest = {}
+    monte_carlo = False
+    grain_id = None
     if isinstance(run_dir_or_frames, (str, os.PathLike)):
         paths = iter_snapshots(run_dir_or_frames, source=source, lattice_size=lattice_size)
         manifest = read_json(Path(run_dir_or_frames) / "manifest.json") or {}
+        kind = manifest.get("kind")
+        sweep_frames = bool(paths) and paths[0].name == "final.npz"
+        monte_carlo = kind == "sequence" or (sweep_frames and manifest.get("method") != "llg")
         frames = (load_snapshot(p) for p in paths)
+        if monte_carlo:  # Monte Carlo frames have no physical time
+            frames = ({k: v for k, v in fr.items() if k != "time_ps"} for fr in frames)
+        if grain_boundaries:
+            gp = Path(run_dir_or_frames) / "grains.npz"
+            if not gp.is_file():
+                raise InputError(f"grain_boundaries: {gp} does not exist; it is written by a "
+                                 f"heating sequence of a film with grains")
+            with np.load(gp) as z:
+                grain_id = np.asarray(z["grain_id"])
+        if continuous_sign is None:
+            field = np.asarray((manifest.get("scenario") or {}).get("field_T", (0, 0, 0)),
+                               dtype=np.float64)
+            continuous_sign = (monte_carlo or sweep_frames) and not np.any(field)
     else:
         frames = iter(run_dir_or_frames)
+        if grain_boundaries:
+            raise InputError("grain_boundaries needs a run folder (with grains.npz), not frames")
     if axis is None:
         axis = ((manifest.get("scenario") or {}).get("material") or {}).get("axis", (0, 0, 1))
     axis = np.asarray(axis, dtype=np.float64)
@@ -365,12 +257,16 @@ def write_movie(
     if instrument is True:
         instrument = _manifest_instrument(manifest, run_dir_or_frames)
     frames = (_as_frame(f, spacing_nm) for f in frames)
+    if colour == "angle":
+        frames = (_with_in_plane(f) for f in frames)
+    if continuous_sign:
+        frames = _continuous_sign(frames, axis)
     try:
         first = next(frames)
     except StopIteration:
         raise InputError("No frames to write: the frame sequence is empty.") from None
 
-    painter = _Painter(
+    painter = Painter(
         first,
         colour=colour,
         size=size,
@@ -378,6 +274,7 @@ def write_movie(
         scale_bar_nm=scale_bar_nm,
         instrument=instrument,
         labels=labels,
+        grain_id=grain_id,
     )
     img = painter.paint(first)
     height, width = img.shape[:2]

@@ -23,23 +23,21 @@ def load_snapshot(path):
     InputError
         When the file is missing, unreadable or lacks the ``spins`` array.
     """
+    from thinfilm.runs.folder import load_snapshot as read_snapshot
+
     path = Path(path)
+    if not path.is_file():
+        raise InputError(f"Snapshot file {path} does not exist.")
     try:
-        with np.load(path, allow_pickle=False) as z:
-            data = {k: z[k] for k in z.files}
-    except FileNotFoundError:
-        raise InputError(f"Snapshot file {path} does not exist.") from None
+        data = read_snapshot(path)  # both snapshot layouts; positions from lattice.npz
+    except InputError:
+        raise
     except Exception as exc:  # zip/format errors from numpy
         raise InputError(
             f"Snapshot file {path} is not a readable .npz file ({exc}); snapshots are "
             "NumPy .npz archives with at least a 'spins' array of shape (ny, nx, 3)."
         ) from None
-    if "spins" not in data:
-        raise InputError(
-            f"Snapshot file {path} has no 'spins' array (found: {', '.join(data) or 'nothing'}); "
-            "each snapshot needs 'spins' of shape (ny, nx, 3)."
-        )
-    out = {"spins": np.asarray(data["spins"], dtype=np.float64), "source": path}
+    out = {"spins": data["spins"], "source": path, "components": data["components"]}
     for key in ("positions_nm", "box_nm", "field_T"):
         if key in data:
             out[key] = np.asarray(data[key], dtype=np.float64)
@@ -48,6 +46,8 @@ def load_snapshot(path):
             out[key] = float(data[key])
     if "label" in data:
         out["label"] = str(data["label"])
+    if "axis" in data:
+        out["axis"] = np.asarray(data["axis"], dtype=np.float64)
     out["shape"] = str(data["shape"]) if "shape" in data else "square"
     out["periodic"] = bool(data["periodic"]) if "periodic" in data else True
     return out

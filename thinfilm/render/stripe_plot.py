@@ -1,4 +1,5 @@
-"""PNG figure of a stripe table: stripe periods, stripe order and |m_z| against temperature."""
+"""PNG figure of a stripe table: stripe periods, stripe order, |m_z| and the in-plane
+magnetisation against temperature."""
 
 from pathlib import Path
 
@@ -27,6 +28,8 @@ PANELS = (
     ("mean_abs_m_axis", "⟨|m_z|⟩", ("⟨|m_z|⟩", "per spin", "mean of |S·n| over the sites: "
                                     "1 in saturated perpendicular domains, 0.5 for random "
                                     "directions, lower when the moments turn into the plane")),
+    ("m_inplane", "m_⊥", ("m_⊥", "per spin", "length of the net in-plane magnetisation "
+                          "√(m_x² + m_y²) of the film")),
 )
 
 
@@ -65,6 +68,7 @@ def plot_stripes(csv_path, out_dir, *, name="stripes_vs_temperature.png"):
         shared_legend(fig, where="upper")
     axes[1].set_ylim(0, 1)
     axes[2].set_ylim(0, 1.05)
+    axes[3].set_ylim(0, 1.05)
     axes[-1].set_xlabel("T (K)")
     png = save_png(fig, Path(out_dir) / name)
     write_captions(out_dir, {png.name: "Stripe pattern of the heating ramp, one point per "
@@ -73,5 +77,10 @@ def plot_stripes(csv_path, out_dir, *, name="stripes_vs_temperature.png"):
                              "domains are intact and a falling λ̄ means narrower domains; once "
                              "the pattern has broken up (⟨|m_z|⟩ near 0.5, Q near 0) λ is the "
                              "modulation length of the fluctuating film (the ring of S(k)), "
-                             "not the width of domains.\n\n" + definition_list(items)})
+                             "not the width of domains. m_⊥: the moments cant out of the "
+                             "perpendicular axis (⟨|m_z|⟩ below 1) and their in-plane parts "
+                             "line up in one direction, since an in-plane magnetisation of a "
+                             "thin film costs no dipolar energy; it grows on heating as the "
+                             "effective anisotropy falls towards the reorientation into the "
+                             "plane.\n\n" + definition_list(items)})
     return [png]

@@ -151,28 +151,120 @@ def _has(table, col):
     return col in table and np.isfinite(table[col]).any()
 
 
+#: Values of positive lengths spanning more than this factor are drawn on a log axis.
+LOG_SPAN = 30.0
+
+
+def _length_panel(ax, table, col, transform=None, limited=None):
+    """Error-bar curves of a length against T, one per size, that say where it is missing.
+
+    Filled markers: converged in the film size (or no flag in the table); open markers:
+    finite-size limited (``limited`` True for the row). A value of 0 (the second moment where
+    noise puts S(0) at or below S(k_min)) is drawn as a downward triangle at its error (an
+    upper bound); a NaN value as a cross on the bottom edge. Returns counts {"limited",
+    "zero", "undefined"} of rows drawn that way and "values" (the positive values drawn), or
+    None when the column is missing.
+    """
+    from matplotlib.transforms import blended_transform_factory
+
+    ax.set_xlabel(T_LABEL)
+    if col not in table:
+        note(ax, f"no '{col}' data in observables.csv")
+        return None
+    counts = {"limited": 0, "zero": 0, "undefined": 0}
+    edge = blended_transform_factory(ax.transData, ax.transAxes)
+    positive = []
+    for k, (size, sel) in enumerate(_by_size(table)):
+        t, y = table["temperature_K"][sel], table[col][sel]
+        err = table.get(col + "_err")
+        err = err[sel] if err is not None else np.full(y.shape, np.nan)
+        if transform is not None:
+            y, err = transform(y, err)
+            err = np.full(y.shape, np.nan) if err is None else err
+        lim = np.zeros(y.shape, bool) if limited is None else limited[sel]
+        o = np.argsort(t)
+        t, y, err, lim = t[o], y[o], err[o], lim[o]
+        colour, marker = OKABE_ITO[k % 8], MARKERS[k % 8]
+        label = f"L = {size}" if size is not None else None
+        ok = np.isfinite(y) & (y > 0)
+        positive.append(y[ok])
+        ax.plot(t[ok], y[ok], color=colour, lw=1.2, label=label)
+        for mask, face in ((ok & ~lim, colour), (ok & lim, "white")):
+            if mask.any():
+                ax.errorbar(t[mask], y[mask], yerr=np.where(np.isfinite(err[mask]), err[mask], 0),
+                            fmt=marker, color=colour, mfc=face, ms=4.5, capsize=2, lw=1.0)
+        counts["limited"] += int((ok & lim).sum())
+        zero = np.isfinite(y) & (y <= 0) & np.isfinite(err) & (err > 0)
+        if zero.any():
+            ax.plot(t[zero], err[zero], "v", color=colour, mfc="white", ms=5)
+            positive.append(err[zero])
+            counts["zero"] += int(zero.sum())
+        nan = ~np.isfinite(y)
+        if nan.any():
+            ax.plot(t[nan], np.full(nan.sum(), 0.03), "x", color=colour, ms=6, mew=1.5,
+                    transform=edge, clip_on=False)
+            counts["undefined"] += int(nan.sum())
+    counts["values"] = np.concatenate(positive) if positive else np.array([])
+    if not counts["values"].size:
+        note(ax, f"'{col}' is undefined at every point (crosses)")
+    return counts
+
+
+def _marks_caption(counts, undefined_why):
+    """Caption sentences for the marks of :func:`_length_panel` that the figure holds."""
+    out = []
+    if counts["limited"]:
+        out.append("Open markers: finite-size limited (the film side is below 10 x the length "
+                   "and the next larger size disagrees or is missing): a length of that film, "
+                   "cut down by its box, not of the infinite film; filled markers: converged in "
+                   "the film size (observables.csv correlation_length_converged).")
+    if counts["zero"]:
+        out.append("Downward triangles: the second moment is 0 there (noise put S(0) at or "
+                   "below S(k_min): the length is below what the samples resolve); drawn at "
+                   "its error, an upper bound.")
+    if counts["undefined"]:
+        out.append("Crosses on the bottom edge: undefined at that temperature and size, "
+                   + undefined_why)
+    return (" " + " ".join(out)) if out else ""
+
+
+UNDEFINED_WHY = (
+    "for the second moment where S(k_min) = 0 (a uniform film) or on open edges where C(r) has "
+    "no positive moment (point.json second_moment_undefined gives the reason per point); for "
+    "the fit of S(k) where the small-k modes give no positive slope and intercept of 1/S "
+    "against k^2 (the film is ordered or xi is below the spacing); for the domain diameter "
+    "where no snapshot has a domain boundary. Points without error bars have an undefined "
+    "error (fewer than two snapshots or blocks, or a jackknife replicate where the fit is "
+    "undefined).")
+
+
 def _lengths(table, tc, units, resolution_nm, path):
     fig, axes = new_figure(1, 3, 4.2, 3.6, sharex=True)
     xi_unit, xi_def = split_unit(units.get("correlation_length_nm"), "nm")
     sk_unit, sk_def = split_unit(units.get("correlation_length_sk_nm"), "nm")
     ins_def = split_unit(units.get("correlation_length_instrument_nm"), "nm")[1]
     a_def = split_unit(units.get("mean_domain_area_nm2"), "nm^2")[1]
-    ok = _curves(axes[0], table, "correlation_length_nm", tc, rf"$\xi$ ({xi_unit})")
-    ok += _curves(axes[1], table, "correlation_length_sk_nm", tc, rf"$\xi$ ({sk_unit})")
-    ok += _curves(axes[2], table, "mean_domain_area_nm2", tc, "d (nm)",
-                  transform=_equivalent_diameter)
-    for ax, title in zip(axes, ("ξ, second moment", "ξ, fit of S(k)", "domain diameter"),
-                         strict=True):
+    conv = table.get("correlation_length_converged")
+    limited = None if conv is None else conv == 0
+    drawn = [_length_panel(axes[0], table, "correlation_length_nm", limited=limited),
+             _length_panel(axes[1], table, "correlation_length_sk_nm", limited=limited),
+             _length_panel(axes[2], table, "mean_domain_area_nm2",
+                           transform=_equivalent_diameter)]
+    for ax, title, unit in zip(axes, ("ξ, second moment", "ξ, fit of S(k)", "domain diameter"),
+                               (xi_unit, sk_unit, "nm"), strict=True):
         ax.set_title(title, fontsize=10)
-    if not ok:
+        ax.set_ylabel(("d" if title.startswith("domain") else r"$\xi$") + f" ({unit})")
+    if all(d is None for d in drawn):
         return None
+    counts = {k: sum(d[k] for d in drawn if d) for k in ("limited", "zero", "undefined")}
     lines = [("ξ, second moment", xi_unit, xi_def or "second-moment correlation length")]
     if _has(table, "correlation_length_instrument_nm"):
         for k, (_size, sel) in enumerate(_by_size(table)):
             t = table["temperature_K"][sel]
             o = np.argsort(t)
-            axes[0].plot(t[o], table["correlation_length_instrument_nm"][sel][o], ls="--",
-                         color=OKABE_ITO[k % 8], lw=1.0)
+            yi = table["correlation_length_instrument_nm"][sel][o]
+            keep = np.isfinite(yi) & (yi > 0)
+            axes[0].plot(t[o][keep], yi[keep], ls="--", color=OKABE_ITO[k % 8], lw=1.0)
         # one legend entry for the dashed curves of every size
         axes[0].plot([], [], ls="--", color="0.4", lw=1.0, label="instrument view (dashed)")
         lines.append(("ξ, instrument view (dashed, same colour per size)", "nm",
@@ -187,11 +279,26 @@ def _lengths(table, tc, units, resolution_nm, path):
                 ax.axhline(float(resolution_nm), color="#000000", ls=":", lw=1.5,
                            label=f"resolution {float(resolution_nm):g} nm")
         res = f" Dotted horizontal line: the instrument resolution ({float(resolution_nm):g} nm)."
-    for ax in axes:
+    for ax, d in zip(axes, drawn, strict=True):
+        vals = np.array([]) if d is None else d["values"]
+        if resolution_nm is not None and vals.size:
+            vals = np.append(vals, float(resolution_nm))
+        if vals.size and vals.max() > LOG_SPAN * vals.min():
+            ax.set_yscale("log")
         if ax.lines or ax.collections:
             _mark_tc(ax, tc)
+    for n, mark, face, text in ((counts["limited"], "o", "white", "open: finite-size limited"),
+                                (counts["zero"], "v", "white", "0 (at its error, an upper bound)"),
+                                (counts["undefined"], "x", "0.3", "undefined")):
+        if n:  # one legend entry per kind of mark, in grey (colours are the sizes)
+            axes[0].plot([], [], mark, color="0.3", mfc=face, ms=5, label=text)
     shared_legend(fig)
-    caption = (f"Lengths against the temperature T (K), {SIZES}.{res}{_tc_caption(tc)}\n\n"
+    logs = [t for ax, t in zip(axes, ("ξ, second moment", "ξ, fit of S(k)", "d"), strict=True)
+            if ax.get_yscale() == "log"]
+    log_text = (f" Logarithmic length axis ({', '.join(logs)}): the values (with the "
+                f"resolution line) span more than a factor {LOG_SPAN:g}." if logs else "")
+    caption = (f"Lengths against the temperature T (K), {SIZES}.{res}{_tc_caption(tc)}"
+               f"{log_text}{_marks_caption(counts, UNDEFINED_WHY)}\n\n"
                + definition_list(lines))
     return save_png(fig, path), caption
 

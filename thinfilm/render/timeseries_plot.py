@@ -16,7 +16,7 @@ COMPONENTS = {"mx": ("$m_x$", "m_x"), "my": ("$m_y$", "m_y"), "mz": ("$m_z$", "m
               "m_axis": (r"$m_\parallel$", "m_∥")}
 
 
-def plot_timeseries(run_dir, out_dir=None):
+def plot_timeseries(run_dir, out_dir=None, *, caption=None):
     """Plot ``timeseries.csv`` of a dynamics run: magnetisation components and energy vs time.
 
     Parameters
@@ -26,6 +26,8 @@ def plot_timeseries(run_dir, out_dir=None):
         optionally temperature_K, drawn when it changes).
     out_dir : path, optional
         Where to write the PNG and ``captions.md`` (default ``run_dir/plots``).
+    caption : str, optional
+        Text added to the figure's caption (what the curves of this run show).
 
     Returns
     -------
@@ -61,6 +63,14 @@ def plot_timeseries(run_dir, out_dir=None):
         if "m_axis" in comps:
             items.append(("m_∥ (dashed)", "per spin", "mean spin component along the order "
                           "(anisotropy) axis"))
+            if all(c in tab for c in ("mx", "my", "mz")):
+                perp = np.sqrt(np.maximum(tab["mx"] ** 2 + tab["my"] ** 2 + tab["mz"] ** 2
+                                          - tab["m_axis"] ** 2, 0.0))
+                axes[0].plot(t, perp, color=OKABE_ITO[len(comps)], lw=1.2, ls=":",
+                             label=r"$m_\perp$")
+                items.append(("m_⊥ (dotted)", "per spin", "length of the net magnetisation "
+                              "perpendicular to the order axis (m_inplane of a perpendicular "
+                              "film): √(|m|² − m_∥²)"))
     else:
         note(axes[0], "no mx, my, mz columns in timeseries.csv")
     e_unit = split_unit(units.get("energy_meV"), "meV per spin")[0]
@@ -79,6 +89,6 @@ def plot_timeseries(run_dir, out_dir=None):
     shared_legend(fig, where="upper")
     out_dir = Path(out_dir) if out_dir is not None else run_dir / "plots"
     png = save_png(fig, out_dir / "timeseries.png")
-    write_captions(out_dir, {png.name: "Time series of a dynamics run.\n\n"
-                             + definition_list(items)})
+    text = "Time series of a dynamics run." + (f" {caption.strip()}" if caption else "")
+    write_captions(out_dir, {png.name: text + "\n\n" + definition_list(items)})
     return [png]

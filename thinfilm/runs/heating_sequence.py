@@ -6,12 +6,17 @@ is sampled by its own MonteCarlo with a seed derived from (scenario seed, frame 
 interrupted sequence resumed from its last snapshot gives the same frames bit for bit.
 
 The folder is a run folder (``manifest.json`` of kind ``sequence``, ``snapshots/*.npz`` with
-``temperature_K`` and a ``label``) that :func:`thinfilm.render.movie.write_movie` reads.
+``temperature_K`` and a ``label``) that :func:`thinfilm.render.movie.write_movie` reads. The
+snapshots keep the order-axis component ``m_axis`` only (float32, a third of all three
+components: what the movie and the domain analysis use); ``checkpoint.npz`` keeps the full state
+after each frame for a resume and is removed when the sequence has finished.
 """
 
 import numpy as np
 from tqdm import tqdm
 
+from thinfilm._io import write_npz
+from thinfilm.analysis.thermo import integrated_autocorrelation_time
 from thinfilm.engines.select import make_monte_carlo
 from thinfilm.engines.stochastic_llg import initial_spins
 from thinfilm.input.errors import InputError
@@ -29,13 +34,43 @@ def _frame_name(k):
 
 
 def _last_frame(folder, n_frames):
-    """Index, spins and Gaussian step width of the last snapshot written (resume)."""
+    """Index, spins and Gaussian step width after the last frame written (resume): from the
+    checkpoint, else (a sequence written before checkpoints) from the last float64 snapshot."""
+    ck = folder.read_checkpoint()
+    if ck is not None and "frame" in ck:
+        k = int(ck["frame"])
+        if (folder.path / "snapshots" / f"{_frame_name(k)}.npz").is_file():
+            return k, np.array(ck["spins"], dtype=np.float64), float(ck["mc_sigma"])
     for k in range(n_frames - 1, -1, -1):
         p = folder.path / "snapshots" / f"{_frame_name(k)}.npz"
         if p.is_file():
             with np.load(p) as z:
-                return k, np.array(z["spins"]), float(z["mc_sigma"])
+                if "spins" in z.files and z["spins"].dtype == np.float64:
+                    return k, np.array(z["spins"]), float(z["mc_sigma"])
+            break
     return -1, None, 0.5
+
+
+def _sampling(folder, temps, frames, between):
+    """Per temperature: tau_int of the order parameter (sweeps, Sokal's window over the sweeps
+    after the warm-up) and how many tau_int separate the frames; NaN where the series is too
+    short to say (fewer than 20 sweeps, or tau_int above a fifth of the series)."""
+    out = []
+    for ti, t in enumerate(temps):
+        x = []
+        for fi in range(frames):
+            p = folder.path / "snapshots" / f"{_frame_name(ti * frames + fi)}.npz"
+            with np.load(p) as z:
+                if "m_order_series" in z.files:
+                    x.append(np.asarray(z["m_order_series"], dtype=np.float64))
+        x = np.concatenate(x) if x else np.zeros(0)
+        tau = integrated_autocorrelation_time(x) if x.size >= 20 else float("nan")
+        if not tau <= x.size / 5:
+            tau = float("nan")
+        out.append({"temperature_K": t, "sweeps_sampled": int(x.size),
+                    "tau_int_sweeps": tau, "sweeps_between_frames_over_tau": between / tau,
+                    "mean_m_order": float(x.mean()) if x.size else float("nan")})
+    return out
 
 
 def run_heating_sequence(scenario, out_dir, *, size, temperatures_K, frames=3, between=20,
@@ -96,6 +131,8 @@ def _frames(sc, model, params, lat, folder, temps, frames, between, warmup, resu
     done, spins, sigma = _last_frame(folder, n_frames) if resume else (-1, None, 0.5)
     if spins is None:
         spins = initial_spins(lat, "up", axis=model.axis)
+    if params is not None and params.grain_id is not None:  # for the movie's grain boundaries
+        write_npz(folder.file("grains.npz"), grain_id=params.grain_id)
     folder.write_manifest(manifest)
     bar = tqdm(total=n_frames, initial=done + 1, unit="frame", desc="heating sequence",
                disable=(not progress) or None, leave=False)
@@ -106,13 +143,19 @@ def _frames(sc, model, params, lat, folder, temps, frames, between, warmup, resu
                                   initial_spins=spins, sigma=sigma, stream=5, **mc_options)
             if fi == 0:
                 mc.warmup(int(warmup))
-            mc.sweep(int(between))
+            # one sample per sweep: the order parameter's series for tau_int at this temperature
+            series = mc.run(0, int(between), 1, tune=False)["m_order"]
             spins, sigma = mc.spins.copy(), mc.sigma
-            label = f"frame {fi + 1}/{frames}, equilibrium (Monte Carlo)"
-            folder.write_snapshot(_frame_name(k), spins, lat, temperature_K=temps[ti], label=label,
-                                  mc_sigma=sigma)
+            # what the frame is: sweeps made at this temperature (not a claim of equilibrium)
+            label = f"{int(warmup) + (fi + 1) * int(between)} MC sweeps at this T"
+            folder.write_snapshot(_frame_name(k), spins, lat, components="axis",
+                                  axis=model.axis, temperature_K=temps[ti], label=label,
+                                  mc_sigma=sigma, m_order_series=series.astype(np.float32))
+            folder.write_checkpoint(frame=k, spins=spins, mc_sigma=sigma)
             bar.update(1)
             folder.write_manifest(manifest)  # the wall time so far
     finally:
         bar.close()
+    (folder.path / "checkpoint.npz").unlink(missing_ok=True)  # finished: nothing to resume
+    manifest["sampling"] = _sampling(folder, temps, frames, between)
     folder.write_manifest(manifest, finished=True)

@@ -25,7 +25,7 @@ import time
 from pathlib import Path
 
 from thinfilm._io import os_error
-from thinfilm.input.errors import InputError
+from thinfilm.input.errors import InputError, option
 
 __all__ = ["LOCK_NAME", "FolderLock", "hold", "identity", "scenario_identity", "check_identity",
            "differences", "remove_stray_temps", "clear_run", "folder_files", "os_error",
@@ -51,7 +51,7 @@ def _mkdir(path):
     path = Path(path)
     if path.exists() and not path.is_dir():
         raise InputError(f"{path}: exists and is not a folder; choose another output folder "
-                         f"with -o (out_dir in Python)")
+                         f"({option('out_dir')})")
     try:
         path.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -114,7 +114,7 @@ class FolderLock:
                     f"{self.folder}: another thinfilm process is writing this folder (process "
                     f"{h.get('pid', '?')} on host {h.get('host', '?')}, since {when}, lock file "
                     f"{self.path}). Two writers would mix their files: wait for it to finish, "
-                    f"stop it, or choose another folder with -o (out_dir in Python).") from None
+                    f"stop it, or choose another folder ({option('out_dir')}).") from None
             try:
                 same = os.fstat(fd).st_ino == os.stat(self.path).st_ino
             except OSError:
@@ -273,7 +273,7 @@ def _pair(a, b):
     return x, y
 
 
-def check_identity(folder, stored, current, *, doing="resume", overwrite_flag="--overwrite"):
+def check_identity(folder, stored, current, *, doing="resume"):
     """Refuse (InputError, one paragraph) when the stored identity differs from the current."""
     diff = differences(stored, current)
     if not diff:
@@ -285,8 +285,8 @@ def check_identity(folder, stored, current, *, doing="resume", overwrite_flag="-
         f"{folder}: cannot {doing} it with this scenario: the folder holds a run of a different "
         f"scenario, and mixing the two would give results of neither. What differs: {shown}"
         f"{more}. Either {doing} with the scenario that started the folder, write this one to "
-        f"another folder with -o (out_dir in Python), or replace the earlier run with "
-        f"{overwrite_flag} (overwrite=True in Python; deletes its files).")
+        f"another folder ({option('out_dir')}), or replace the earlier run with "
+        f"{option('overwrite')} (deletes its files).")
 
 
 def read_manifest(folder):
@@ -298,9 +298,10 @@ def read_manifest(folder):
         m = json.loads(p.read_text())
     except (OSError, ValueError) as exc:
         raise InputError(f"{p}: unreadable manifest ({exc}); this folder cannot be resumed: "
-                         f"choose another folder with -o") from None
+                         f"choose another folder ({option('out_dir')})") from None
     if not isinstance(m, dict):
-        raise InputError(f"{p}: not a thinfilm manifest; choose another folder with -o")
+        raise InputError(f"{p}: not a thinfilm manifest; choose another folder "
+                         f"({option('out_dir')})")
     return m
 
 
@@ -370,8 +371,7 @@ def clear_run(folder, manifest):
         raise os_error(exc, exc.filename or folder, "remove the earlier run from it") from None
 
 
-def prepare_folder(folder, ident, *, kind, resume, overwrite, resume_flag="--resume",
-                   overwrite_flag="--overwrite"):
+def prepare_folder(folder, ident, *, kind, resume, overwrite):
     """Start a run in a held folder: clean, check and (on overwrite) empty it.
 
     Returns the earlier manifest that is continued (resume), else None.
@@ -383,19 +383,22 @@ def prepare_folder(folder, ident, *, kind, resume, overwrite, resume_flag="--res
         return None
     if overwrite and not resume:
         if "kind" not in old:
-            raise InputError(f"{folder / MANIFEST}: not a thinfilm manifest, so {overwrite_flag} "
-                             f"will not delete anything here; choose another folder with -o")
+            raise InputError(f"{folder / MANIFEST}: not a thinfilm manifest, so "
+                             f"{option('overwrite')} will not delete anything here; choose "
+                             f"another folder "
+                             f"({option('out_dir')})")
         clear_run(folder, old)
         return None
     if not resume:
         raise InputError(
-            f"{folder}: already holds a run (manifest.json). Use {resume_flag} (resume=True in "
-            f"Python) to continue it, {overwrite_flag} (overwrite=True) to delete it and start "
-            f"afresh, or choose another folder with -o (out_dir).")
+            f"{folder}: already holds a run (manifest.json). Use {option('resume')} to continue "
+            f"it, {option('overwrite')} to delete it and start afresh, or choose another folder "
+            f"({option('out_dir')}).")
     if old.get("kind") not in (None, kind):
         raise InputError(f"{folder}: holds a {old.get('kind')!r} run, not a {kind!r} run; "
-                         f"choose another folder with -o, or {overwrite_flag} to replace it")
+                         f"choose another folder ({option('out_dir')}), or "
+                         f"{option('overwrite')} to replace it")
     stored = stored_identity(old)
     if stored is not None and ident is not None:
-        check_identity(folder, stored, ident, overwrite_flag=overwrite_flag)
+        check_identity(folder, stored, ident)
     return old

@@ -24,7 +24,7 @@ import numpy as np
 from tqdm import tqdm
 
 from thinfilm._io import write_csv, write_json, write_npz
-from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
+from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning, option
 from thinfilm.runs.folder import RunFolder
 from thinfilm.runs.lifecycle import scenario_identity
 from thinfilm.runs.sweep_point import (
@@ -35,7 +35,14 @@ from thinfilm.runs.sweep_point import (
     point_name,
     point_seed,
 )
-from thinfilm.runs.sweep_tables import COLUMN_UNITS, refine_temperatures, tc_estimate
+from thinfilm.runs.sweep_tables import (
+    COLUMN_UNITS,
+    TABLE_EXTRA,
+    length_convergence,
+    refine_temperatures,
+    select_second_moment,
+    tc_estimate,
+)
 
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
@@ -117,13 +124,14 @@ def _executor(n_tasks, workers, cluster):
         try:
             from distributed import Client
         except ImportError:
-            raise InputError(f"--cluster {cluster}: the Dask client is not installed; "
-                             f"install thinfilm[cluster] (dask[distributed])") from None
+            raise InputError(f"{option('cluster', repr(cluster))}: the Dask client is not "
+                             f"installed; install thinfilm[cluster] (dask[distributed])") from None
         try:
             client = Client(cluster, timeout=f"{CONNECT_TIMEOUT_S}s")
         except (OSError, TimeoutError) as exc:
-            raise InputError(f"--cluster {cluster}: cannot reach a Dask scheduler there ({exc}); "
-                             f"give the address a running scheduler prints, e.g. "
+            raise InputError(f"{option('cluster', repr(cluster))}: cannot reach a Dask "
+                             f"scheduler there ({exc}); give the address a running scheduler "
+                             f"prints, e.g. "
                              f"tcp://host:8786") from None
         slots = sum(client.nthreads().values())
         return client.get_executor(pure=False), {"kind": "dask", "address": cluster,
@@ -131,7 +139,8 @@ def _executor(n_tasks, workers, cluster):
                                                  "window": max(4, 2 * slots)}, client.close
     cores = available_cores()
     if workers is not None and (isinstance(workers, bool) or int(workers) < 1):
-        raise InputError(f"--workers must be a positive integer, got {workers!r}")
+        raise InputError(f"{option('workers', None)} must be a positive integer, got "
+                         f"{workers!r}")
     n = min(int(workers) if workers else cores, max(1, n_tasks))
     if n == 1:
         return _Inline(), {"kind": "inline", "workers": 1, "window": 1}, lambda: None
@@ -173,8 +182,11 @@ def _read_point(out, name):
 
 
 def _final_spins(out, name):
+    """The final state of a point, renormalised (snapshots keep float32 spins)."""
     with np.load(out / "points" / name / "final.npz", allow_pickle=False) as d:
-        return np.array(d["spins"], dtype=np.float64)
+        s = np.array(d["spins"], dtype=np.float64)
+    norm = np.linalg.norm(s, axis=-1, keepdims=True)
+    return np.divide(s, norm, out=np.zeros_like(s), where=norm > 0)  # vacancies stay empty
 
 
 def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None, on_point=None,
@@ -346,7 +358,7 @@ def _sweep(sc, out, folder, resume, workers, cluster, progress):
     finally:
         bar.close()
         close()
-    _finish(out, folder, manifest, rows)
+    _finish(out, sc, folder, manifest, rows)
 
 
 def _clear_marks(out, chains):
@@ -358,15 +370,30 @@ def _clear_marks(out, chains):
                 (out / "points" / point_name(L, t) / name).unlink(missing_ok=True)
 
 
-def _finish(out, folder, manifest, rows):
+def _film_side(sc):
+    """Shorter side (nm) of the film of size L, as a function of L."""
+    from thinfilm.model.lattice import Lattice
+
+    lat = sc.lattice
+
+    def side(size):
+        return float(min(Lattice(lat.shape, int(size), int(size), lat.spacing_nm,
+                                 lat.periodic).box_nm))
+    return side
+
+
+def _finish(out, sc, folder, manifest, rows):
     keys = sorted(rows)
-    table = [[rows[k][c] for c in ROW_COLUMNS] for k in keys]
-    write_csv(out / "observables.csv", ROW_COLUMNS, table)
-    write_json(out / "columns.json", COLUMN_UNITS)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         tc = tc_estimate(rows)
     tc["warnings"] = sorted({str(w.message) for w in caught})
+    select_second_moment(rows, tc.get("tc_K"))
+    length_convergence(rows, _film_side(sc))
+    columns = ROW_COLUMNS + TABLE_EXTRA
+    table = [[rows[k][c] for c in columns] for k in keys]
+    write_csv(out / "observables.csv", columns, table)
+    write_json(out / "columns.json", COLUMN_UNITS)
     write_json(out / "tc.json", tc)
     manifest["points"] = [point_name(*k) for k in keys]
     manifest["tc_K"] = tc.get("tc_K")

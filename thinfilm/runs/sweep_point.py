@@ -17,7 +17,13 @@ from dataclasses import dataclass, replace
 import numba
 import numpy as np
 
-from thinfilm.analysis.correlation import correlation_function, correlation_length
+from thinfilm.analysis.correlation import (
+    correlation_function,
+    correlation_length,
+    kmin_plan,
+    kmin_power,
+    second_moment_series,
+)
 from thinfilm.analysis.domains import domain_statistics
 from thinfilm.analysis.grain_pinning import wall_on_boundary_fraction
 from thinfilm.analysis.patterns import bubble_statistics, stripe_orientation, stripe_period
@@ -30,6 +36,7 @@ from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning
 from thinfilm.input.units import MEV_J
 from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
+from thinfilm.runs.folder import SNAPSHOT_FORMAT
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
            "ROW_COLUMNS", "init_worker"]
@@ -44,6 +51,9 @@ ROW_COLUMNS = (
     "correlation_length_fit_nm", "correlation_length_fit_nm_err",
     "correlation_length_sk_nm", "correlation_length_sk_nm_err",
     "correlation_length_instrument_nm", "correlation_length_instrument_nm_err",
+    "correlation_length_full_nm", "correlation_length_full_nm_err",
+    "correlation_length_connected_nm", "correlation_length_connected_nm_err",
+    "second_moment_connected",
     "mean_domain_area_nm2", "mean_domain_area_nm2_err", "area_weighted_domain_area_nm2",
     "domain_count", "largest_domain_fraction",
     "stripe_period_nm", "stripe_order", "bubble_count",
@@ -125,7 +135,7 @@ def _load_partial(task, n_samples, n_chunks):
     return ck
 
 
-def _save_partial(task, mc, n_samples, n_chunks, done, parts, acc, snaps):
+def _save_partial(task, mc, n_samples, n_chunks, done, parts, acc, snaps, probes):
     from thinfilm._io import write_npz
 
     st = mc.state
@@ -138,7 +148,9 @@ def _save_partial(task, mc, n_samples, n_chunks, done, parts, acc, snaps):
               energy_J=np.concatenate([p["energy_J"] for p in parts]),
               m_vector=np.concatenate([p["m_vector"] for p in parts]),
               sweeps=np.concatenate([p["sweep"] for p in parts]),
-              acceptance=np.asarray(acc, dtype=np.float64), snaps=np.asarray(snaps))
+              acceptance=np.asarray(acc, dtype=np.float64), snaps=np.asarray(snaps),
+              probe_values=np.asarray(probes.values, dtype=np.float64),
+              probe_at=np.asarray(probes.at, dtype=np.int64), probe_done=np.int64(probes.done))
 
 
 def point_seed(seed, size, temperature_K):
@@ -190,6 +202,47 @@ def _split(n_samples, n_snap):
     return [len(c) for c in np.array_split(np.arange(n_samples), n_snap)]
 
 
+#: S(k_min) probes per run at most (fewer on short runs: one per sample). A probe costs a
+#: Python call and O(N) work, small beside a sweep except on the smallest lattices.
+N_PROBES = 1000
+
+
+class _Probes:
+    """S(k_min) probes along a run, for the second-moment length (periodic lattices only):
+    one after every ``every``-th sample."""
+
+    def __init__(self, model, n_samples):
+        lat = model.lattice
+        self.axis = model.axis
+        self.plan = kmin_plan(lat.positions_nm, lat.box_nm, lat.period) if lat.periodic else None
+        self.every = max(1, -(-int(n_samples) // N_PROBES))
+        self.values, self.at, self.done = [], [], 0
+
+    def stretches(self, n):
+        """Sample counts covering the next ``n`` samples, each ending where a probe is due."""
+        if self.plan is None:
+            return [n]
+        pos, end, out = self.done, self.done + n, []
+        while pos < end:
+            nxt = min(end, (pos // self.every + 1) * self.every)
+            out.append(nxt - pos)
+            pos = nxt
+        return out
+
+    def after(self, spins, m):
+        """``m`` more samples were taken; probe ``spins`` when a probe is due."""
+        self.done += m
+        if self.plan is not None and self.done % self.every == 0:
+            self.values.append(kmin_power(spins @ self.axis, self.plan))
+            self.at.append(self.done - 1)
+
+    def result(self):
+        if self.plan is None:
+            return {}
+        return {"s_kmin": np.asarray(self.values), "probe_at": np.asarray(self.at, float),
+                "khat2_min": self.plan["khat2"], "n_sites": self.plan["n_sites"]}
+
+
 def _sample_mc(task, model, spins):
     d = task.scenario.dynamics
     every = int(d.sample_every)
@@ -200,7 +253,7 @@ def _sample_mc(task, model, spins):
     mc = make_monte_carlo(model, task.temperature_K, params, seed=task.seed, initial_spins=spins,
                           **extra)
     chunks = _split(n_samples, task.scenario.sweep.snapshots)
-    parts, snaps, acc = [], [], []
+    parts, snaps, acc, probes = [], [], [], _Probes(model, n_samples)
     every_s, last = _checkpoint_every_s(), time.time()
     ck = _load_partial(task, n_samples, len(chunks))
     if ck is None:
@@ -216,20 +269,26 @@ def _sample_mc(task, model, spins):
                       "sweep": ck["sweeps"]})
         acc.extend(float(a) for a in ck["acceptance"])
         snaps.extend(np.array(x) for x in ck["snaps"])
+        probes.values = [float(v) for v in ck["probe_values"]]
+        probes.at = [int(v) for v in ck["probe_at"]]
+        probes.done = int(ck["probe_done"])
     for i, n in enumerate(chunks):
         if i < first:
             continue
-        r = mc.run(0, n, every, tune=False)
-        parts.append(r)
-        acc.append(r["acceptance"]["gaussian"])
+        for m in probes.stretches(n):
+            r = mc.run(0, m, every, tune=False)
+            parts.append(r)
+            acc.append(r["acceptance"]["gaussian"])
+            probes.after(mc.spins, m)
         snaps.append(mc.spins @ model.axis)  # S.n only: 8 bytes per site and snapshot
         if task.checkpoint and i + 1 < len(chunks) and time.time() - last >= every_s:
-            _save_partial(task, mc, n_samples, len(chunks), i + 1, parts, acc, snaps)
+            _save_partial(task, mc, n_samples, len(chunks), i + 1, parts, acc, snaps, probes)
             last = time.time()
     series = {
         "energy_J": np.concatenate([p["energy_J"] for p in parts]),
         "m_vector": np.concatenate([p["m_vector"] for p in parts]),
         "clock": np.concatenate([p["sweep"] for p in parts]).astype(np.float64),
+        **probes.result(),
     }
     details = {"sweeps_warmup": int(d.sweeps_warmup), "sample_every_sweeps": every,
                "n_samples": n_samples, "sigma": float(mc.sigma),
@@ -255,18 +314,20 @@ def _sample_llg(task, model, spins):
     e = np.empty(n_samples)
     mv = np.empty((n_samples, 3))
     clock = np.empty(n_samples)
-    snaps, k = [], 0
+    snaps, k, probes = [], 0, _Probes(model, n_samples)
     for n in chunks:
         for _ in range(n):
             sim.advance(every)
             m, en = sim.measure()  # includes the dipolar energy when the model has it
             e[k], mv[k], clock[k] = en * MEV_J, m, (sim.step - n_warm) * dt * 1e12
             k += 1
+            probes.after(sim.spins, 1)
         snaps.append(sim.spins @ model.axis)
     details = {"warmup_steps": n_warm, "sample_every_steps": every, "n_samples": n_samples,
                "time_step_fs": dt * 1e15, "damping": d.damping,
                "recommended_time_step_fs": dt_ok * 1e15}
-    return {"energy_J": e, "m_vector": mv, "clock": clock}, snaps, sim.spins.copy(), details, \
+    return {"energy_J": e, "m_vector": mv, "clock": clock, **probes.result()}, snaps, \
+        sim.spins.copy(), details, \
         (sim.step - n_warm) * dt * 1e12
 
 
@@ -357,11 +418,41 @@ def _pinning(fields, lat, params):
             "wall_on_boundary_expected": float(res[0]["expected"])}
 
 
-def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, params=None):
+def _second_moment(lat, fields, series, xi_snap):
+    """Second-moment xi (nm) in both forms: {"full": (xi, err, why), "connected": (...)}.
+
+    ``why`` says why a value is undefined ("" when it is defined). Periodic films: S(0) from
+    every sample of the magnetisation series, <M^2>/N ("full", the disordered phase and the
+    finite-size scaling region above Tc) or (<M^2> - <|M|>^2)/N ("connected", the ordered
+    phase), S(k_min) from probes along the run
+    (:func:`thinfilm.analysis.correlation.second_moment_series`). Open edges: the real-space
+    second moment of the snapshots' C(r) (``xi_snap``) in both entries.
+    """
+    if not lat.periodic:
+        v = xi_snap["second_moment_nm"]
+        one = (v, xi_snap["second_moment_err_nm"],
+               "" if np.isfinite(v) else "open edges: C(r) has no positive moment")
+        return {"full": one, "connected": one}
+    if series is None or "s_kmin" not in series:
+        none = (math.nan, math.nan, "no magnetisation time series")
+        return {"full": none, "connected": none}
+    out = {}
+    for form in ("full", "connected"):
+        r = second_moment_series(series["moment_sum"], series["s_kmin"], series["khat2_min"],
+                                 series["n_sites"], probe_at=series["probe_at"],
+                                 connected=form == "connected")
+        out[form] = (r["xi_nm"], r["xi_err_nm"], r["reason"])
+    return out
+
+
+def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, params=None,
+             series=None):
     """Correlation lengths, C(r) and domain statistics of the snapshots' fields S.n (ny, nx).
 
-    ``ordered`` selects the ordered-phase second-moment form (S(0) extrapolated from k1 and
-    2 k1, since there S(0) holds the spontaneous moment); otherwise S(0)/S(k1) is used.
+    ``ordered`` selects the ordered-phase second-moment form (connected S(0) =
+    (<M^2> - <|M|>^2)/N, since there <M^2> holds the spontaneous moment); otherwise
+    S(0) = <M^2>/N. ``series`` holds ``moment_sum`` (sum over sites of S.n per sample),
+    ``sample_block`` (snapshot stretch of each sample) and ``connected``.
     ``analysis`` holds the scenario's domain threshold ``level`` and ``smoothing_nm``.
     """
     analysis = analysis or {}
@@ -369,6 +460,8 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
     pos, box = lat.positions_nm, lat.box_nm
     xi = correlation_length(fields, pos, box, lat.period, periodic=lat.periodic,
                             subtract_mean=bool(ordered))
+    forms = _second_moment(lat, fields, series, xi)
+    sm, sm_err, sm_why = forms["connected" if ordered else "full"]
     curves = [correlation_function(f, pos, box, lat.period, periodic=lat.periodic)
               for f in fields]
     r_nm = curves[0][0]
@@ -384,7 +477,9 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
                                box_nm=box if lat.periodic else None)
         a = st["area_by_label_nm2"]
         for lab in range(1, a.size):
-            dom_rows.append((k, a[lab], 2.0 * math.sqrt(a[lab] / math.pi), int(st["signs"][lab])))
+            # 7 significant digits: an area is a whole number of site areas (exact to 1e-7)
+            dom_rows.append((k, f"{a[lab]:.7g}", f"{2.0 * math.sqrt(a[lab] / math.pi):.7g}",
+                             int(st["signs"][lab])))
         al = st["all"]
         means.append(al["mean_area_nm2"])
         weighted.append(al["area_weighted_mean_area_nm2"])
@@ -397,8 +492,12 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
     row = {**_patterns(fields, lat), **_pinning(fields, lat, params),
         "correlation_length_sk_nm": sk, "correlation_length_sk_nm_err": sk_err,
         "correlation_length_instrument_nm": ins, "correlation_length_instrument_nm_err": ins_err,
-        "correlation_length_nm": xi["second_moment_nm"],
-        "correlation_length_nm_err": xi["second_moment_err_nm"],
+        "correlation_length_nm": sm, "correlation_length_nm_err": sm_err,
+        "correlation_length_full_nm": forms["full"][0],
+        "correlation_length_full_nm_err": forms["full"][1],
+        "correlation_length_connected_nm": forms["connected"][0],
+        "correlation_length_connected_nm_err": forms["connected"][1],
+        "second_moment_connected": float(bool(ordered)),
         "correlation_length_fit_nm": xi["fit_nm"],
         "correlation_length_fit_nm_err": xi["fit_err_nm"],
         "mean_domain_area_nm2": mean_a, "mean_domain_area_nm2_err": mean_a_err,
@@ -406,7 +505,7 @@ def _spatial(model, fields, ordered, instrument=None, seed=0, analysis=None, par
         "domain_count": _mean_err(counts)[0],
         "largest_domain_fraction": _mean_err(largest)[0],
     }
-    return row, corr_rows, dom_rows
+    return row, corr_rows, dom_rows, {k: v[2] for k, v in forms.items()}
 
 
 def compute_point(task):
@@ -451,8 +550,11 @@ def _compute(task, sc, model, lat, method, t0):
         n_spins = lat.n_sites if params is None else int(params.occupied.sum())  # occupied sites
         th = thermodynamics(series["energy_J"], order, mv, n_spins, task.temperature_K)
         ordered = th["binder"] > ORDERED_BINDER
-        spatial, corr_rows, dom_rows = _spatial(model, snaps, ordered, sc.instrument, task.seed,
-                                                sc.analysis, params)
+        moments = {"moment_sum": (mv @ model.axis) * n_spins, "connected": bool(ordered),
+                   **{k: series[k] for k in ("s_kmin", "probe_at", "khat2_min", "n_sites")
+                      if k in series}}
+        spatial, corr_rows, dom_rows, sm_why = _spatial(model, snaps, ordered, sc.instrument,
+                                                        task.seed, sc.analysis, params, moments)
     row = {"size": int(task.size), "temperature_K": float(task.temperature_K)}
     for name in ROW_COLUMNS[2:19]:
         row[name] = float(th[name]) if name != "n_samples" else int(th[name])
@@ -462,15 +564,23 @@ def _compute(task, sc, model, lat, method, t0):
     clock = "sweep" if method == "monte-carlo" else "time_ps"
     ts_cols = ("sample", clock, "energy_meV", "m_axis", "m_norm", "mx", "my", "mz")
     m_axis = mv @ model.axis
+    # per-sample values at 7 significant digits (float32 resolution, far below the sample's
+    # own scatter): the table of a 4000-sample point is half its size at full repr
     ts_rows = [(k, series["clock"][k] if method != "monte-carlo" else int(series["clock"][k]),
-                series["energy_J"][k] / MEV_J, m_axis[k], float(np.linalg.norm(mv[k])),
-                mv[k, 0], mv[k, 1], mv[k, 2]) for k in range(len(order))]
+                *(f"{v:.7g}" for v in (series["energy_J"][k] / MEV_J, m_axis[k],
+                                       float(np.linalg.norm(mv[k])), mv[k, 0], mv[k, 1],
+                                       mv[k, 2]))) for k in range(len(order))]
     details.update({"start": task.start, "n_snapshots": len(snaps), "n_sites": lat.n_sites,
                     "blocks": int(th["n_blocks"]),
                     "second_moment_form": "ordered" if ordered else "disordered",
+                    "second_moment_undefined": sm_why,  # {form: reason, "" when defined}
                     "warnings": sorted({str(w.message) for w in caught}),
                     "compute_time_s": round(time.perf_counter() - t0, 3)})
-    final_arrays = {"spins": final, "positions_nm": lat.positions_nm,
+    # float32 like every snapshot (the next point of a chain starts from it renormalised, read
+    # back from the file both in a run and in a resumed one); no positions (rebuilt from shape,
+    # spacing and grid by the snapshot reader)
+    final_arrays = {"format": np.asarray(SNAPSHOT_FORMAT),
+                    "spins": np.asarray(final, dtype=np.float32),
                     "spacing_nm": lat.spacing_nm, "box_nm": np.asarray(lat.box_nm),
                     "shape": lat.shape, "periodic": lat.periodic, "time_ps": np.asarray(time_ps),
                     "temperature_K": np.asarray(task.temperature_K),

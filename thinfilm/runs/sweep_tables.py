@@ -10,7 +10,8 @@ import numpy as np
 
 from thinfilm.analysis.critical import estimate_tc, tc_from_peaks
 
-__all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE"]
+__all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE",
+           "TABLE_EXTRA", "length_convergence", "select_second_moment"]
 
 N_REFINE = 6  # points added around the transition by refine: near-tc
 
@@ -35,10 +36,26 @@ COLUMN_UNITS = {
     "tau_int": "samples, integrated autocorrelation time (largest of e, |m|, m^2, |m vector|)",
     "n_effective": "effectively independent samples, n_samples/(2 tau_int)",
     "n_samples": "samples in the time series",
-    "correlation_length_nm": ("nm, second-moment estimator of S.n over the snapshots "
-                              "(ordered-phase form where binder > 0.4)"),
-    "correlation_length_nm_err": "nm, jackknife over snapshots",
+    "correlation_length_nm": ("nm, second-moment estimator (Cooper, Freedman and Preston 1982) "
+                              "xi^2 = (S(0)/S(k_min) - 1)/khat_min^2: S(0) = <M^2>/N from the "
+                              "whole magnetisation series above Tc, connected (<M^2> - "
+                              "<|M|>^2)/N below Tc (the sweep's Tc; binder > 0.4 where it has "
+                              "none; second_moment_connected says which), S(k_min) averaged "
+                              "over the equivalent smallest "
+                              "wavevectors and up to 1000 probes along the run; 0 where noise "
+                              "puts S(0) at or below S(k_min) (xi below what the samples resolve); "
+                              "empty where undefined (point.json second_moment_undefined says "
+                              "why)"),
+    "correlation_length_nm_err": ("nm, jackknife over 20 stretches of the run (an upper bound "
+                                  "where the value is 0)"),
     "correlation_length_fit_nm": "nm, Ornstein-Zernike fit of C(r) of S.n",
+    "correlation_length_full_nm": ("nm, the second moment with S(0) = <M^2>/N (disordered phase "
+                                   "and the finite-size scaling region)"),
+    "correlation_length_full_nm_err": "nm, jackknife over 20 stretches of the run",
+    "correlation_length_connected_nm": ("nm, the second moment with S(0) = (<M^2> - <|M|>^2)/N "
+                                        "(ordered phase)"),
+    "correlation_length_connected_nm_err": "nm, jackknife over 20 stretches of the run",
+    "second_moment_connected": "1 where correlation_length_nm is the connected form, else 0",
     "correlation_length_sk_nm": ("nm, Ornstein-Zernike fit 1/S(k) = (1 + k^2 xi^2)/chi at small k != 0 "
                                  "(connected correlations, both sides of Tc)"),
     "correlation_length_sk_nm_err": "nm, jackknife over snapshots",
@@ -58,9 +75,62 @@ COLUMN_UNITS = {
                                   "mean over snapshots (films with grains)"),
     "wall_on_boundary_expected": ("fraction of all bonds on grain boundaries: what walls placed "
                                   "without regard to the grains would give"),
+    "film_side_nm": "nm, the shorter side of the simulated film of this row",
+    "correlation_length_converged": ("1 where correlation_length_nm is converged in the film size "
+                                     "(film side >= 10 x the largest length estimate, or it "
+                                     "agrees with the next larger size, itself converged, within "
+                                     "2 errors), 0 where it is finite-size limited (a length of "
+                                     "this film, not of the infinite one), empty where undefined "
+                                     "(thinfilm.analysis.size_convergence)"),
     "method": "sampler: monte-carlo or llg",
     "seed": "seed of this point, derived from (scenario seed, size, temperature)",
 }
+
+
+#: Columns added to observables.csv once every point is known (after :data:`ROW_COLUMNS`).
+TABLE_EXTRA = ("film_side_nm", "correlation_length_converged")
+
+
+def select_second_moment(rows, tc_K):
+    """correlation_length_nm of every row: the full form above ``tc_K``, the connected one
+    below (rows without the two forms, or ``tc_K`` None, keep their own choice)."""
+    if tc_K is None or not math.isfinite(tc_K):
+        return rows
+    for (_, temp), r in rows.items():
+        if "correlation_length_full_nm" not in r:
+            continue
+        form = "connected" if temp < tc_K else "full"
+        r["correlation_length_nm"] = r[f"correlation_length_{form}_nm"]
+        r["correlation_length_nm_err"] = r[f"correlation_length_{form}_nm_err"]
+        r["second_moment_connected"] = float(form == "connected")
+    return rows
+
+
+def length_convergence(rows, film_side_nm):
+    """Add ``film_side_nm`` and ``correlation_length_converged`` (1, 0 or NaN) to every row.
+
+    ``film_side_nm``: a function of the size L giving the shorter side of the film (nm).
+    """
+    from thinfilm.analysis.size_convergence import CONVERGED, UNDEFINED, size_convergence
+
+    keys = sorted(rows)
+    if not keys:
+        return rows
+    side = {L: float(film_side_nm(L)) for L in {k[0] for k in keys}}
+
+    def col(c):
+        return np.array([float(rows[k].get(c, math.nan)) for k in keys])
+
+    res = size_convergence([k[0] for k in keys], [k[1] for k in keys],
+                           col("correlation_length_nm"), col("correlation_length_nm_err"),
+                           [side[k[0]] for k in keys],
+                           others=(col("correlation_length_sk_nm"),
+                                   col("correlation_length_fit_nm")))
+    for k, st in zip(keys, res["status"], strict=True):
+        rows[k]["film_side_nm"] = side[k[0]]
+        rows[k]["correlation_length_converged"] = (math.nan if st == UNDEFINED else
+                                                   float(st == CONVERGED))
+    return rows
 
 
 def sweep_table(rows):
