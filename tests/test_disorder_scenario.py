@@ -71,6 +71,12 @@ def test_realisations_are_averaged_and_tc_spread_is_reported(tmp_path):
     np.testing.assert_allclose(spread, np.abs(reals[0]["m_abs"] - reals[1]["m_abs"]) / np.sqrt(2))
     tc = json.loads((out / "tc.json").read_text())
     assert len(tc["tc_realisations_K"]) == 2
+    # one Tc in tc.json: the realisations' mean is a labelled cross-check, not a second value
+    assert "tc_mean_K" not in tc
+    good = [t for t in tc["tc_realisations_K"] if t is not None]
+    if good:
+        means = [c for c in tc["cross_checks"] if c["method"] == "realisation_mean"]
+        assert len(means) == 1 and means[0]["tc_K"] == pytest.approx(np.mean(good))
     # grains: the pinning columns are filled; the expected fraction is the boundary-bond share
     assert np.all((avg["wall_on_boundary_expected"] > 0) & (avg["wall_on_boundary_expected"] < 1))
 

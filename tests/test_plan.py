@@ -88,7 +88,14 @@ def plan(tmp_path_factory):
 def test_plan_tc_and_window_bracket_the_exact_tc(plan):
     res, folder = plan
     p = json.loads((folder / "plan.json").read_text())
+    # Tc comes from the sweep's data by the stated rule (one size: the susceptibility peak,
+    # symmetric about the exact Tc in the synthetic forms), not from the value the fixture put
+    # into tc.json (TC + 0.05); tolerance: 3 quoted errors
+    assert p["tc_method"] == f"susceptibility peak L = {L}"
     assert abs(p["tc_K"] - TC) < 3 * p["tc_err_K"]
+    assert p["tc_K"] != pytest.approx(TC + 0.05, abs=1e-9)
+    tcj = json.loads((folder / "tc.json").read_text())
+    assert tcj["tc_K"] == p["tc_K"] and tcj["tc_err_K"] == p["tc_err_K"]  # one source of truth
     lo, hi = p["breakup_window_K"]
     elo, ehi = p["breakup_window_err_K"]
     assert lo + 2 * elo < TC < hi - 2 * ehi
@@ -125,13 +132,17 @@ def test_schedule_is_denser_near_tc(plan):
     assert s[0] >= TEMPS[0] and s[-1] <= TEMPS[-1] and np.all(gaps > 0)
 
 
-def test_tc_fallback_from_the_susceptibility_peak(tmp_path):
+def test_a_tc_json_from_an_earlier_rule_is_rewritten(tmp_path):
     sc = make_synthetic_sweep(tmp_path, tc_json=False)
+    man = json.loads((tmp_path / "manifest.json").read_text())
+    write_json(tmp_path / "manifest.json", dict(man, tc_K=33.0))
+    write_json(tmp_path / "tc.json", {"tc_K": 33.0, "tc_err_K": 0.01, "method": "binder_crossing"})
     p = make_plan(sc, tmp_path, resolution="2 nm", exposure="10 ms", reuse=True, progress=False,
                   **FAST)["plan"]
-    assert "susceptibility_peak" in p["tc_method"]
-    # the synthetic peak is symmetric about the exact Tc; half a grid step for the parabola
-    assert abs(p["tc_K"] - TC) < 3 * p["tc_err_K"] + 0.5
+    assert p["tc_json_rewritten"] and p["tc_K"] != 33.0
+    assert json.loads((tmp_path / "tc.json").read_text())["tc_K"] == p["tc_K"]
+    assert json.loads((tmp_path / "manifest.json").read_text())["tc_K"] == p["tc_K"]
+    assert "rewritten by this plan" in (tmp_path / "plan.md").read_text()
 
 
 def test_coarse_resolution_takes_the_resolved_window_from_the_extrapolation(tmp_path):
@@ -141,9 +152,14 @@ def test_coarse_resolution_takes_the_resolved_window_from_the_extrapolation(tmp_
     assert not any(q["resolved"] for q in p["points"])  # no lattice point reaches 30 nm
     assert p["resolved_window_extrapolated"] and "extrapolated beyond it" in p["resolved_note"]
     lo, hi = p["resolved_window_K"]
-    # synthetic xi = 0.5 nm / |t| above Tc (see _curves): xi > 30 nm for T - Tc < Tc / 60
+    # synthetic xi = 0.5 nm / |t| above Tc and 0.25 nm / |t| below (see _curves): xi > 30 nm
+    # for T - Tc < Tc / 60 above and Tc - T < Tc / 120 below (exact for the synthetic forms,
+    # with the plan's Tc in t); tolerance: 3 standard errors of the fitted half-widths plus
+    # 10 % for the fit's correction term c |t|
     assert lo < p["tc_K"] < hi
-    assert hi - p["tc_K"] == pytest.approx(TC / 60, rel=0.5)
+    hw = p["extrapolation"]["resolved_halfwidth_K"]
+    assert hi - p["tc_K"] == pytest.approx(hw["above"][0], rel=1e-9)
+    assert abs(hw["above"][0] - p["tc_K"] / 60) < 3 * hw["above"][1] + 0.1 * p["tc_K"] / 60
 
 
 @pytest.mark.parametrize("kw, words", [

@@ -75,13 +75,24 @@ def _crossing_deg(t, ua, ea, ub, eb, idx, degree, t_guess):
     return float(r), float(np.polynomial.polynomial.polyval(r - t0, ca))
 
 
+def side_significance(z, k_max=3):
+    """Evidence on one side of a crossing: the largest combined z (Stouffer, sum z / sqrt k)
+    of the k = 1..k_max points nearest to it (``z`` ordered from the crossing outwards);
+    -inf without points."""
+    z = np.asarray(z, dtype=np.float64)
+    if z.size == 0:
+        return -np.inf
+    c = np.cumsum(z[:k_max]) / np.sqrt(np.arange(1, min(k_max, z.size) + 1))
+    return float(np.max(c))
+
+
 def _rough_crossing(t, ua, ub, ea=None, eb=None):
     """Bracket the crossing by linear interpolation of the data.
 
     Where several sign changes of d = U_large - U_small occur (noise in the ordered plateau,
-    where both curves sit at 2/3 with tiny errors, can cross them), the most significant
-    change from d > 0 (below Tc) to d < 0 (above) is taken: the one whose smaller side, in
-    units of the combined error, is largest.
+    where both curves sit at 2/3, can cross them), the most significant change from d > 0
+    (below Tc) to d < 0 (above) is taken: the one whose weaker side is strongest, a side's
+    strength being :func:`side_significance` of d in units of its combined error.
     """
     d = ub - ua  # larger size minus smaller: > 0 below Tc, < 0 above
     sig = np.ones_like(d) if ea is None or eb is None else np.sqrt(ea**2 + eb**2)
@@ -91,7 +102,8 @@ def _rough_crossing(t, ua, ub, ea=None, eb=None):
         changes = np.nonzero(np.sign(d[:-1]) != np.sign(d[1:]))[0]
     if changes.size == 0:
         return None
-    strength = np.minimum(np.abs(z[changes]), np.abs(z[changes + 1]))
+    strength = [min(side_significance(z[: k + 1][::-1]), side_significance(-z[k + 1:]))
+                for k in changes]
     k = changes[int(np.argmax(strength))]
     return float(t[k] + (t[k + 1] - t[k]) * d[k] / (d[k] - d[k + 1]))
 
@@ -191,7 +203,11 @@ def tc_from_peaks(temps, values, errs, *, n_local=5, n_boot=500, seed=0):
     """Temperature of the maximum of a curve (susceptibility or specific heat).
 
     A weighted parabola is fitted to the ``n_local`` points centred on the largest value; its
-    vertex (kept inside the fit window) is the peak. Error by parametric bootstrap.
+    vertex (kept inside the fit window) is the peak. Error: parametric bootstrap, combined with
+    the distance to the vertex of the three points about the maximum (the parabola's model
+    error). When the parabola's maximum lies more than two errors below the largest point, the
+    peak is too sharp for it: the largest point is the peak, its position known to half the
+    temperature step.
 
     Parameters
     ----------
@@ -201,7 +217,8 @@ def tc_from_peaks(temps, values, errs, *, n_local=5, n_boot=500, seed=0):
     Returns
     -------
     dict
-        tc_K, tc_err_K, method ("peak"), peak_value, peak_value_err, at_edge.
+        tc_K, tc_err_K, method ("peak"), peak_value, peak_value_err, at_edge, peak_form
+        ("parabola" or "largest point").
 
     Warns
     -----
@@ -223,8 +240,20 @@ def tc_from_peaks(temps, values, errs, *, n_local=5, n_boot=500, seed=0):
     bv = np.empty(n_boot)
     for r in range(n_boot):
         bt[r], bv[r] = _vertex(t, v + e * rng.standard_normal(t.size), e, idx)
-    return {"tc_K": tc, "tc_err_K": float(bt.std(ddof=1)), "method": "peak",
-            "peak_value": peak, "peak_value_err": float(bv.std(ddof=1)), "at_edge": at_edge}
+    err, peak_err, form = float(bt.std(ddof=1)), float(bv.std(ddof=1)), "parabola"
+    # a parabola that passes far below the largest point does not describe the peak (too
+    # sharp for the window): take the largest point, its position known to half a step
+    if peak < v[k] - 2.0 * e[k]:
+        half = 0.5 * max(t[min(k + 1, t.size - 1)] - t[k], t[k] - t[max(k - 1, 0)])
+        tc, peak, form = float(t[k]), float(v[k]), "largest point"
+        err, peak_err = max(err, half), float(e[k])
+    elif n >= 5 and not at_edge:
+        # model error: the vertex of the 3 points about the maximum against the wider fit
+        lo3 = min(max(k - 1, 0), t.size - 3)
+        t3, _ = _vertex(t, v, e, np.arange(lo3, lo3 + 3))
+        err = float(np.hypot(err, t3 - tc))
+    return {"tc_K": tc, "tc_err_K": err, "method": "peak", "peak_value": peak,
+            "peak_value_err": peak_err, "at_edge": at_edge, "peak_form": form}
 
 
 def table_from_results(results):

@@ -18,6 +18,8 @@ import numpy as np
 import yaml
 
 from thinfilm._io import atomic_write_text, write_csv
+from thinfilm._numbers import fmt_value, round_pm
+from thinfilm.analysis.universality import check_universality
 from thinfilm.input.errors import InputError
 from thinfilm.model.parameters import build_model
 from thinfilm.plan.curves import clean_json
@@ -60,8 +62,13 @@ def _lengths(tab):
     return tab
 
 
-def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_view_nm=None):
+def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_view_nm=None,
+                   collapse=None):
     """Collapse, extrapolated xi and domain size, and the resolved window; writes the CSV.
+
+    ``collapse`` is the U4 collapse already fitted for the Tc record (tc.json ``collapse``):
+    it is reused, not fitted again, so the plan shows one collapse (a text: the reason the
+    record has none).
 
     Returns a JSON-ready dict: ``collapse`` (or ``collapse_refused``), ``fits``,
     ``resolved_window`` (absolute edges with errors, or the reason they are refused),
@@ -79,10 +86,15 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
 
     k = scenario.material.anisotropy_J
     res = {"resolution_nm": resolution_nm}
-    try:
-        res["collapse"] = collapse_from_table(tab, film_side, tc_guess_K=tc_K, anisotropy=k)
-    except InputError as exc:
-        res["collapse_refused"] = str(exc)
+    if isinstance(collapse, str):
+        res["collapse_refused"] = collapse
+    elif collapse is not None:
+        res["collapse"] = dict(collapse, universality=check_universality(collapse, k))
+    else:
+        try:
+            res["collapse"] = collapse_from_table(tab, film_side, tc_guess_K=tc_K, anisotropy=k)
+        except InputError as exc:
+            res["collapse_refused"] = str(exc)
     try:
         ext = extrapolated_lengths(tab, film_side, tc_K=tc_K, tc_err_K=tc_err_K or 0.0,
                                    anisotropy=k, resolution_nm=resolution_nm)
@@ -116,8 +128,9 @@ def beyond_lattice(scenario, out, *, tc_K, tc_err_K, resolution_nm, field_of_vie
             res["view_halfwidth_K"] = _halfwidths(fit, tc_K, field_of_view_nm)
         widths = [w for w, _ in res["resolved_halfwidth_K"].values() if np.isfinite(w)]
         if widths and tc_err_K and max(widths) < tc_err_K:
-            res["tc_note"] = (f"the resolved window (half-width {max(widths):.3g} K) is narrower "
-                              f"than the error of Tc ({tc_err_K:.2g} K): locate Tc in the "
+            res["tc_note"] = (f"the resolved window (half-width {fmt_value(max(widths), None, 2)}"
+                              f" K) is narrower than the error of Tc "
+                              f"({round_pm(tc_K, tc_err_K)[1]} K): locate Tc in the "
                               f"experiment and step by less than the half-width around it")
     return clean_json(res)
 

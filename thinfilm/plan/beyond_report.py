@@ -2,6 +2,9 @@
 
 import numpy as np
 
+from thinfilm._numbers import fmt_pm
+from thinfilm.analysis.tc_rule import tc_text
+
 __all__ = ["beyond_figure", "beyond_caption", "beyond_lines", "infinite_film_overlay",
            "INFINITE_FILM_CURVE"]
 
@@ -100,8 +103,8 @@ def infinite_film_overlay(ax, plan):
 
 def beyond_caption(plan):
     """Caption markdown of the figure."""
-    return ("Correlation length of the infinite film against the reduced distance from Tc = "
-            f"{plan['tc_K']:.4g} K on log axes. Filled blue markers: the fitted form at sweep "
+    return ("Correlation length of the infinite film against the reduced distance from Tc on log "
+            f"axes ({tc_text(plan.get('tc') or plan)}). Filled blue markers: the fitted form at sweep "
             "temperatures where a lattice size converged (film side >= 10 ξ, or two sizes "
             "agree); open blue markers: where no size converged and the value rests on the "
             "finite-size scaling form ξ_L = L f(t L^(1/ν)) fitted to every size; small "
@@ -115,12 +118,9 @@ def beyond_caption(plan):
 
 
 def _beyond_summary(plan):
-    hw = (plan.get("extrapolation") or {}).get("resolved_halfwidth_K") or {}
-    if not hw:
-        return []
-    w = max(v[0] for v in hw.values())
-    out = [f"  beyond       xi > {plan['instrument']['resolution_nm']:g} nm only within about "
-           f"{w:.3g} K of Tc (extrapolated from the lattice; extrapolation.csv)"]
+    """Console lines for large-lattice points the plan asks for (the resolved window itself
+    is printed once, under 'resolved')."""
+    out = []
     req = (plan.get("extrapolation") or {}).get("large_lattice_request")
     if req and req.get("commands"):
         out.append(f"  not measured xi at {', '.join(f'{t:.5g}' for t in req['temperatures_K'])} "
@@ -136,9 +136,10 @@ def beyond_lines(plan):
     c = b.get("collapse")
     if c:
         u = c["universality"]
-        out.append(f"- Finite-size scaling collapse of U4 (sizes {c['sizes']}): Tc = "
-                   f"{c['tc_K']:.4g} +- {c['tc_err_K']:.2g} K, nu = {c['nu']:.3g} +- {c['nu_err']:.2g}, "
-                   f"chi2/dof = {c['chi2_dof']:.2g}. {u.get('verdict', '')}")
+        out.append(f"- Finite-size scaling collapse of U4 (sizes {c['sizes']}): nu = "
+                   f"{fmt_pm(c['nu'], c['nu_err'], unit='')}, chi2/dof = {c['chi2_dof']:.2g} "
+                   f"(its Tc is one of the cross-checks of Tc under Answers). "
+                   f"{u.get('verdict', '')}")
     elif b.get("collapse_refused"):
         out.append(f"- No scaling collapse: {b['collapse_refused']}")
     if b.get("extrapolation_refused"):
@@ -191,19 +192,19 @@ def beyond_lines(plan):
                      "converged), finite-size scaling, extrapolated, or finite-size limited (no "
                      "converged or scaled value reaches: the lattice's own value, cut down by "
                      "the box).")
-    w = b.get("resolved_window")
-    if w:
-        edges = w.get("window_K") or [None, None]
-        txt = [f"{e:.5g} K" if e is not None else "refused" for e in edges]
-        out.append(f"- xi exceeds the resolution ({b['resolution_nm']:g} nm) between {txt[0]} and "
-                   f"{txt[1]} (extrapolated; reasons for refused edges: "
-                   f"{'; '.join(f'{k}: {v}' for k, v in (w.get('reasons') or {}).items() if v) or 'none'}).")
+    if plan.get("resolved_window_extrapolated"):
+        out.append("- The resolved window under Answers is Tc -+ the half-widths below "
+                   "(extrapolated: the lattice's xi never reaches the resolution).")
+    elif plan.get("resolved_window_K") is not None:
+        out.append("- The resolved window under Answers is read from the lattice (smoothed "
+                   "second-moment xi against the resolution); the half-widths below are the "
+                   "extrapolation's, a different method, not used for it.")
     hw = b.get("resolved_halfwidth_K") or {}
     if hw:
-        out.append("- Half-width of that window about Tc (from the fitted amplitude, independent of "
-                   "the error of Tc): " + ", ".join(
-                       f"{s} Tc {v[0]:.3g} K" + (f" +- {v[1]:.2g} K" if v[1] is not None else "")
-                       for s, v in hw.items()) + ".")
+        out.append("- Half-width about Tc of the window where the extrapolated xi exceeds the "
+                   "resolution (from the fitted amplitude, independent of the error of Tc): "
+                   + ", ".join(
+                       f"{s} Tc {fmt_pm(v[0], v[1], digits=2)}" for s, v in hw.items()) + ".")
     if b.get("tc_note"):
         out.append(f"- Note: {b['tc_note']}.")
     return out + table

@@ -3,7 +3,10 @@
 :func:`make_plan` runs (through the given runner, by default a plain sweep) or reuses a temperature sweep in a
 folder and answers, for the largest simulated size:
 
-* Tc with its error (from ``tc.json``; the susceptibility peak when that has none);
+* Tc with its error, by the stated rule of :mod:`thinfilm.analysis.tc_rule` applied to the
+  sweep's observables.csv (the same record as the folder's ``tc.json``, rewritten when it
+  holds a value from an earlier rule); when the data do not bracket Tc, the plan says what they
+  show and what to change, and gives no Tc, window or schedule;
 * the temperature window in which the domain pattern breaks up: from where the domain size
   (equivalent diameter) falls below the field of view to where the correlation length falls
   below the resolution, each edge with a bootstrap error (:mod:`thinfilm.plan_curves`);
@@ -23,9 +26,10 @@ import numpy as np
 
 from thinfilm._io import atomic_write_text, write_json
 from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
+from thinfilm.analysis.tc_rule import choose_tc
 from thinfilm.input.errors import InputError, ScenarioError, option
 from thinfilm.input.scenario import Scenario, load_scenario
-from thinfilm.plan.beyond_lattice import beyond_lattice, infinite_film_points
+from thinfilm.plan.beyond_lattice import _lengths, beyond_lattice, infinite_film_points
 from thinfilm.plan.curves import clean_json as _clean
 from thinfilm.plan.curves import crossing, fill_errors, schedule, smooth_log
 from thinfilm.plan.instrument import _quantity, instrument_values
@@ -89,23 +93,20 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
 
 
 def _read_sweep(out):
+    """The observables table (all sizes) and the curves of the largest size."""
     path = out / "observables.csv"
     tab = read_csv_table(path)
     missing = [c for c in NEEDED + ("size",) if c not in tab]
     if missing:
         raise InputError(f"{path}: lacks the column(s) {', '.join(missing)} the heating plan needs")
-    size = int(np.nanmax(tab["size"]))
-    keep = tab["size"] == size
+    sizes = tab["size"][np.isfinite(tab["size"])]
+    if not sizes.size:
+        raise InputError(f"{path}: has no rows with a lattice size; run the sweep again")
+    size = int(np.max(sizes))
+    keep = (tab["size"] == size) & np.isfinite(tab["temperature_K"])
     order = np.argsort(tab["temperature_K"][keep])
     cols = {k: v[keep][order] for k, v in tab.items() if v.dtype.kind == "f"}
-    if cols["temperature_K"].size < 3:
-        raise InputError(f"{path}: size {size} has only {cols['temperature_K'].size} temperatures; "
-                         f"the plan needs at least 3")
-    try:
-        tc = json.loads((out / "tc.json").read_text())
-    except (OSError, ValueError):
-        tc = {}
-    return size, cols, tc
+    return size, cols, tab
 
 
 def _col(cols, name):
@@ -113,37 +114,68 @@ def _col(cols, name):
     return np.full_like(cols["temperature_K"], np.nan) if v is None else v
 
 
-def _tc(cols, tc):
-    if tc.get("tc_K") is not None:
-        return float(tc["tc_K"]), tc.get("tc_err_K"), str(tc.get("method") or "tc.json")
-    from thinfilm.analysis.critical import tc_from_peaks
+def tc_record(scenario, out, tab=None):
+    """The one Tc of a sweep folder, by :func:`thinfilm.analysis.tc_rule.choose_tc` on its
+    observables.csv. A ``tc.json`` holding something else (written by an earlier version) is
+    rewritten, with the manifest's ``tc_K``, so the folder and the plan give one answer.
 
-    t, chi = cols["temperature_K"], _col(cols, "susceptibility")
-    ok = np.isfinite(chi)
-    if ok.sum() >= 3:
-        import warnings
+    Returns
+    -------
+    (dict, bool)
+        The record (tc.json content) and whether tc.json was rewritten.
+    """
+    out = Path(out)
+    if tab is None:
+        tab = read_csv_table(out / "observables.csv")
+    try:
+        old = json.loads((out / "tc.json").read_text())
+    except (OSError, ValueError):
+        old = {}
+    if not isinstance(old, dict):
+        old = {}
+    rec = choose_tc(tab, anisotropy=scenario.material.anisotropy_J)
+    for k in ("tc_realisations_K", "tc_spread_K", "warnings"):
+        if k in old:
+            rec[k] = old[k]
+    rec["cross_checks"] += [c for c in old.get("cross_checks") or []
+                            if isinstance(c, dict) and c.get("method") == "realisation_mean"]
 
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            r = tc_from_peaks(t[ok], chi[ok], fill_errors(chi[ok], _col(cols, "susceptibility_err")[ok]))
-        return float(r["tc_K"]), r.get("tc_err_K"), "susceptibility_peak (largest size; tc.json had none)"
-    k = int(np.nanargmax(cols["correlation_length_nm"]))
-    return float(t[k]), None, "correlation-length maximum (no susceptibility, no tc.json)"
+    def same(a, b):
+        if a is None or b is None:
+            return a is b
+        return abs(float(a) - float(b)) <= 1e-9 * max(1.0, abs(float(a)))
+
+    stale = (old.get("status") != rec["status"] or old.get("method") != rec["method"]
+             or not same(old.get("tc_K"), rec["tc_K"])
+             or not same(old.get("tc_err_K"), rec["tc_err_K"]))
+    if stale:
+        write_json(out / "tc.json", rec)
+        man = out / "manifest.json"
+        try:
+            m = json.loads(man.read_text())
+        except (OSError, ValueError):
+            m = None
+        if isinstance(m, dict) and "tc_K" in m and m.get("tc_K") != rec["tc_K"]:
+            m["tc_K"] = rec["tc_K"]
+            write_json(man, m)
+    return rec, stale
 
 
 def _diameter(area):
     return np.sqrt(4.0 * np.asarray(area, dtype=np.float64) / math.pi)
 
 
-def analyse_sweep(out_dir, instrument, *, box_nm=None, n_points=15, n_boot=400, seed=0):
-    """Tc, windows, curves and schedule from a finished sweep folder (no LLG runs).
+def analyse_sweep(out_dir, instrument, *, tc, box_nm=None, n_points=15, n_boot=400, seed=0):
+    """Windows, curves and schedule from a finished sweep folder (no LLG runs).
 
     Parameters
     ----------
     out_dir : str or Path
-        Folder with ``observables.csv`` and ``tc.json``.
+        Folder with ``observables.csv``.
     instrument : dict
         As returned by :func:`instrument_values`.
+    tc : dict
+        The folder's Tc record (:func:`tc_record`) with status "found".
     box_nm : float, optional
         Side of the largest simulated film (nm); domains cannot be larger. Default: the field
         of view only.
@@ -156,10 +188,9 @@ def analyse_sweep(out_dir, instrument, *, box_nm=None, n_points=15, n_boot=400, 
         Plain data for :func:`make_plan` (see its ``plan.json`` keys).
     """
     out = Path(out_dir)
-    size, cols, tcj = _read_sweep(out)
+    size, cols, tab = _read_sweep(out)
     t = cols["temperature_K"]
     res, fov = instrument["resolution_nm"], instrument["field_of_view_nm"]
-    tc, tc_err, tc_method = _tc(cols, tcj)
     xi, xi_err = cols["correlation_length_nm"], fill_errors(cols["correlation_length_nm"],
                                                             _col(cols, "correlation_length_nm_err"))
     area = cols["mean_domain_area_nm2"]
@@ -177,15 +208,26 @@ def analyse_sweep(out_dir, instrument, *, box_nm=None, n_points=15, n_boot=400, 
     if rhi["bound"] == "never":
         high = crossing("fall_from_start", t, d_typ, d_typ_err, res, n_boot=n_boot, seed=seed + 3)
         high_from = "domain diameter (the correlation length never exceeds the resolution)"
-    sm_xi = np.exp(smooth_log(t[np.isfinite(xi) & (xi > 0)], np.log(xi[np.isfinite(xi) & (xi > 0)])))
-    t_xi = t[np.isfinite(xi) & (xi > 0)]
+    # the plan's one xi curve: the smoothed ln xi of the crossings, at the sweep temperatures
+    # where xi was measured (NaN elsewhere; no curve from fewer than two points)
+    okx = np.isfinite(xi) & (xi > 0)
+    xi_smooth = np.full_like(t, np.nan)
+    if okx.sum() >= 2:
+        sm = np.exp(smooth_log(t[okx], np.log(xi[okx]), (xi[okx] / xi_err[okx]) ** 2))
+        xi_smooth = np.where((t >= t[okx][0]) & (t <= t[okx][-1]), np.interp(t, t[okx], sm),
+                             np.nan)
     sched = schedule(t, cols["m_abs"], xi, n_points)
+    fit_xi = _lengths(tab)
+    keep = fit_xi["size"] == size
+    fit_t = fit_xi["temperature_K"][keep]
+    fit_in = np.interp(t, fit_t[np.argsort(fit_t)], fit_xi["correlation_length_nm"][keep][
+        np.argsort(fit_t)]) if keep.any() else np.full_like(t, np.nan)
     return {"size": size, "temperature_K": t, "m_abs": cols["m_abs"], "xi_nm": xi, "xi_err_nm": xi_err,
-            "xi_smooth_nm": np.interp(t, t_xi, sm_xi) if t_xi.size else xi,
+            "xi_smooth_nm": xi_smooth, "xi_extrapolation_input_nm": fit_in,
             "d_mean_nm": d_mean, "d_typ_nm": d_typ, "d_typ_err_nm": d_typ_err, "typical_column": typical,
-            "tc_K": tc, "tc_err_K": tc_err, "tc_method": tc_method, "tc_json": tcj,
-            "low": low, "high": high, "high_from": high_from, "resolved_low": rlo, "resolved_high": rhi,
-            "view_limit_nm": limit_nm, "schedule_K": sched}
+            "tc_K": tc["tc_K"], "tc_err_K": tc["tc_err_K"], "tc_method": tc["method_text"],
+            "tc_json": tc, "low": low, "high": high, "high_from": high_from, "resolved_low": rlo,
+            "resolved_high": rhi, "view_limit_nm": limit_nm, "schedule_K": sched}
 
 
 def _llg_temperatures(tc, t_lo, t_hi, given):
@@ -245,7 +287,8 @@ def _points(a, runs, ins, tc):
     t = a["temperature_K"]
     out = []
     for temp in a["schedule_K"]:
-        xi = float(np.interp(temp, t, a["xi_smooth_nm"]))
+        with np.errstate(invalid="ignore", divide="ignore"):  # linear in ln xi, as the edges
+            xi = float(np.exp(np.interp(temp, t, np.log(a["xi_smooth_nm"]))))
         dm = float(np.interp(temp, t, a["d_mean_nm"]))
         dt = float(np.interp(temp, t, a["d_typ_nm"]))
         m = float(np.interp(temp, t, a["m_abs"]))
@@ -254,7 +297,8 @@ def _points(a, runs, ins, tc):
         verdict = exposure_verdict(tau * 1e-12, ins["exposure_s"], ordered=ordered)
         out.append({"temperature_K": temp, "phase": "ordered" if ordered else "disordered",
                     "m_abs": m, "correlation_length_nm": xi, "mean_domain_diameter_nm": dm,
-                    "typical_domain_diameter_nm": dt, "resolved": bool(xi > ins["resolution_nm"]),
+                    "typical_domain_diameter_nm": dt,
+                    "resolved": bool(xi > ins["resolution_nm"]) if math.isfinite(xi) else None,
                     "domains_resolved": bool(dt > ins["resolution_nm"]),
                     "fluctuation_time_ps": tau, "fluctuation_time_err_ps": tau_err,
                     "fluctuation_time_extrapolated": extrap,
@@ -370,9 +414,20 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
     from thinfilm.model.parameters import build_model
     from thinfilm.runs.sweep_point import sized_scenario
 
-    size = int(np.nanmax(read_csv_table(out / "observables.csv")["size"]))
+    size, _, tab = _read_sweep(out)
     box = float(min(build_model(sized_scenario(sc, size)).lattice.box_nm))
-    a = analyse_sweep(out, ins, box_nm=box, n_points=n_points, n_boot=n_boot, seed=seed)
+    tc, rewritten = tc_record(sc, out, tab)
+    head = {"scenario": sc.name, "scenario_source": sc.source, "sweep": how, "size": size,
+            "box_nm": box,
+            "instrument": {k: ins[k] for k in ("resolution_nm", "exposure_s", "field_of_view_nm")},
+            "instrument_source": ins["source"], "instrument_name": ins["name"],
+            "file_stem": f"plan-{ins['name']}" if instrument is not None else "plan",
+            "tc": tc, "tc_status": tc["status"], "tc_json_rewritten": rewritten,
+            "tc_K": tc["tc_K"], "tc_err_K": tc["tc_err_K"], "tc_method": tc["method_text"],
+            "tc_spread_K": tc.get("tc_spread_K"), "tc_realisations_K": tc.get("tc_realisations_K")}
+    if tc["status"] != "found":
+        return _no_plan(head, out, tab, size)
+    a = analyse_sweep(out, ins, tc=tc, box_nm=box, n_points=n_points, n_boot=n_boot, seed=seed)
     t = a["temperature_K"]
     temps = _llg_temperatures(a["tc_K"], float(t[0]), float(t[-1]), llg_temperatures)
     runs, llg_model = _fluctuations(sc, temps, llg_size, llg_s, progress, out)
@@ -380,21 +435,18 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
     low, high = _edge(a["low"]), _edge(a["high"])
     rlo, rhi = a["resolved_low"], a["resolved_high"]
     resolved = None if rhi["bound"] == "never" or rlo["bound"] == "never" else [rlo["value_K"], rhi["value_K"]]
-    plan = {
-        "scenario": sc.name, "scenario_source": sc.source, "sweep": how, "size": a["size"],
-        "box_nm": box, "instrument": {k: ins[k] for k in ("resolution_nm", "exposure_s", "field_of_view_nm")},
-        "instrument_source": ins["source"], "view_limit_nm": a["view_limit_nm"],
-        "tc_K": a["tc_K"], "tc_err_K": a["tc_err_K"], "tc_method": a["tc_method"],
-        "tc_spread_K": (a["tc_json"] or {}).get("tc_spread_K"),
-        "tc_realisations_K": (a["tc_json"] or {}).get("tc_realisations_K"),
+    xs = a["xi_smooth_nm"]
+    k_max = int(np.nanargmax(xs)) if np.isfinite(xs).any() else None
+    plan = dict(head, **{
+        "view_limit_nm": a["view_limit_nm"],
         "breakup_window_K": [low[0], high[0]], "breakup_window_err_K": [low[1], high[1]],
         "breakup_window_bounds": [a["low"]["bound"], a["high"]["bound"]],
         "breakup_upper_edge_from": a["high_from"],
         "resolved_window_K": resolved,
         "resolved_window_err_K": None if resolved is None else [rlo["err_K"], rhi["err_K"]],
         "resolved_window_bounds": None if resolved is None else [rlo["bound"], rhi["bound"]],
-        "max_correlation_length_nm": float(np.nanmax(a["xi_nm"])),
-        "max_correlation_length_at_K": float(t[int(np.nanargmax(a["xi_nm"]))]),
+        "max_correlation_length_nm": None if k_max is None else float(xs[k_max]),
+        "max_correlation_length_at_K": None if k_max is None else float(t[k_max]),
         "typical_domain_column": a["typical_column"],
         "schedule_K": a["schedule_K"], "n_points": len(a["schedule_K"]), "dwell_s": dwell_s,
         "total_dwell_s": dwell_s * len(a["schedule_K"]),
@@ -402,18 +454,22 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
                 "box_nm": [float(x) for x in llg_model.lattice.box_nm], "duration_ps": llg_s * 1e12,
                 "damping": sc.dynamics.damping, "runs": runs},
         "points": points, "bootstrap": {"n_boot": n_boot, "seed": seed},
-        "sweep_curves": {"temperature_K": t, "m_abs": a["m_abs"], "correlation_length_nm": a["xi_nm"],
-                         "correlation_length_err_nm": a["xi_err_nm"], "mean_domain_diameter_nm": a["d_mean_nm"],
+        "sweep_curves": {"temperature_K": t, "m_abs": a["m_abs"],
+                         "correlation_length_nm": a["xi_nm"],
+                         "correlation_length_err_nm": a["xi_err_nm"],
+                         "correlation_length_smoothed_nm": a["xi_smooth_nm"],
+                         "correlation_length_extrapolation_input_nm":
+                             a["xi_extrapolation_input_nm"],
+                         "mean_domain_diameter_nm": a["d_mean_nm"],
                          "typical_domain_diameter_nm": a["d_typ_nm"]},
-    }
+    })
     plan["extrapolation"] = beyond_lattice(sc, out, tc_K=a["tc_K"], tc_err_K=a["tc_err_K"],
                                            resolution_nm=ins["resolution_nm"],
-                                           field_of_view_nm=ins["field_of_view_nm"])
+                                           field_of_view_nm=ins["field_of_view_nm"],
+                                           collapse=_record_collapse(tc))
     _use_extrapolated_window(plan)
     infinite_film_points(plan)  # schedule lengths of the infinite film where known
     plan = _clean(plan)
-    plan["instrument_name"] = ins["name"]
-    plan["file_stem"] = f"plan-{ins['name']}" if instrument is not None else "plan"
     plan["resolved_note"] = plan_report.resolved_note(plan)
     plan["timescale_note"] = plan_report.timescale_note(plan)
     plan["options"] = {"n_points": n_points, "dwell_s": dwell_s, "llg_duration_s": llg_s}
@@ -432,3 +488,32 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
     plan_md = atomic_write_text(out / f"{plan['file_stem']}.md", plan_report.markdown(plan))
     return {"plan": plan, "plan_md": plan_md, "plan_json": plan_json, "figures": figures,
             "summary_text": plan_report.summary_text(plan)}
+
+
+def _record_collapse(tc):
+    """The Tc record's U4 collapse, the reason it has none (text), or None with one size."""
+    if tc.get("collapse"):
+        return tc["collapse"]
+    cc = next((c for c in tc.get("cross_checks") or [] if c.get("method") == "u4_collapse"), None)
+    return None if cc is None else (cc.get("note") or "no collapse")
+
+
+def _no_plan(head, out, tab, size):
+    """The plan when the sweep does not determine Tc: what the data show, what to change, the
+    sweep's U4 and <|m|> in a figure; no Tc, no windows, no schedule, no LLG runs."""
+    from thinfilm.plan import report as plan_report
+    from thinfilm.plan.curves import clean_json
+
+    plan = dict(head, **{
+        "breakup_window_K": None, "resolved_window_K": None, "schedule_K": [], "points": [],
+        "n_points": 0, "extrapolation": None,
+        "sweep_table": {k: tab[k] for k in ("size", "temperature_K", "m_abs", "binder",
+                                             "susceptibility", "n_effective") if k in tab}})
+    plan = clean_json(plan)
+    plan["command"] = plan_report.command(plan, out)
+    figures = plan_report.no_plan_figures(plan, out)
+    plan["figures"] = [p.name for p in figures]
+    plan_json = write_json(out / f"{plan['file_stem']}.json", plan)
+    plan_md = atomic_write_text(out / f"{plan['file_stem']}.md", plan_report.no_plan_markdown(plan))
+    return {"plan": plan, "plan_md": plan_md, "plan_json": plan_json, "figures": figures,
+            "summary_text": plan_report.no_plan_summary(plan)}

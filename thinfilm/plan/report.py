@@ -9,6 +9,8 @@ import shlex
 
 import numpy as np
 
+from thinfilm._numbers import fmt_pm, fmt_value
+from thinfilm.analysis.tc_rule import U_STAR_ISING, cross_check_lines, tc_text
 from thinfilm.plan.beyond_report import (
     INFINITE_FILM_CURVE,
     _beyond_summary,
@@ -44,53 +46,120 @@ CAUTIONS = (
 
 
 def _fmt(v, err=None, unit="K", digits=4):
-    if v is None or (isinstance(v, float) and not math.isfinite(v)):
-        return "n/a"
-    s = f"{v:.{digits}g}"
-    if err is not None and math.isfinite(err):
-        s += f" +- {err:.2g}"
-    return f"{s} {unit}"
+    return fmt_pm(v, err, unit=unit, digits=digits)
+
+
+def _tc(plan, pm="+-"):
+    """The one text of Tc ('Tc = 41.6 +- 0.4 K (Binder crossing L = 32/64)')."""
+    return tc_text(plan.get("tc") or plan, pm=pm)
 
 
 def _edge_text(v, err, bound):
-    if bound == "at_or_below_start":
-        return f"<= {v:.4g} K (at or below the start of the sweep)"
-    if bound == "at_or_above_end":
-        return f">= {v:.4g} K (at or beyond the end of the sweep)"
     if bound == "never" or v is None:
         return "not reached in the sweep"
+    if bound == "at_or_below_start":
+        return f"<= {fmt_value(v)} K (at or below the start of the sweep)"
+    if bound == "at_or_above_end":
+        return f">= {fmt_value(v)} K (at or beyond the end of the sweep)"
     if bound == "extrapolated":
-        return _fmt(v, err, digits=6) + " (extrapolated beyond the lattice)"
+        return _fmt(v, err) + " (extrapolated beyond the lattice)"
     return _fmt(v, err)
+
+
+def _resolved_text(plan):
+    """The resolved window, once: 'a .. b' with the digits of each edge's error."""
+    w = plan["resolved_window_K"]
+    if w is None:
+        return "none"
+    if plan.get("resolved_window_extrapolated"):
+        # the edges are Tc -+ half-widths: their width is known far better than their position
+        hw = plan["extrapolation"]["resolved_halfwidth_K"]
+        up = hw["above"]
+        down = hw.get("below", up)
+        return (f"Tc - {fmt_pm(down[0], down[1], digits=2)} .. Tc + "
+                f"{fmt_pm(up[0], up[1], digits=2)} (extrapolated beyond the lattice; the "
+                f"position carries the error of Tc)")
+    errs = plan.get("resolved_window_err_K") or [None, None]
+    bounds = plan.get("resolved_window_bounds") or [None, None]
+    return f"{_edge_text(w[0], errs[0], bounds[0])} .. {_edge_text(w[1], errs[1], bounds[1])}"
+
+
+def _max_xi_text(plan):
+    x, t = plan.get("max_correlation_length_nm"), plan.get("max_correlation_length_at_K")
+    if x is None:
+        return "no correlation length was measured"
+    return f"max {x:.2g} nm at {t:g} K on the smoothed curve"
 
 
 def resolved_note(plan):
     """Plain-language note on the resolved window (always set; essential when it is empty)."""
     res = plan["instrument"]["resolution_nm"]
-    xmax, tmax = plan["max_correlation_length_nm"], plan["max_correlation_length_at_K"]
     if plan["resolved_window_K"] is None:
-        tc = plan["tc_K"]
-        return (f"the resolution ({res:g} nm) is coarser than every simulated correlation length "
-                f"(max {xmax:.2g} nm at {tmax:.4g} K): the instrument cannot resolve the critical "
-                f"fluctuations of this film; the pattern will appear uniform grey above about "
-                f"{tc:.4g} K, and below it only domains larger than {res:g} nm are visible.")
+        return (f"The resolution ({res:g} nm) is coarser than every simulated correlation length "
+                f"({_max_xi_text(plan)}): the instrument cannot resolve the critical "
+                f"fluctuations of this film; the pattern will appear uniform grey above Tc, and "
+                f"below it only domains larger than {res:g} nm are visible.")
     lo, hi = plan["resolved_window_K"]
     if plan.get("resolved_window_extrapolated"):
-        return (f"the simulated lattice holds correlation lengths up to {xmax:.2g} nm only; "
-                f"extrapolated beyond it (fit of xi against T, see 'Beyond the lattice'), xi "
-                f"exceeds the resolution ({res:g} nm) between {lo:.6g} and {hi:.6g} K, a window "
-                f"{hi - lo:.3g} K wide about Tc: step by less than that near Tc to see the critical "
+        return (f"The simulated lattice holds correlation lengths up to "
+                f"{plan['max_correlation_length_nm']:.2g} nm only; extrapolated beyond it (fit "
+                f"of xi against T, see 'Beyond the lattice'), xi exceeds the resolution "
+                f"({res:g} nm) within the window above, about {fmt_value(hi - lo, None, 2)} K "
+                f"wide about Tc: step by less than that near Tc to see the critical "
                 f"fluctuations (if the exposure is short enough to freeze them).")
-    return (f"between {lo:.4g} and {hi:.4g} K the correlation length exceeds the resolution "
-            f"({res:g} nm; max {xmax:.2g} nm at {tmax:.4g} K): the critical fluctuations are "
-            f"resolvable there (if the exposure is short enough to freeze them).")
+    return (f"Within the window above the correlation length exceeds the resolution "
+            f"({res:g} nm; {_max_xi_text(plan)}): the critical fluctuations are resolvable "
+            f"there (if the exposure is short enough to freeze them).")
+
+
+def _tc_lines(plan):
+    """plan.md lines on Tc: the one value (or why there is none), its cross-checks, the
+    disagreement warning and the disorder spread."""
+    tc = plan["tc"]
+    if tc["status"] != "found":
+        out = [f"- **{tc_text(tc)}**: {tc['message']}",
+               f"- **What to change**: {tc['fix']}."]
+    else:
+        spread = (f"; the error covers the other counted estimates (statistical "
+                  f"{fmt_value(tc['tc_stat_err_K'], None, 2)} K, spread of the methods "
+                  f"{fmt_value(tc['tc_sys_err_K'], None, 2)} K)" if tc.get("tc_sys_err_K")
+                  else "; no other estimate is counted (statistical error only)")
+        out = [f"- **{_tc(plan)}**{spread}."]
+    checks = cross_check_lines(tc)
+    if checks:
+        out.append("- Cross-checks of Tc (other methods; not the plan's Tc):")
+        out += [f"  - {c}" for c in checks]
+    if tc.get("disagreement"):
+        out.append(f"- **Warning**: {tc['disagreement']}")
+    if tc.get("few_sample_points") and tc["status"] != "unequilibrated":
+        few = tc["few_sample_points"]
+        out.append(f"- {len(few)} point(s) have fewer than 50 effectively independent samples "
+                   f"(e.g. L = {few[0][0]}, {few[0][1]:g} K): their error bars are unreliable.")
+    if plan.get("tc_spread_K"):
+        out.append(f"- Sample-to-sample spread of Tc over {len(plan['tc_realisations_K'])} "
+                   f"disorder realisations: {fmt_value(plan['tc_spread_K'], None, 2)} K (Tc of "
+                   "each: " + ", ".join(fmt_value(x, plan["tc_spread_K"])
+                                        for x in plan["tc_realisations_K"] if x is not None)
+                   + " K); a real film's Tc can lie anywhere in that range, so the heating range "
+                   "should cover Tc +- 2 spreads.")
+    return out
+
+
+def _tau_range(plan):
+    """'2.2-12 ps' without the unit: the shortest and longest run's tau with the digits of
+    their errors, as in the runs table."""
+    runs = plan["llg"]["runs"]
+    lo = min(runs, key=lambda r: r["tau_ps"])
+    hi = max(runs, key=lambda r: r["tau_ps"])
+    return (f"{fmt_value(lo['tau_ps'], lo.get('tau_err_ps'), 3)}-"
+            f"{fmt_value(hi['tau_ps'], hi.get('tau_err_ps'), 3)}")
 
 
 def timescale_note(plan):
     """What the comparison of ps-ns fluctuation times with the exposure implies."""
     exp = plan["instrument"]["exposure_s"]
-    taus = [r["tau_ps"] for r in plan["llg"]["runs"]]
-    tmin, tmax = min(taus), max(taus)
+    trange = _tau_range(plan)
+    tmax = max(r["tau_ps"] for r in plan["llg"]["runs"])
     llg = plan["llg"]
     side = llg["box_nm"][0]
     base = (f"The simulated lattice for the dynamics is small ({llg['size']} x {llg['size']} "
@@ -98,12 +167,12 @@ def timescale_note(plan):
             f"time scales (ms to hours) are outside the model.")
     ratio = exp / (tmax * 1e-12)
     if ratio > 1e3:
-        return (f"The simulated fluctuation times ({tmin:.3g}-{tmax:.3g} ps) are about "
+        return (f"The simulated fluctuation times ({trange} ps) are about "
                 f"{math.log10(ratio):.0f} orders of magnitude shorter than the exposure "
                 f"({exp:g} s): every image is a time average of the magnetisation. Above Tc the "
                 f"film appears uniform grey; below Tc it shows the frozen large domains at the "
                 f"reduced contrast <|m|>(T). " + base)
-    return (f"The simulated fluctuation times ({tmin:.3g}-{tmax:.3g} ps) are comparable to or "
+    return (f"The simulated fluctuation times ({trange} ps) are comparable to or "
             f"longer than part of the exposure ({exp:g} s): the pattern is partly frozen during "
             f"an image (see the verdict per temperature). " + base)
 
@@ -135,8 +204,7 @@ def command(plan, out):
 def _band(ax, plan):
     tc, err = plan["tc_K"], plan["tc_err_K"] or 0.0
     ax.axvspan(tc - err, tc + err, color=GREY, alpha=0.25, lw=0)
-    tc_text = _fmt(tc, plan["tc_err_K"]).replace("+-", "±")
-    ax.axvline(tc, color=GREY, lw=1, label=f"$T_c$ = {tc_text}")
+    ax.axvline(tc, color=GREY, lw=1, label=_tc(plan, pm="±").replace("Tc", "$T_c$", 1))
     lo, hi = plan["breakup_window_K"]
     if lo is not None and hi is not None:
         ax.axvspan(lo, hi, color=ORANGE, alpha=0.12, lw=0, label="break-up window")
@@ -159,13 +227,15 @@ def _captions(plan):
 
     ins = plan["instrument"]
     exp_ps = ins["exposure_s"] * 1e12
-    tc = _fmt(plan["tc_K"], plan["tc_err_K"]).replace("+-", "±")
     common = (f"Black ticks on the T axis: the {plan['n_points']} schedule temperatures. Grey line "
-              f"and band: Tc = {tc} ({str(plan['tc_method']).replace('_', ' ')}) and "
-              "its error; light orange: the break-up window of the domain pattern (plan.md).")
+              f"and band: {_tc(plan, pm='±')} and its error; light orange: the break-up window "
+              "of the domain pattern (plan.md).")
     t_item = ("T", "K", "temperature of the film")
     curves = [
-        ("ξ (second moment)", "correlation length of the sweep; error bars: standard errors"),
+        ("ξ (second moment)", "correlation length of the sweep; error bars: standard errors; "
+         "line: the kernel-smoothed curve from which the windows and the table are read"),
+        ("ξ the extrapolation is fitted to", "where shown, the S(k) length the fit beyond the "
+         "lattice uses (it differs from the second moment); the extrapolated line continues it"),
         ("mean domain d", "sqrt(4 A / π) of the mean domain area A (every island counts)"),
         ("typical domain d", f"sqrt(4 A / π) of {plan['typical_domain_column']} (the domain a "
          "random pixel lies in: what an image shows)"),
@@ -209,8 +279,11 @@ def figures(plan, out):
     name = plan["scenario"] if len(plan["scenario"]) <= 40 else plan["scenario"][:39] + "…"
     paths = []
     fig, (ax,) = new_figure(1, 1, 6.4, 4.8)
-    ax.errorbar(t, c["correlation_length_nm"], yerr=c["correlation_length_err_nm"], fmt="o-",
+    ax.errorbar(t, c["correlation_length_nm"], yerr=c["correlation_length_err_nm"], fmt="o",
                 color=BLUE, ms=4, label=r"$\xi$ (second moment)")
+    if "correlation_length_smoothed_nm" in c:
+        ax.plot(t, c["correlation_length_smoothed_nm"], "-", color="k", lw=0.8,
+                label=r"$\xi$ smoothed (the plan's curve)")
     ax.plot(t, c["mean_domain_diameter_nm"], "s--", color=GREEN, ms=4, label="mean domain d")
     ax.plot(t, c["typical_domain_diameter_nm"], "^:", color=PURPLE, ms=4, label="typical domain d")
     ax.axhline(ins["resolution_nm"], color=VERMILION, ls="--",
@@ -224,6 +297,12 @@ def figures(plan, out):
         ce = np.array([np.nan if v is None else v for v in cur["correlation_length_err_nm"]], float)
         ext = np.array([f == "extrapolated" for f in cur["flag"]])
         label = r"$\xi$ extrapolated (fit)"
+        fin = c.get("correlation_length_extrapolation_input_nm")
+        if fin is not None and ext.any() and not np.allclose(
+                fin, c["correlation_length_nm"], rtol=1e-9, equal_nan=True):
+            # the fit's own input where it differs from the second moment (S(k) length)
+            ax.plot(t, fin, "D", mfc="none", color=BLUE, ms=5,
+                    label=r"$\xi$ the extrapolation is fitted to (S(k) length)")
         for side in (ct < plan["tc_K"], ct > plan["tc_K"]):
             sel = side & ext
             if sel.any():
@@ -293,31 +372,27 @@ def markdown(plan):
              + (f"{fov:g} nm" if fov is not None else "not given")
              + f" (from: {', '.join(f'{k} {v}' for k, v in plan['instrument_source'].items())})", "",
              "## Answers", "",
-             f"- **Tc = {_fmt(plan['tc_K'], plan['tc_err_K'])}** ({plan['tc_method']})."
-             + (f" Sample-to-sample spread of Tc over {len(plan['tc_realisations_K'])} disorder "
-                f"realisations: {plan['tc_spread_K']:.3g} K (Tc of each: "
-                + ", ".join(f"{x:.4g}" for x in plan["tc_realisations_K"] if x is not None)
-                + " K); a real film's Tc can lie anywhere in that range, so the heating range "
-                "should cover Tc +- 2 spreads." if plan.get("tc_spread_K") else ""),
+             *_tc_lines(plan),
              f"- **Domain pattern breaks up** between {_edge_text(lo, elo, blo)} and "
              f"{_edge_text(hi, ehi, bhi)}: from where the typical domain diameter falls below the view "
              f"limit ({plan['view_limit_nm']:.3g} nm) to where the {plan['breakup_upper_edge_from']} "
              f"falls below the resolution.",
-             "- **Resolved window**: " + ("none. " if plan["resolved_window_K"] is None else
-                                         f"{plan['resolved_window_K'][0]:.6g}-{plan['resolved_window_K'][1]:.6g} K. ")
-             + plan["resolved_note"],
+             f"- **Resolved window**: {_resolved_text(plan)}. " + plan["resolved_note"],
              f"- **Time scales**: {plan['timescale_note']}", "",
              "## Schedule", "",
              f"{plan['n_points']} temperatures, fine steps where |m| and ln xi change fast; dwell "
              f"{_dwell(plan['dwell_s'])} per point (the user's choice), {_dwell(plan['total_dwell_s'])} in "
              f"all, plus settling time.", "",
-             "| T (K) | phase | xi (nm) | mean domain d (nm) | typical d (nm) | xi resolved | tau (ps) | verdict |",
+             "| T (K) | phase | xi, smoothed (nm) | mean domain d (nm) | typical d (nm) | xi resolved "
+             "| tau (ps) | verdict |",
              "|---|---|---|---|---|---|---|---|"]
     for p in plan["points"]:
         star = "*" if p["fluctuation_time_extrapolated"] else ""
-        lines.append(f"| {p['temperature_K']:.4g} | {p['phase']} | {p['correlation_length_nm']:.3g} | "
+        xi = "n/a" if p["correlation_length_nm"] is None else f"{p['correlation_length_nm']:.3g}"
+        res = {True: "yes", False: "no"}.get(p["resolved"], "n/a")
+        lines.append(f"| {p['temperature_K']:g} | {p['phase']} | {xi} | "
                      f"{p['mean_domain_diameter_nm']:.3g} | {p['typical_domain_diameter_nm']:.3g} | "
-                     f"{'yes' if p['resolved'] else 'no'} | {p['fluctuation_time_ps']:.3g}{star} | {p['verdict']} |")
+                     f"{res} | {p['fluctuation_time_ps']:.3g}{star} | {p['verdict']} |")
     lines += ["", "\\* outside the LLG temperatures: nearest run's value.", "",
               "Verdict: *frozen* when tau > 10 x exposure, *averaged* when tau < exposure / 10 "
               "(grey above Tc; the mean contrast <|m|> in ordered domains below Tc), otherwise "
@@ -328,7 +403,9 @@ def markdown(plan):
               f"- Scenario `{plan['scenario']}` ({plan['scenario_source']}); sweep {plan['sweep']} "
               f"in this folder; curves of the largest size L = {plan['size']} "
               f"({plan['box_nm']:.3g} nm film).",
-              f"- Tc: {plan['tc_method']} (tc.json of the sweep).",
+              f"- Tc: {plan['tc']['rule']} The same record is in tc.json"
+              + (" (rewritten by this plan: it held a value from an earlier rule)."
+                 if plan.get("tc_json_rewritten") else "."),
               "- Domain diameter = sqrt(4 A / pi). 'Mean' uses mean_domain_area_nm2 (every island "
               f"counts); 'typical' uses {plan['typical_domain_column']} (the domain a random pixel "
               "lies in: what an image shows) and drives the lower window edge; its error is taken "
@@ -347,7 +424,7 @@ def markdown(plan):
               "interpolated in ln tau between run temperatures. Runs:", ""]
     lines += ["| T (K) | tau (ps) | run (ps) | step (fs) | independent samples | seed |", "|---|---|---|---|---|---|"]
     for r in llg["runs"]:
-        lines.append(f"| {r['temperature_K']:.4g} | {r['tau_ps']:.3g} +- {r['tau_err_ps']:.2g} | "
+        lines.append(f"| {r['temperature_K']:g} | {fmt_pm(r['tau_ps'], r['tau_err_ps'], unit='')} | "
                      f"{r['duration_ps']:.4g} | {r['time_step_fs']:.3g} | {r['n_independent']:.0f} | {r['seed']} |")
     lines += beyond_lines(plan)
     lines += ["", "## Reproduce", "", "```", plan["command"], "```", "",
@@ -363,24 +440,93 @@ def summary_text(plan):
     blo, bhi = plan["breakup_window_bounds"]
     sched = plan["schedule_K"]
     verdicts = sorted({p["verdict"] for p in plan["points"]})
-    taus = [r["tau_ps"] for r in plan["llg"]["runs"]]
     return "\n".join([
         f"heating plan for {plan['scenario']} (sweep L = {plan['size']}, {plan['sweep']})",
         f"  instrument   resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s"
         + (f", field of view {ins['field_of_view_nm']:g} nm" if ins["field_of_view_nm"] else ""),
-        f"  Tc           {_fmt(plan['tc_K'], plan['tc_err_K'])} ({plan['tc_method']})"
-        + (f"; spread {plan['tc_spread_K']:.3g} K over {len(plan['tc_realisations_K'])} disorder "
-           "realisations: heat over Tc +- 2 spreads" if plan.get("tc_spread_K") else ""),
+        f"  Tc           {_tc(plan).removeprefix('Tc = ')}"
+        + (f"; spread {fmt_value(plan['tc_spread_K'], None, 2)} K over "
+           f"{len(plan['tc_realisations_K'])} disorder realisations: heat over Tc +- 2 spreads"
+           if plan.get("tc_spread_K") else ""),
+        *([f"  warning      {plan['tc']['disagreement']}"] if plan["tc"].get("disagreement")
+          else []),
         f"  break-up     {_edge_text(lo, elo, blo)} .. {_edge_text(hi, ehi, bhi)}",
         "  resolved     " + ("none: " + plan["resolved_note"] if plan["resolved_window_K"] is None
-                            else f"{plan['resolved_window_K'][0]:.6g} .. {plan['resolved_window_K'][1]:.6g} K"
-                            + (" (extrapolated)" if plan.get("resolved_window_extrapolated") else "")),
-        f"  fluctuation  {min(taus):.3g}-{max(taus):.3g} ps (LLG, {plan['llg']['size']}^2 sites); "
+                            else _resolved_text(plan)),
+        f"  fluctuation  {_tau_range(plan)} ps (LLG, {plan['llg']['size']}^2 sites); "
         f"verdicts: {', '.join(verdicts)}",
-        f"  schedule     {len(sched)} points {sched[0]:.4g}..{sched[-1]:.4g} K: "
+        f"  schedule     {len(sched)} points {sched[0]:g}..{sched[-1]:g} K: "
         + ", ".join(f"{s:g}" for s in sched),
         f"  dwell        {_dwell(plan['dwell_s'])} per point (your choice), {_dwell(plan['total_dwell_s'])} total",
         *_beyond_summary(plan),
         "  caution      model estimate; mind sample heating limits and sensor-film offsets; local "
         "lab rules and the instrument maker's limits come first.",
+    ])
+
+
+def no_plan_figures(plan, out):
+    """plan_sweep.png: U4 of every size and <|m|> of the largest against T, for a sweep that
+    does not determine Tc; returns the PNG paths."""
+    from thinfilm.render.captions import write_captions
+    from thinfilm.render.layout import new_figure, save_png, shared_legend
+
+    tab = {k: np.array([np.nan if x is None else x for x in v], dtype=float)
+           for k, v in plan["sweep_table"].items()}
+    if "temperature_K" not in tab or not np.isfinite(tab["temperature_K"]).any():
+        return []
+    fig, axes = new_figure(1, 2, 3.6, 3.4)
+    colours = [BLUE, ORANGE, GREEN, PURPLE, SKY, VERMILION]
+    sizes = sorted({int(x) for x in tab["size"] if np.isfinite(x)})
+    for i, L in enumerate(sizes):
+        sel = tab["size"] == L
+        o = np.argsort(tab["temperature_K"][sel])
+        t = tab["temperature_K"][sel][o]
+        if "binder" in tab:
+            axes[0].plot(t, tab["binder"][sel][o], "o-", color=colours[i % 6], ms=4,
+                         label=f"L = {L}")
+        axes[1].plot(t, tab["m_abs"][sel][o], "o-", color=colours[i % 6], ms=4,
+                     label=f"L = {L}")
+    if plan["tc"].get("universal_u4"):
+        axes[0].axhline(U_STAR_ISING, color=GREY, ls="--",
+                        label=f"universal U4 = {U_STAR_ISING:g} (2D Ising)")
+    axes[0].set(xlabel="T (K)", ylabel="U4 (1)", title="Binder cumulant")
+    axes[1].set(xlabel="T (K)", ylabel=r"$\langle|m|\rangle$ (per spin)",
+                title="order parameter")
+    fig.suptitle(f"{plan['scenario'][:40]}: {tc_text(plan['tc'])}")
+    shared_legend(fig)
+    path = save_png(fig, out / f"{_stem(plan)}_sweep.png", dpi=120)
+    write_captions(out, {path.name: (
+        "The sweep the plan was asked to use, which does not determine Tc: "
+        f"{plan['tc']['message']} Left: Binder cumulant U4 = 1 - <m^4>/(3 <m^2>^2) (1) of "
+        "every lattice size against the temperature T (K); right: mean absolute "
+        "magnetisation <|m|> per spin. What to change: " + plan["tc"]["fix"] + ".")})
+    return [path]
+
+
+def no_plan_markdown(plan):
+    """plan.md when the sweep does not determine Tc."""
+    ins = plan["instrument"]
+    lines = [f"# Heating plan: {plan['scenario']}", "",
+             "No plan: the sweep does not determine Tc, and a schedule, break-up window or "
+             "resolved window without Tc would be a guess.", "",
+             "## Instrument", "",
+             f"- resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s", "",
+             "## What the data show", "", *_tc_lines(plan), "",
+             "## Method", "", f"- {plan['tc']['rule']}",
+             f"- Sweep {plan['sweep']} in this folder, sizes {plan['tc']['sizes']}, "
+             f"{plan['tc']['range_K'][0]:g}-{plan['tc']['range_K'][1]:g} K." if plan["tc"].get(
+                 "range_K") else f"- Sweep {plan['sweep']} in this folder.", "",
+             "## Reproduce", "", "```", plan["command"], "```", "",
+             "Figures: " + (", ".join(plan["figures"]) or "none"), ""]
+    return "\n".join(lines)
+
+
+def no_plan_summary(plan):
+    """Terminal text when the sweep does not determine Tc."""
+    tc = plan["tc"]
+    return "\n".join([
+        f"heating plan for {plan['scenario']} (sweep L = {plan['size']}, {plan['sweep']})",
+        f"  Tc           {tc_text(tc).removeprefix('Tc ')}: {tc['message']}",
+        f"  fix          {tc['fix']}",
+        "  plan         none: no schedule, break-up or resolved window without Tc",
     ])

@@ -31,13 +31,15 @@ def _tc_text(tc, tex=True):
     """'Tc = 2.45 ± 0.05 K (binder crossing)', or None without a finite Tc."""
     if not tc or tc.get("tc_K") is None or not np.isfinite(float(tc["tc_K"])):
         return None
-    t, e = float(tc["tc_K"]), float(tc.get("tc_err_K") or 0.0)
-    s = ("$T_c$" if tex else "Tc") + f" = {t:.4g}" + (f" ± {e:.2g}" if e > 0 else "") + " K"
-    return s + (f" ({str(tc['method']).replace('_', ' ')})" if tc.get("method") else "")
+    from thinfilm.analysis.tc_rule import tc_text
+
+    return tc_text(tc, pm="±", symbol="$T_c$" if tex else "Tc")
 
 
 def _tc_caption(tc):
     text = _tc_text(tc, tex=False)
+    if not text and tc and tc.get("message"):  # the sweep does not determine Tc: say why
+        return f" No Tc line: {tc['message']}"
     return f" Dashed vertical line: {text}; grey band: its error." if text else ""
 
 

@@ -9,7 +9,8 @@ it unchanged:
   / sqrt(n), with spread the sample-to-sample standard deviation;
 * ``ensemble.csv``: the spread (``<column>_spread``) of every numeric column;
 * ``tc.json``: Tc of the averaged curves, and ``tc_realisations_K``, ``tc_spread_K`` (standard
-  deviation over realisations) and ``tc_mean_K`` of the per-realisation Tc values;
+  deviation over realisations); the mean of the per-realisation Tc values is listed among the
+  cross-checks, not as a second Tc;
 * ``manifest.json`` of kind ``sweep`` listing the realisations.
 
 A realisation folder that finished is reused on ``resume``.
@@ -132,9 +133,15 @@ def _ensemble(sc, out, folder, resume, workers, cluster, progress):
     tcs = [json.loads((f / "tc.json").read_text()).get("tc_K") for f in folders]
     good = [t for t in tcs if t is not None]
     by_point = {(int(r[0]), float(r[1])): dict(zip(ROW_COLUMNS, r, strict=True)) for r in rows}
-    tc = dict(tc_estimate(by_point), tc_realisations_K=tcs,
-              tc_mean_K=float(np.mean(good)) if good else None,
+    tc = dict(tc_estimate(by_point, sc.material.anisotropy_J), tc_realisations_K=tcs,
               tc_spread_K=float(np.std(good, ddof=1)) if len(good) > 1 else None)
+    if good:  # the mean over realisations is a cross-check of the Tc of the averaged curves
+        tc["cross_checks"] = [*tc.get("cross_checks", []), {
+            "method": "realisation_mean", "label": f"mean Tc of {len(good)} realisations",
+            "sizes": tc.get("sizes"), "tc_K": float(np.mean(good)),
+            "tc_err_K": float(np.std(good, ddof=1) / np.sqrt(len(good))) if len(good) > 1
+            else None, "bracketed": False, "in_error": False,
+            "note": "each realisation's own Tc; their spread is the sample-to-sample spread"}]
     write_json(out / "tc.json", tc)
     manifest.update({"tc_K": tc.get("tc_K"), "tc_spread_K": tc["tc_spread_K"]})
     folder.write_manifest(manifest, finished=True)

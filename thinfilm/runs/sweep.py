@@ -24,6 +24,7 @@ import numpy as np
 from tqdm import tqdm
 
 from thinfilm._io import write_csv, write_json, write_npz
+from thinfilm.analysis.tc_rule import mode_keys
 from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning, option
 from thinfilm.runs.folder import RunFolder
 from thinfilm.runs.lifecycle import scenario_identity
@@ -343,7 +344,8 @@ def _sweep(sc, out, folder, resume, workers, cluster, progress):
         _run_chains(sc, out, chains, rows, executor, bar, window, on_point=saved, local=local)
         extra = []
         if sc.sweep.refine == "near-tc":
-            extra = refine_temperatures(rows, sc.sweep.temperatures_K)
+            extra = refine_temperatures(rows, sc.sweep.temperatures_K,
+                                            anisotropy=sc.material.anisotropy_J)
             manifest["refined_temperatures_K"] = extra
             if extra:
                 rchains, parents = _refine_chains(sc, chains, extra)
@@ -386,7 +388,7 @@ def _finish(out, sc, folder, manifest, rows):
     keys = sorted(rows)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        tc = tc_estimate(rows)
+        tc = tc_estimate(rows, anisotropy=sc.material.anisotropy_J)
     tc["warnings"] = sorted({str(w.message) for w in caught})
     select_second_moment(rows, tc.get("tc_K"))
     length_convergence(rows, _film_side(sc))
@@ -403,4 +405,4 @@ def _finish(out, sc, folder, manifest, rows):
     if low:
         warnings.warn(f"{len(low)} of {len(keys)} sweep points have fewer than 50 effectively "
                       f"independent samples (e.g. {low[0]}); their error bars are unreliable: "
-                      f"raise dynamics.sweeps.samples", ThinFilmWarning, stacklevel=3)
+                      f"raise {mode_keys(sc.mode)['samples']}", ThinFilmWarning, stacklevel=3)

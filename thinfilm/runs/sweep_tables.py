@@ -4,11 +4,9 @@ All functions read the per-point rows ``{(size, temperature_K): row}`` of
 :mod:`thinfilm.sweep` (rows as in :data:`thinfilm.sweep_point.ROW_COLUMNS`).
 """
 
-import math
-
 import numpy as np
 
-from thinfilm.analysis.critical import estimate_tc, tc_from_peaks
+from thinfilm.analysis.tc_rule import choose_tc
 
 __all__ = ["COLUMN_UNITS", "sweep_table", "tc_estimate", "refine_temperatures", "N_REFINE",
            "TABLE_EXTRA", "length_convergence", "select_second_moment"]
@@ -146,69 +144,32 @@ def sweep_table(rows):
     return out
 
 
-def _common(table):
-    """The table restricted to temperatures every size has (for Binder crossings)."""
-    sets = [set(np.round(d["temperature_K"], 9)) for d in table.values()]
-    common = sorted(set.intersection(*sets))
-    out = {}
-    for L, d in table.items():
-        keep = np.isin(np.round(d["temperature_K"], 9), common)
-        out[L] = {c: v[keep] for c, v in d.items()}
-    return out
+def tc_estimate(rows, anisotropy=None):
+    """Critical temperature of a sweep, for ``tc.json``: one value by the rule of
+    :func:`thinfilm.analysis.tc_rule.choose_tc` (Binder crossings, their drift with size, the
+    U4 collapse and the susceptibility peaks, each counted only where the data bracket it),
+    with the others as cross-checks. When the data do not bracket Tc, ``tc_K`` is None and
+    ``status``, ``message`` and ``fix`` say what the data show and what to change.
 
-
-def _clean(v):
-    if isinstance(v, (np.floating, float)):
-        return float(v) if math.isfinite(v) else None
-    if isinstance(v, np.integer):
-        return int(v)
-    if isinstance(v, (tuple, list)):
-        return [_clean(x) for x in v]
-    if isinstance(v, dict):
-        return {k: _clean(x) for k, x in v.items()}
-    if isinstance(v, np.bool_):
-        return bool(v)
-    return v
-
-
-def tc_estimate(rows):
-    """Critical temperature of a sweep, for ``tc.json``.
-
-    Two or more sizes: crossing of the Binder cumulants
-    (:func:`thinfilm.analysis.critical.tc_from_binder_crossing`); one size, or when the
-    curves do not cross: the susceptibility peak of the largest size. When neither works,
-    ``tc_K`` is None and ``note`` says why.
+    Parameters
+    ----------
+    rows : dict
+        {(size, temperature_K): row} of the sweep.
+    anisotropy : float, optional
+        Single-ion anisotropy (its sign selects the universality class checks).
 
     Returns
     -------
     dict
-        tc_K, tc_err_K (K), method, sizes, and the estimator's extra entries.
+        As :func:`thinfilm.analysis.tc_rule.choose_tc` (tc_K, tc_err_K, method, status, ...).
     """
-    table = _common(sweep_table(rows))
-    sizes = sorted(table)
-    notes = []
-    if len(sizes) >= 2 and len(table[sizes[0]]["temperature_K"]) >= 3:
-        try:
-            res = estimate_tc(table)
-            res["method"] = "binder_crossing"
-            return _clean(res)
-        except ValueError as exc:
-            notes.append(f"Binder crossing: {exc}")
-    full = sweep_table(rows)[sizes[-1]]
-    try:
-        res = tc_from_peaks(full["temperature_K"], full["susceptibility"],
-                            full["susceptibility_err"])
-        res.update(method="susceptibility_peak", sizes=[sizes[-1]])
-        if notes:
-            res["note"] = "; ".join(notes)
-        return _clean(res)
-    except ValueError as exc:
-        notes.append(f"susceptibility peak: {exc}")
-    return {"tc_K": None, "tc_err_K": None, "method": None, "sizes": sizes,
-            "note": "; ".join(notes)}
+    methods = {str(r.get("method")) for r in rows.values()}
+    mode = {"llg": "llg-set", "monte-carlo": "mc-set"}.get(methods.pop()) if len(methods) == 1 \
+        else None
+    return choose_tc(sweep_table(rows), anisotropy=anisotropy, mode=mode)
 
 
-def refine_temperatures(rows, temperatures_K, n=N_REFINE):
+def refine_temperatures(rows, temperatures_K, n=N_REFINE, anisotropy=None):
     """About ``n`` extra temperatures (K) around the transition, at a third of the step.
 
     The centre is the Binder crossing (several sizes) or the susceptibility peak of the
@@ -228,10 +189,18 @@ def refine_temperatures(rows, temperatures_K, n=N_REFINE):
         return []
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        est = tc_estimate(rows)
+        est = tc_estimate(rows, anisotropy)
     centre = est.get("tc_K")
     if centre is None:
-        return []
+        # no bracketed Tc yet: refine about the best interior guess (largest sizes first), as
+        # the refinement is what may bracket it
+        lo, hi = temps[0], temps[-1]
+        checks = list(reversed(est.get("cross_checks") or []))
+        guesses = [e["tc_K"] for m in ("binder_crossing", "susceptibility_peak") for e in checks
+                   if e.get("method") == m and e.get("tc_K") is not None and lo < e["tc_K"] < hi]
+        if not guesses:
+            return []
+        centre = guesses[0]
     step = float(np.median(np.diff(temps))) / 3.0
     centre = min(max(centre, temps[0]), temps[-1])
     cand = centre + step * (np.arange(n) - (n - 1) / 2.0)
