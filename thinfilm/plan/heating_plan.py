@@ -424,7 +424,8 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
             "file_stem": f"plan-{ins['name']}" if instrument is not None else "plan",
             "tc": tc, "tc_status": tc["status"], "tc_json_rewritten": rewritten,
             "tc_K": tc["tc_K"], "tc_err_K": tc["tc_err_K"], "tc_method": tc["method_text"],
-            "tc_spread_K": tc.get("tc_spread_K"), "tc_realisations_K": tc.get("tc_realisations_K")}
+            "tc_spread_K": tc.get("tc_spread_K"), "tc_realisations_K": tc.get("tc_realisations_K"),
+            "options": {"n_points": n_points, "dwell_s": dwell_s, "llg_duration_s": llg_s}}
     if tc["status"] != "found":
         return _no_plan(head, out, tab, size)
     a = analyse_sweep(out, ins, tc=tc, box_nm=box, n_points=n_points, n_boot=n_boot, seed=seed)

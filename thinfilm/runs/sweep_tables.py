@@ -4,6 +4,8 @@ All functions read the per-point rows ``{(size, temperature_K): row}`` of
 :mod:`thinfilm.sweep` (rows as in :data:`thinfilm.sweep_point.ROW_COLUMNS`).
 """
 
+import math
+
 import numpy as np
 
 from thinfilm.analysis.tc_rule import choose_tc
