@@ -33,6 +33,15 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
     stochastic LLG run (:mod:`thinfilm.runs.time_resolved`). See :mod:`thinfilm.input.modes`.
     """
     _refuse_worker_import("run")
+    if not hasattr(source, "is_sweep"):
+        from thinfilm.input.coarse_spec import is_coarse
+
+        if is_coarse(source):  # a coarse film (stochastic LLB on nm cells)
+            from thinfilm.runs.coarse_run import run_coarse
+
+            run_coarse(source, out_dir, resume=resume, overwrite=overwrite, progress=progress)
+            plot_run(out_dir)
+            return Path(out_dir)
     sc = _scenario(source)
     if resume and overwrite:
         raise InputError(f"{option('resume')} and {option('overwrite')} exclude each other: "
@@ -97,7 +106,14 @@ def plot_run(run_dir):
     from thinfilm.runs.lifecycle import hold
 
     with hold(run_dir):  # not while a run writes the folder; the manifest lists the figures
-        paths = plots.plot_sweep(run_dir) if kind == "sweep" else plots.plot_timeseries(run_dir)
+        if kind == "sweep":
+            paths = plots.plot_sweep(run_dir)
+        elif kind == "coarse-film":
+            from thinfilm.render.coarse_plots import plot_coarse
+
+            paths = [plot_coarse(run_dir), *plots.plot_timeseries(run_dir)]
+        else:
+            paths = plots.plot_timeseries(run_dir)
         refresh_file_list(run_dir)
     return paths
 

@@ -90,8 +90,14 @@ def _print_check(sc):
 
 
 def _cmd_check(args):
+    from thinfilm.input.coarse_spec import is_coarse
     from thinfilm.input.scenario import load_scenario
 
+    if is_coarse(args.file):
+        from thinfilm.render.coarse_check import print_coarse_check
+
+        print_coarse_check(args.file)
+        return 0
     _print_check(load_scenario(args.file))
     return 0
 

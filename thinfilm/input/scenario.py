@@ -14,7 +14,7 @@ import numpy as np
 import yaml
 
 from thinfilm.input import calibration_spec as curie
-from thinfilm.input.continuum import continuum_to_lattice
+from thinfilm.input.continuum import continuum_to_lattice, warn_continuum_cells
 from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
@@ -409,6 +409,7 @@ def load_scenario(source):
         dyn = replace(dyn, moves=("metropolis",))
     initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes
                                  else lat)
+    warn_continuum_cells(path, lat.spacing_nm, bool(mat.continuum), max(temps))
     return Scenario(str(name), path, lat, mat, field_T, t0, dyn, initial, every,
                     snap_every, seed, sweep, primary, movie, analysis, data, mode, instruments,
                     disorder, initial_width_nm=width_nm)

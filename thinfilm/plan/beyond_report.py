@@ -153,8 +153,8 @@ def beyond_lines(plan):
                + f", q = {fit.get('crossover_q', float('nan')):.3g})"
                if fit.get("finite_size") else "the rows converged in the film size")
         out.append(f"- xi (second moment, S(0) from the whole run) fitted as A |t|^-nu "
-                   f"(1 + c |t|), nu = {fit['nu']:g}, A = {fit['amplitude_nm']:.3g} +- "
-                   f"{fit['amplitude_err_nm']:.2g} nm, through {how}: {fit['n_points']} points, "
+                   f"(1 + c |t|), nu = {fit['nu']:g}, "
+                   f"A = {fmt_pm(fit['amplitude_nm'], fit['amplitude_err_nm'], unit='nm')}, through {how}: {fit['n_points']} points, "
                    f"{fit.get('n_converged_rows', 0)} rows converged in size (film side >= 10 "
                    f"xi, or two sizes agree within 2 errors). Values in extrapolation.csv are "
                    f"flagged measured (a size converged) / finite-size scaling / extrapolated / "

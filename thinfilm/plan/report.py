@@ -88,7 +88,7 @@ def _max_xi_text(plan):
     x, t = plan.get("max_correlation_length_nm"), plan.get("max_correlation_length_at_K")
     if x is None:
         return "no correlation length was measured"
-    return f"max {x:.2g} nm at {t:g} K on the smoothed curve"
+    return f"max {x:.2g} nm at {t:g} K on the largest lattice's smoothed curve"
 
 
 def resolved_note(plan):
