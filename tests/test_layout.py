@@ -20,7 +20,7 @@ import pytest
 PKG = Path(__file__).resolve().parents[1] / "thinfilm"
 ORDER = ["leaf", "input", "model", "engines", "analysis", "runs", "render", "plan", "api",
          "demo_pipeline", "cli_lab", "cli", "top"]
-LEAVES = {"thinfilm._io", "thinfilm._version", "thinfilm.config"}
+LEAVES = {"thinfilm._io", "thinfilm._numbers", "thinfilm._version", "thinfilm.config"}
 MAX_LINES = 420
 
 
