@@ -335,7 +335,7 @@ def test_7_a_monte_carlo_point_continues_from_its_saved_state(tmp_path, monkeypa
     sc = load_scenario(data)
     ref = run_sweep(sc, tmp_path / "ref", workers=1, progress=False)
     monkeypatch.setenv("THINFILM_POINT_CHECKPOINT_S", "0")
-    real_save, saves = sp._save_partial, []
+    real_save, saves = sp.save_partial, []
 
     def save_then_kill(*a, **k):
         real_save(*a, **k)
@@ -343,12 +343,12 @@ def test_7_a_monte_carlo_point_continues_from_its_saved_state(tmp_path, monkeypa
         if len(saves) == 3:
             raise KeyboardInterrupt  # killed after the third of six chunks was saved
 
-    monkeypatch.setattr(sp, "_save_partial", save_then_kill)
+    monkeypatch.setattr(sp, "save_partial", save_then_kill)
     with pytest.raises(KeyboardInterrupt):
         run_sweep(sc, tmp_path / "cut", workers=1, progress=False)
     point = tmp_path / "cut" / "points" / "L8_T2.500K"
     assert (point / "partial.npz").is_file() and not (point / "point.json").exists()
-    monkeypatch.setattr(sp, "_save_partial", real_save)
+    monkeypatch.setattr(sp, "save_partial", real_save)
     warmups = []
     real_warmup = MonteCarlo.warmup
     monkeypatch.setattr(MonteCarlo, "warmup",

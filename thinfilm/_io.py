@@ -2,7 +2,7 @@
 
 A written file gets the permissions the user's umask gives any new file (``0o666 & ~umask``),
 not the private 0o600 of a temporary file. A file-system error (no permission, disk full, a
-file in the way) becomes one :class:`~thinfilm.input.errors.OutputError` paragraph.
+file in the way) becomes one :class:`OutputError` paragraph.
 """
 
 import csv
@@ -16,10 +16,13 @@ from pathlib import Path
 
 import numpy as np
 
-from thinfilm.input.errors import OutputError, option
-
 __all__ = ["atomic_write_bytes", "atomic_write_text", "write_json", "write_npz", "write_csv",
-           "os_error", "file_mode"]
+           "os_error", "file_mode", "OutputError"]
+
+
+class OutputError(OSError):
+    """A file or folder cannot be written (no permission, disk full, a file in the way); the
+    message is one paragraph naming the path, the reason and what to do."""
 
 _umask_guard = threading.Lock()
 
@@ -33,18 +36,17 @@ def file_mode():
 
 
 _ADVICE = {
-    errno.EACCES: "you have no permission to write there; choose a folder you own ({out}) or "
+    errno.EACCES: "you have no permission to write there; choose an output folder you own or "
                   "ask for write access",
-    errno.EPERM: "the operation is not permitted there; choose a folder you own ({out})",
+    errno.EPERM: "the operation is not permitted there; choose an output folder you own",
     errno.ENOSPC: "the disk is full; free some space or choose a folder on another disk, then "
-                  "continue with {resume}: finished parts are kept",
+                  "resume the run: finished parts are kept",
     errno.EDQUOT: "your disk quota is used up; free some space or choose a folder on another "
-                  "disk, then continue with {resume}: finished parts are kept",
-    errno.EROFS: "the file system is read-only; choose a writable folder ({out})",
-    errno.ENOTDIR: "a part of that path is a file, not a folder; choose another output folder "
-                   "({out})",
-    errno.EEXIST: "a file of that name is in the way; choose another output folder ({out})",
-    errno.EISDIR: "a folder of that name is in the way; choose another output folder ({out})",
+                  "disk, then resume the run: finished parts are kept",
+    errno.EROFS: "the file system is read-only; choose a writable output folder",
+    errno.ENOTDIR: "a part of that path is a file, not a folder; choose another output folder",
+    errno.EEXIST: "a file of that name is in the way; choose another output folder",
+    errno.EISDIR: "a folder of that name is in the way; choose another output folder",
 }
 
 
@@ -52,9 +54,10 @@ def os_error(exc, path=None, doing="write it"):
     """An :class:`OutputError` (one paragraph) for an OSError met while writing ``path``."""
     where = path or exc.filename or "the output folder"
     reason = exc.strerror or str(exc)
-    advice = _ADVICE.get(exc.errno, "check the path and the disk, then try again").format(
-        out=option("out_dir"), resume=option("resume"))
-    return OutputError(f"{where}: cannot {doing} ({reason}); {advice}.")
+    advice = _ADVICE.get(exc.errno, "check the path and the disk, then try again")
+    err = OutputError(f"{where}: cannot {doing} ({reason}); {advice}.")
+    err.errno = exc.errno
+    return err
 
 
 

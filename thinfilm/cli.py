@@ -307,10 +307,10 @@ def main(argv=None):
         print(f"thinfilm: error: {exc}", file=sys.stderr)
         return 2
     except OSError as exc:  # the file system refused (no permission, disk full, a file in the way)
-        from thinfilm._io import os_error
+        from thinfilm._io import OutputError, os_error
 
-        with command_line_spelling():
-            print(f"thinfilm: error: {os_error(exc, doing='use it')}", file=sys.stderr)
+        err = exc if isinstance(exc, OutputError) else os_error(exc, doing="use it")
+        print(f"thinfilm: error: {err}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         flag = "--reuse" if getattr(args, "command", "") == "plan" else "--resume"

@@ -7,7 +7,6 @@ __all__ = [
     "ScenarioError",
     "InputError",
     "StabilityError",
-    "OutputError",
     "ThinFilmWarning",
     "option",
     "command_line_spelling",
@@ -67,10 +66,6 @@ class ScenarioError(ThinFilmError, ValueError):
 
 class InputError(ThinFilmError, ValueError):
     """A command-line value, image or run folder is invalid."""
-
-
-class OutputError(ThinFilmError, OSError):
-    """A file or folder cannot be written (no permission, disk full, a file in the way)."""
 
 
 class StabilityError(ThinFilmError, RuntimeError):

@@ -84,7 +84,9 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
         if stored is not None:
             check_identity(out, stored, scenario_identity(sc), doing="reuse")
         done = m.get("finished") and (out / "observables.csv").is_file() and (out / "tc.json").is_file()
-        if done:
+        # a sweep killed after its tables but before its figures: the runner draws them
+        figures_missing = runner is not run_sweep and not (out / "plots").is_dir()
+        if done and not figures_missing:
             return "reused"
         runner(sc, out, resume=True, workers=workers, progress=progress)
         return "resumed"

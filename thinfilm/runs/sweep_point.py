@@ -37,6 +37,7 @@ from thinfilm.input.units import MEV_J
 from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
 from thinfilm.runs.folder import SNAPSHOT_FORMAT
+from thinfilm.runs.point_state import checkpoint_every_s, load_partial, save_partial
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
            "ROW_COLUMNS", "init_worker"]
@@ -87,9 +88,9 @@ class PointTask:
     start : str
         Where the spins came from (for ``point.json``).
     checkpoint : str or None
-        File for the state of an unfinished Monte Carlo point (written by the worker at most
-        every :data:`POINT_CHECKPOINT_S`, read back when the point is computed again after a
-        kill); None (e.g. on a remote cluster) keeps no such state.
+        File for the state of an unfinished Monte Carlo point (:mod:`thinfilm.runs.point_state`:
+        written by the worker, read back when the point is computed again after a kill); None
+        (e.g. on a remote cluster) keeps no such state.
     """
 
     scenario: object
@@ -99,58 +100,6 @@ class PointTask:
     spins: object = None
     start: str = "initial"
     checkpoint: object = None
-
-
-#: wall-clock seconds between the checkpoints of an unfinished Monte Carlo point
-#: (THINFILM_POINT_CHECKPOINT_S overrides it)
-POINT_CHECKPOINT_S = 10.0
-
-
-def _checkpoint_every_s():
-    import os
-
-    try:
-        return float(os.environ.get("THINFILM_POINT_CHECKPOINT_S", POINT_CHECKPOINT_S))
-    except ValueError:
-        return POINT_CHECKPOINT_S
-
-
-def _load_partial(task, n_samples, n_chunks):
-    """The saved state of this point's Monte Carlo sampling, or None."""
-    if not task.checkpoint:
-        return None
-    try:
-        with np.load(task.checkpoint, allow_pickle=False) as z:
-            ck = {k: z[k] for k in z.files}
-    except (OSError, ValueError):
-        return None
-    try:
-        key = (int(ck["seed"]), int(ck["size"]), float(ck["temperature_K"]), int(ck["n_samples"]),
-               int(ck["n_chunks"]))
-    except KeyError:
-        return None
-    if key != (int(task.seed), int(task.size), float(task.temperature_K), n_samples, n_chunks) \
-            or not 0 < int(ck["done"]) < n_chunks:
-        return None
-    return ck
-
-
-def _save_partial(task, mc, n_samples, n_chunks, done, parts, acc, snaps, probes):
-    from thinfilm._io import write_npz
-
-    st = mc.state
-    write_npz(task.checkpoint, compress=False,
-              seed=np.int64(task.seed), size=np.int64(task.size),
-              temperature_K=np.float64(task.temperature_K), n_samples=np.int64(n_samples),
-              n_chunks=np.int64(n_chunks),
-              spins=st["spins"], sweep=st["sweep"], sigma=st["sigma"],
-              clusters_per_sweep=st.get("clusters_per_sweep", -1), done=done,
-              energy_J=np.concatenate([p["energy_J"] for p in parts]),
-              m_vector=np.concatenate([p["m_vector"] for p in parts]),
-              sweeps=np.concatenate([p["sweep"] for p in parts]),
-              acceptance=np.asarray(acc, dtype=np.float64), snaps=np.asarray(snaps),
-              probe_values=np.asarray(probes.values, dtype=np.float64),
-              probe_at=np.asarray(probes.at, dtype=np.int64), probe_done=np.int64(probes.done))
 
 
 def point_seed(seed, size, temperature_K):
@@ -254,8 +203,8 @@ def _sample_mc(task, model, spins):
                           **extra)
     chunks = _split(n_samples, task.scenario.sweep.snapshots)
     parts, snaps, acc, probes = [], [], [], _Probes(model, n_samples)
-    every_s, last = _checkpoint_every_s(), time.time()
-    ck = _load_partial(task, n_samples, len(chunks))
+    every_s, last = checkpoint_every_s(), time.time()
+    ck = load_partial(task, n_samples, len(chunks))
     if ck is None:
         mc.warmup(int(d.sweeps_warmup))
         first = 0
@@ -282,7 +231,7 @@ def _sample_mc(task, model, spins):
             probes.after(mc.spins, m)
         snaps.append(mc.spins @ model.axis)  # S.n only: 8 bytes per site and snapshot
         if task.checkpoint and i + 1 < len(chunks) and time.time() - last >= every_s:
-            _save_partial(task, mc, n_samples, len(chunks), i + 1, parts, acc, snaps, probes)
+            save_partial(task, mc, n_samples, len(chunks), i + 1, parts, acc, snaps, probes)
             last = time.time()
     series = {
         "energy_J": np.concatenate([p["energy_J"] for p in parts]),
