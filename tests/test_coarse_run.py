@@ -7,7 +7,7 @@ import pytest
 
 from thinfilm.api import run
 from thinfilm.input.coarse_spec import load_coarse
-from thinfilm.input.errors import ScenarioError
+from thinfilm.input.errors import InputError, ScenarioError
 from thinfilm.input.parameter_table import ParameterTable
 from thinfilm.runs.coarse_run import run_coarse
 from thinfilm.runs.folder import load_snapshot
@@ -33,7 +33,7 @@ def _scenario(tmp_path, **over):
     return sc
 
 
-def test_run_folder_layout_and_bitwise_resume(tmp_path):
+def test_run_folder_layout_and_bitwise_resume(tmp_path, monkeypatch):
     sc = _scenario(tmp_path)
     out = run(sc, tmp_path / "a", progress=False)
     man = json.loads((out / "manifest.json").read_text())
@@ -44,8 +44,25 @@ def test_run_folder_layout_and_bitwise_resume(tmp_path):
         assert (out / name).is_file(), name
     snap = load_snapshot(out / "snapshots" / "final.npz")
     assert snap["spins"].shape == (16, 16, 3)
-    # an interrupted run (first temperature only) resumed gives the same final state bit for bit
-    run_coarse(dict(sc, temperatures=["50 K"]), tmp_path / "b", progress=False)
+    # a run interrupted after its first temperature, resumed, gives the same final state bit
+    # for bit (a resume with another temperature list is refused: another scenario)
+    from thinfilm.engines.llb import CoarseFilm
+
+    real, seen = CoarseFilm.parameters, []
+
+    def stop_at_second(self, T):
+        seen.append(T)
+        if len(seen) == 2:
+            raise KeyboardInterrupt
+        return real(self, T)
+
+    monkeypatch.setattr(CoarseFilm, "parameters", stop_at_second)
+    with pytest.raises(KeyboardInterrupt):
+        run_coarse(sc, tmp_path / "b", progress=False)
+    monkeypatch.setattr(CoarseFilm, "parameters", real)
+    with pytest.raises(InputError, match="temperatures_K"):
+        run_coarse(dict(sc, temperatures=["50 K", "120 K"]), tmp_path / "b", resume=True,
+                   progress=False)
     run_coarse(sc, tmp_path / "b", resume=True, progress=False)
     a = load_snapshot(out / "snapshots" / "final.npz")["spins"]
     b = load_snapshot(tmp_path / "b" / "snapshots" / "final.npz")["spins"]

@@ -2,7 +2,7 @@
 
 from pathlib import Path
 
-from thinfilm.input.errors import InputError
+from thinfilm.input.errors import InputError, option
 from thinfilm.input.scenario import Scenario, load_scenario
 
 __all__ = ["run", "plot_run", "plan"]
@@ -43,6 +43,19 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
             plot_run(out_dir)
             return Path(out_dir)
     sc = _scenario(source)
+    if resume and overwrite:
+        raise InputError(f"{option('resume')} and {option('overwrite')} exclude each other: "
+                         f"continue the run in the folder, or delete it and start afresh")
+    from thinfilm.runs.folder import refresh_file_list
+    from thinfilm.runs.lifecycle import hold
+
+    with hold(out_dir):  # one writer for the whole run, its figures and its movie
+        _run(sc, out_dir, resume, overwrite, workers, cluster, progress)
+        refresh_file_list(out_dir)
+    return Path(out_dir)
+
+
+def _run(sc, out_dir, resume, overwrite, workers, cluster, progress):
     if sc.is_sweep:
         from thinfilm.runs.sweep import run_sweep
 
@@ -76,7 +89,6 @@ def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster
             write_movie(out_dir, Path(out_dir) / ("movie.gif" if sc.movie["gif"] else "movie.mp4"),
                         fps=sc.movie["fps"], colour=sc.movie["colour"], gif=sc.movie["gif"],
                         instrument=True if sc.movie["instrument"] and sc.instrument else None)
-    return Path(out_dir)
 
 
 def plot_run(run_dir):
@@ -90,14 +102,20 @@ def plot_run(run_dir):
                          f"'thinfilm run' or 'thinfilm demo'")
     kind = json.loads(man.read_text()).get("kind")
     from thinfilm.render import plots
+    from thinfilm.runs.folder import refresh_file_list
+    from thinfilm.runs.lifecycle import hold
 
-    if kind == "sweep":
-        return plots.plot_sweep(run_dir)
-    if kind == "coarse-film":
-        from thinfilm.render.coarse_plots import plot_coarse
+    with hold(run_dir):  # not while a run writes the folder; the manifest lists the figures
+        if kind == "sweep":
+            paths = plots.plot_sweep(run_dir)
+        elif kind == "coarse-film":
+            from thinfilm.render.coarse_plots import plot_coarse
 
-        return [plot_coarse(run_dir), *plots.plot_timeseries(run_dir)]
-    return plots.plot_timeseries(run_dir)
+            paths = [plot_coarse(run_dir), *plots.plot_timeseries(run_dir)]
+        else:
+            paths = plots.plot_timeseries(run_dir)
+        refresh_file_list(run_dir)
+    return paths
 
 
 def plan(source, out_dir, **options):

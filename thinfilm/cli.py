@@ -170,8 +170,20 @@ def _cmd_movie(args):
             raise InputError(f"--fwhm/--pixel: {exc}") from None
         instrument = {"fwhm_nm": fwhm, "pixel_nm": pix, "noise": args.noise}
     out = args.output or str(Path(args.run_dir) / ("movie.gif" if args.gif else "movie.mp4"))
-    info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour, instrument=instrument,
-                       gif=args.gif)
+    run_dir = Path(args.run_dir)
+    inside = (run_dir / "manifest.json").is_file() and \
+        Path(out).resolve().is_relative_to(run_dir.resolve())
+    if inside:  # a movie written into a run folder: not while a run writes it, and listed
+        from thinfilm.runs.folder import refresh_file_list
+        from thinfilm.runs.lifecycle import hold
+
+        with hold(run_dir):
+            info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour,
+                               instrument=instrument, gif=args.gif)
+            refresh_file_list(run_dir)
+    else:
+        info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour,
+                           instrument=instrument, gif=args.gif)
     print(f"movie: {info.path} ({info.n_frames} frames, {info.width} x {info.height} px, {info.fps} fps)")
     return 0
 
@@ -189,6 +201,7 @@ def _cmd_plan(args):
 
     res = plan(args.file, args.output, resolution=args.resolution, exposure=args.exposure,
                     field_of_view=args.field_of_view, workers=args.workers, reuse=args.reuse,
+                    overwrite=args.overwrite,
                     progress=not args.quiet, n_points=args.points, dwell=args.dwell,
                     llg_duration=args.llg_duration, instrument=args.instrument)
     print(res["summary_text"])
@@ -221,8 +234,10 @@ def build_parser():
     s = sub.add_parser("run", help="run a scenario (one dynamics run, or a temperature sweep)")
     s.add_argument("file")
     s.add_argument("-o", "--output", required=True, help="run folder")
-    s.add_argument("--resume", action="store_true", help="continue an interrupted run in the same folder")
-    s.add_argument("--overwrite", action="store_true", help="replace an earlier run in the folder")
+    s.add_argument("--resume", action="store_true",
+                   help="continue an interrupted run in the same folder (same scenario)")
+    s.add_argument("--overwrite", action="store_true",
+                   help="delete the earlier run in the folder, then run afresh")
     s.add_argument("--workers", type=int, default=None, help="local worker processes for a sweep")
     s.add_argument("--cluster", default=None, help="Dask scheduler address, e.g. tcp://host:8786")
     s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
@@ -268,7 +283,11 @@ def build_parser():
     s.add_argument("--exposure", default=None, help='exposure time, e.g. "10 ms"')
     s.add_argument("--field-of-view", default=None, help='field of view, e.g. "5 um"')
     s.add_argument("--workers", type=int, default=None)
-    s.add_argument("--reuse", action="store_true", help="reuse a finished sweep in the folder")
+    s.add_argument("--reuse", action="store_true",
+                   help="build the plan from the sweep in the folder (an unfinished one is "
+                        "continued; it must be of the same scenario)")
+    s.add_argument("--overwrite", action="store_true",
+                   help="delete the run in the folder and start afresh")
     s.add_argument("--instrument", default=None,
                    help="name of one of the scenario's instruments (default: the first)")
     s.add_argument("--points", type=int, default=15, help="number of temperatures in the schedule")
@@ -305,9 +324,16 @@ def main(argv=None):
     except ThinFilmError as exc:
         print(f"thinfilm: error: {exc}", file=sys.stderr)
         return 2
+    except OSError as exc:  # the file system refused (no permission, disk full, a file in the way)
+        from thinfilm._io import OutputError, os_error
+
+        err = exc if isinstance(exc, OutputError) else os_error(exc, doing="use it")
+        print(f"thinfilm: error: {err}", file=sys.stderr)
+        return 2
     except KeyboardInterrupt:
-        print("thinfilm: interrupted; finished parts are saved. Continue with the same command and --resume.",
-              file=sys.stderr)
+        flag = "--reuse" if getattr(args, "command", "") == "plan" else "--resume"
+        print(f"thinfilm: interrupted; finished parts are saved. Continue with the same command "
+              f"and {flag}.", file=sys.stderr)
         return 130
     if getattr(args, "command", "") in ("run", "demo", "plan"):
         print(f"wall time {time.time() - t:.1f} s")

@@ -33,7 +33,14 @@ from thinfilm.plan.beyond_lattice import _lengths, beyond_lattice, infinite_film
 from thinfilm.plan.curves import clean_json as _clean
 from thinfilm.plan.curves import crossing, fill_errors, schedule, smooth_log
 from thinfilm.plan.instrument import _quantity, instrument_values
-from thinfilm.runs.folder import read_csv_table
+from thinfilm.runs.folder import read_csv_table, refresh_file_list
+from thinfilm.runs.lifecycle import (
+    check_identity,
+    hold,
+    read_manifest,
+    scenario_identity,
+    stored_identity,
+)
 from thinfilm.runs.sweep import run_sweep
 
 __all__ = ["make_plan", "instrument_values", "analyse_sweep", "LLG_FRACTIONS"]
@@ -49,39 +56,37 @@ def _scenario(source):
     return load_scenario(source)
 
 
-def _comparable(described):
-    d = json.loads(json.dumps(described, default=lambda o: o.tolist() if hasattr(o, "tolist") else str(o)))
-    for k in ("source", "instrument"):
-        d.pop(k, None)
-    return d
-
-
-def _ensure_sweep(sc, out, reuse, workers, progress, runner):
+def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
     """Run, resume or reuse the sweep in ``out``; returns 'ran', 'resumed' or 'reused'."""
-    man = out / "manifest.json"
     if not sc.is_sweep:
         raise ScenarioError("the heating plan needs a temperature sweep: give temperature as a "
                             "list or a {start, stop, step} range (at least 5 temperatures)",
                             path=sc.source, key="temperature")
-    if man.is_file():
+    if reuse and overwrite:
+        raise InputError(f"{option('reuse')} and {option('overwrite')} exclude each other: "
+                         f"build the plan from the sweep in the folder, or delete it and start "
+                         f"afresh")
+    m = read_manifest(out)
+    if m is not None:
+        if overwrite:
+            runner(sc, out, overwrite=True, workers=workers, progress=progress)
+            return "ran"
         if not reuse:
             raise InputError(f"{out}: already holds a run (manifest.json). Pass {option('reuse')} "
                              f"to build the plan from its sweep (an unfinished sweep is "
-                             f"continued), or choose another folder ({option('out_dir')}).")
-        try:
-            m = json.loads(man.read_text())
-        except (OSError, ValueError):
-            raise InputError(f"{man}: unreadable manifest; choose another folder "
-                             f"({option('out_dir')})") from None
+                             f"continued), {option('overwrite')} to delete it and start afresh, "
+                             f"or choose another folder ({option('out_dir')}).")
         if m.get("kind") != "sweep":
             raise InputError(f"{out}: holds a {m.get('kind')!r} run, not a sweep; choose another "
-                             f"folder ({option('out_dir')})")
-        if "scenario" in m and _comparable(m["scenario"]) != _comparable(sc.describe()):
-            raise InputError(f"{out}: its sweep was run with a different scenario (manifest.json "
-                             f"'scenario' differs from {sc.source}); use the same scenario or "
-                             f"another folder ({option('out_dir')}).")
+                             f"folder ({option('out_dir')}), or {option('overwrite')} to "
+                             f"replace it")
+        stored = stored_identity(m)
+        if stored is not None:
+            check_identity(out, stored, scenario_identity(sc), doing="reuse")
         done = m.get("finished") and (out / "observables.csv").is_file() and (out / "tc.json").is_file()
-        if done:
+        # a sweep killed after its tables but before its figures: the runner draws them
+        figures_missing = runner is not run_sweep and not (out / "plots").is_dir()
+        if done and not figures_missing:
             return "reused"
         runner(sc, out, resume=True, workers=workers, progress=progress)
         return "resumed"
@@ -249,23 +254,26 @@ def _fluctuations(sc, temps, size, duration_s, progress, out):
     dy = sc.dynamics
     key = {"temperatures_K": [float(x) for x in temps], "size": int(size),
            "duration_s": float(duration_s), "damping": dy.damping, "time_step_s": dy.time_step_s,
-           "gamma": dy.gamma, "seed": int(sc.seed), "scenario": _comparable(sc.describe())}
+           "gamma": dy.gamma, "seed": int(sc.seed), "scenario": scenario_identity(sc)}
     cache = out / "fluctuations.json"
+    runs = []
     if cache.is_file():
         try:
             old = json.loads(cache.read_text())
         except (OSError, ValueError):
             old = {}
-        if old.get("key") == _clean(key):
-            return old["runs"], model
-    runs = []
+        if old.get("key") == _clean(key):  # finished runs (all, or those before a kill)
+            runs = list(old.get("runs") or [])[:len(temps)]
     from tqdm import tqdm
 
     for i, temp in enumerate(tqdm(temps, desc="LLG fluctuation runs", disable=(not progress) or None,
                                   leave=False)):
-        runs.append(fluctuation_time(model, temp, damping=dy.damping, time_step_s=dy.time_step_s,
-                                     duration_s=duration_s, seed=sc.seed + 101 * (i + 1), gamma=dy.gamma))
-    write_json(cache, {"key": _clean(key), "runs": _clean(runs)})
+        if i < len(runs):
+            continue
+        runs.append(_clean(fluctuation_time(model, temp, damping=dy.damping,
+                                            time_step_s=dy.time_step_s, duration_s=duration_s,
+                                            seed=sc.seed + 101 * (i + 1), gamma=dy.gamma)))
+        write_json(cache, {"key": _clean(key), "runs": runs})  # saved one by one
     return runs, model
 
 
@@ -334,7 +342,7 @@ def _edge(d):
 def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=None, workers=None,
               reuse=False, progress=True, n_points=15, dwell="5 min", llg_size=16,
               llg_duration="150 ps", llg_temperatures=None, n_boot=400, seed=0, runner=None,
-              instrument=None):
+              instrument=None, overwrite=False):
     """Heating plan for a film (scenario with a temperature sweep) and an instrument.
 
     Parameters
@@ -349,8 +357,10 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     workers : int, optional
         Worker processes of the sweep.
     reuse : bool
-        Build the plan from a sweep already in ``out_dir`` (continuing it if unfinished);
-        without it, a folder holding a run is refused.
+        Build the plan from a sweep already in ``out_dir`` (continuing it if unfinished; the
+        folder must hold the same scenario); without it, a folder holding a run is refused.
+    overwrite : bool
+        Delete the run that ``out_dir`` holds and start afresh.
     progress : bool
         Progress bars.
     n_points : int
@@ -393,7 +403,16 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     dwell_s = _quantity("dwell", dwell, "time", "5 min")
     llg_s = _quantity("llg_duration", llg_duration, "time", "150 ps")
     out = Path(out_dir)
-    how = _ensure_sweep(sc, out, reuse, workers, progress, runner or run_sweep)
+    with hold(out):  # one writer: the sweep, the LLG runs and the plan's files
+        res = _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, llg_s,
+                    llg_temperatures, n_boot, seed, runner, instrument, overwrite, plan_report)
+        refresh_file_list(out)
+    return res
+
+
+def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, llg_s,
+          llg_temperatures, n_boot, seed, runner, instrument, overwrite, plan_report):
+    how = _ensure_sweep(sc, out, reuse, workers, progress, runner or run_sweep, overwrite)
     from thinfilm.model.parameters import build_model
     from thinfilm.runs.sweep_point import sized_scenario
 
@@ -407,7 +426,8 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
             "file_stem": f"plan-{ins['name']}" if instrument is not None else "plan",
             "tc": tc, "tc_status": tc["status"], "tc_json_rewritten": rewritten,
             "tc_K": tc["tc_K"], "tc_err_K": tc["tc_err_K"], "tc_method": tc["method_text"],
-            "tc_spread_K": tc.get("tc_spread_K"), "tc_realisations_K": tc.get("tc_realisations_K")}
+            "tc_spread_K": tc.get("tc_spread_K"), "tc_realisations_K": tc.get("tc_realisations_K"),
+            "options": {"n_points": n_points, "dwell_s": dwell_s, "llg_duration_s": llg_s}}
     if tc["status"] != "found":
         return _no_plan(head, out, tab, size)
     a = analyse_sweep(out, ins, tc=tc, box_nm=box, n_points=n_points, n_boot=n_boot, seed=seed)
@@ -455,7 +475,16 @@ def make_plan(source, out_dir, *, resolution=None, exposure=None, field_of_view=
     plan = _clean(plan)
     plan["resolved_note"] = plan_report.resolved_note(plan)
     plan["timescale_note"] = plan_report.timescale_note(plan)
+    plan["options"] = {"n_points": n_points, "dwell_s": dwell_s, "llg_duration_s": llg_s}
     plan["command"] = plan_report.command(plan, out)
+    api_only = {k: v for k, v, default in (("llg_size", llg_size, 16), ("n_boot", n_boot, 400),
+                                           ("seed", seed, 0), ("llg_temperatures",
+                                                               llg_temperatures, None))
+                if v != default}
+    if api_only:  # options the command line cannot set: say so next to the command
+        plan["command"] += ("  # made in Python with " + ", ".join(
+            f"{k}={v!r}" for k, v in api_only.items()) + " (make_plan keywords), which this "
+            "command does not set")
     figures = plan_report.figures(plan, out)
     plan["figures"] = [p.name for p in figures]
     plan_json = write_json(out / f"{plan['file_stem']}.json", plan)

@@ -193,6 +193,10 @@ def command(plan, out):
         parts += ["--field-of-view", f"{ins['field_of_view_nm']:g} nm"]
     if plan.get("instrument_name"):
         parts += ["--instrument", plan["instrument_name"]]
+    opt = plan.get("options") or {}
+    if "n_points" in opt:  # every option that changes the plan, so the command reproduces it
+        parts += ["--points", str(opt["n_points"]), "--dwell", f"{opt['dwell_s']:.12g} s",
+                  "--llg-duration", f"{opt['llg_duration_s'] * 1e12:.12g} ps"]
     parts += ["--reuse"]
     return " ".join(shlex.quote(p) for p in parts)
 

@@ -26,6 +26,7 @@ from thinfilm.engines.llb import CoarseFilm
 from thinfilm.input.coarse_spec import load_coarse
 from thinfilm.input.units import MEV_J
 from thinfilm.runs.folder import RunFolder
+from thinfilm.runs.lifecycle import identity
 
 __all__ = ["run_coarse", "grain_kscale", "initial_m"]
 
@@ -71,7 +72,15 @@ def run_coarse(source, out_dir, *, resume=False, overwrite=False, progress=True)
     """Run a coarse-film scenario (path or dict) into out_dir; returns the RunFolder."""
     sc = load_coarse(source)
     table = sc.table()
-    folder = RunFolder(out_dir, resume=resume, overwrite=overwrite)
+    folder = RunFolder(out_dir, resume=resume, overwrite=overwrite, kind="coarse-film",
+                       identity=identity(sc.describe(), table=table.describe()))
+    try:
+        return _run(sc, table, folder, resume, progress)
+    finally:
+        folder.close()
+
+
+def _run(sc, table, folder, resume, progress):
     table.to_csv(folder.file("parameters.csv"))  # a lab table with its filled-in columns
     film = CoarseFilm(table, sc.cell_nm, sc.nx, sc.ny, periodic=sc.periodic, dipolar=sc.dipolar,
                       field_T=sc.field_T, coupling=sc.coupling, renormalise=sc.renormalise,

@@ -18,14 +18,19 @@ A realisation folder that finished is reused on ``resume``.
 
 import json
 import math
-import time
 import warnings
 from pathlib import Path
 
 import numpy as np
 
 from thinfilm._io import write_csv, write_json
-from thinfilm.runs.folder import read_csv_table, versions
+from thinfilm.runs.folder import RunFolder, read_csv_table
+from thinfilm.runs.lifecycle import (
+    check_identity,
+    read_manifest,
+    scenario_identity,
+    stored_identity,
+)
 from thinfilm.runs.sweep import run_sweep
 from thinfilm.runs.sweep_point import ROW_COLUMNS
 from thinfilm.runs.sweep_tables import COLUMN_UNITS, tc_estimate
@@ -71,22 +76,51 @@ def _average(tables):
 
 def run_ensemble_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
                        cluster=None, progress=True):
-    """Run one sweep per disorder realisation and write their average; returns the folder."""
+    """Run one sweep per disorder realisation and write their average; returns the folder.
+
+    The folder's manifest (with the identity of the scenario) is written first, so an
+    interrupted set is recognised and resumed; a finished realisation is reused on resume only
+    after its own identity matched.
+    """
     sc = scenario
-    n = sc.disorder.realisations
     out = Path(out_dir)
-    out.mkdir(parents=True, exist_ok=True)
-    started = time.time()
+    folder = RunFolder(out, resume=resume, overwrite=overwrite, kind="sweep",
+                       identity=scenario_identity(sc))
+    try:
+        _ensemble(sc, out, folder, resume, workers, cluster, progress)
+    finally:
+        folder.close()
+    return out
+
+
+def _member(sc, f, resume):
+    """True when realisation folder f is finished and may be reused (same identity)."""
+    if not (resume and _finished(f)):
+        return False
+    m = read_manifest(f)
+    stored = stored_identity(m)
+    if stored is not None:
+        check_identity(f, stored, scenario_identity(sc))
+    return True
+
+
+def _ensemble(sc, out, folder, resume, workers, cluster, progress):
+    n = sc.disorder.realisations
+    manifest = {"kind": "sweep", "ensemble": True, "scenario": json.loads(json.dumps(
+        sc.describe(), default=lambda o: o.tolist() if hasattr(o, "tolist") else str(o))),
+        "realisations": [f"realisations/r{k:02d}" for k in range(n)]}
+    folder.write_manifest(manifest)
     folders = []
     for k in range(n):
         f = out / "realisations" / f"r{k:02d}"
-        if not (resume and _finished(f)):
+        sck = sc.with_changes(disorder_realisation=k)
+        if not _member(sck, f, resume):
             if progress:
                 print(f"disorder realisation {k + 1}/{n}")
-            run_sweep(sc.with_changes(disorder_realisation=k), f, resume=resume,
-                      overwrite=overwrite or not resume, workers=workers, cluster=cluster,
-                      progress=progress)
+            run_sweep(sck, f, resume=resume, overwrite=not resume, workers=workers,
+                      cluster=cluster, progress=progress)
         folders.append(f)
+        folder.write_manifest(manifest)  # the wall time so far
     tables = [read_csv_table(f / "observables.csv") for f in folders]
     avg, spread = _average(tables)
     rows = list(zip(*[avg[c] for c in ROW_COLUMNS], strict=True))
@@ -109,11 +143,5 @@ def run_ensemble_sweep(scenario, out_dir, *, resume=False, overwrite=False, work
             else None, "bracketed": False, "in_error": False,
             "note": "each realisation's own Tc; their spread is the sample-to-sample spread"}]
     write_json(out / "tc.json", tc)
-    manifest = {"kind": "sweep", "ensemble": True, "scenario": json.loads(json.dumps(
-        sc.describe(), default=lambda o: o.tolist() if hasattr(o, "tolist") else str(o))),
-        "realisations": [str(f.relative_to(out)) for f in folders], "finished": True,
-        "versions": versions(), "wall_time_s": round(time.time() - started, 3),
-        "tc_K": tc.get("tc_K"), "tc_spread_K": tc["tc_spread_K"],
-        "files": ["observables.csv", "ensemble.csv", "columns.json", "tc.json"]}
-    write_json(out / "manifest.json", manifest)
-    return out
+    manifest.update({"tc_K": tc.get("tc_K"), "tc_spread_K": tc["tc_spread_K"]})
+    folder.write_manifest(manifest, finished=True)

@@ -11,10 +11,11 @@ import numpy as np
 
 from thinfilm._io import write_csv, write_json, write_npz
 from thinfilm._version import __version__
-from thinfilm.input.errors import InputError, option
+from thinfilm.input.errors import InputError
+from thinfilm.runs.lifecycle import MANIFEST, folder_files, hold, prepare_folder
 
 __all__ = ["RunFolder", "TIMESERIES_COLUMNS", "SNAPSHOT_FORMAT", "load_snapshot", "read_csv_table",
-           "snapshot_arrays", "versions"]
+           "snapshot_arrays", "versions", "write_run_manifest", "refresh_file_list"]
 
 TIMESERIES_COLUMNS = ("time_ps", "temperature_K", "field_T", "mx", "my", "mz", "m_axis",
                       "energy_meV", "bx_T", "by_T", "bz_T")
@@ -140,54 +141,96 @@ def read_csv_table(path):
     return out
 
 
+def write_run_manifest(path, manifest, *, finished, identity, wall_time_s, processes):
+    """Write ``path/manifest.json`` with the bookkeeping every kind of run folder shares."""
+    m = dict(manifest)
+    if identity is not None:
+        m["identity"] = identity
+    m["versions"] = versions()
+    m["wall_time_s"] = round(wall_time_s, 3)
+    m["processes"] = processes
+    m["finished"] = bool(finished)
+    m["files"] = sorted(set(folder_files(path)) | {MANIFEST})
+    write_json(Path(path) / MANIFEST, m)
+
+
+def refresh_file_list(path):
+    """Rewrite the manifest's ``files`` with every file now in the folder (after figures,
+    movies or a plan were added to a finished run); the caller holds the folder."""
+    p = Path(path) / MANIFEST
+    try:
+        m = json.loads(p.read_text())
+    except (OSError, ValueError):
+        return
+    m["files"] = sorted(set(folder_files(path)) | {MANIFEST})
+    write_json(p, m)
+
+
 class RunFolder:
     """A run folder: ``manifest.json``, ``timeseries.csv``, ``snapshots/``, ``checkpoint.npz``.
+
+    Opening one takes the folder's lock (one writer at a time), removes temporary files of
+    interrupted writes, and checks or empties what the folder holds
+    (:mod:`thinfilm.runs.lifecycle`). Close it (or use it as a context manager) when the run
+    ends; a killed process's lock is taken over by the next run.
 
     Parameters
     ----------
     path : str or Path
     resume : bool
-        Keep existing contents (to continue from ``checkpoint.npz``); otherwise the folder must
-        not already hold a run, so nothing is overwritten by accident.
+        Keep existing contents (to continue from ``checkpoint.npz``); the folder must hold a run
+        of the same identity. Otherwise the folder must not already hold a run, so nothing is
+        overwritten by accident.
     overwrite : bool
-        Allow reusing a folder that holds an earlier run (its files are replaced one by one).
+        Delete an earlier run in the folder (its files) before this one writes.
+    identity : dict, optional
+        What determines the results (:func:`thinfilm.runs.lifecycle.scenario_identity`);
+        stored in the manifest and compared on resume.
+    kind : str, optional
+        The manifest's ``kind``; a resume of another kind of run is refused.
     """
 
-    def __init__(self, path, *, resume=False, overwrite=False):
+    def __init__(self, path, *, resume=False, overwrite=False, identity=None, kind=None):
         self.path = Path(path)
         self.started = time.time()
-        self.files = set()
-        self._lattice_written = set()
-        if self.path.exists() and not self.path.is_dir():
-            raise InputError(f"{self.path}: exists and is not a folder; choose another output "
-                             f"folder ({option('out_dir')})")
-        if (self.path / "manifest.json").exists() and not (resume or overwrite):
-            raise InputError(
-                f"{self.path}: already holds a run (manifest.json). Use {option('resume')} to "
-                f"continue it, {option('overwrite')} to replace it, or choose another folder "
-                f"({option('out_dir')})")
-        self.path.mkdir(parents=True, exist_ok=True)
-        if resume and (self.path / "manifest.json").exists():
-            try:
-                self.files = set(json.loads((self.path / "manifest.json").read_text()).get("files", []))
-            except (OSError, ValueError):
-                self.files = set()
+        self.identity, self.kind = identity, kind
+        self._lattice_written = set()  # positions files written by this process
+        self._hold = hold(self.path)
+        self._hold.__enter__()
+        try:
+            old = prepare_folder(self.path, identity, kind=kind, resume=resume,
+                                 overwrite=overwrite)
+        except BaseException:
+            self.close()
+            raise
+        self.resumed = old is not None
+        self.earlier = old  # the manifest of the run that is continued, or None
+        self.earlier_wall_s = float((old or {}).get("wall_time_s") or 0.0)
+        self.processes = int((old or {}).get("processes") or (1 if old else 0)) + 1
+
+    def close(self):
+        """Release the folder's lock (idempotent)."""
+        self._hold.release()
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+        return False
 
     def file(self, name):
-        """Path of a file in the folder, remembered for the manifest's file list."""
-        self.files.add(str(name))
+        """Path of a file in the folder (its parent folder created)."""
         p = self.path / name
         p.parent.mkdir(parents=True, exist_ok=True)
         return p
 
     def write_manifest(self, manifest, *, finished=False):
-        m = dict(manifest)
-        m["versions"] = versions()
-        m["wall_time_s"] = round(time.time() - self.started, 3)
-        m["finished"] = bool(finished)
-        self.files.add("manifest.json")
-        m["files"] = sorted(self.files)
-        write_json(self.path / "manifest.json", m)
+        """Write ``manifest.json``: ``manifest`` plus identity, versions, the wall time summed
+        over every process that worked on the run, and every file of the folder."""
+        write_run_manifest(self.path, manifest, finished=finished, identity=self.identity,
+                           wall_time_s=self.earlier_wall_s + time.time() - self.started,
+                           processes=self.processes)
 
     def write_timeseries(self, rows, name="timeseries.csv"):
         write_csv(self.file(name), TIMESERIES_COLUMNS, rows)

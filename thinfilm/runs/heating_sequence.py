@@ -23,6 +23,7 @@ from thinfilm.input.errors import InputError
 from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
 from thinfilm.runs.folder import RunFolder
+from thinfilm.runs.lifecycle import scenario_identity
 from thinfilm.runs.sweep_point import sized_scenario
 
 __all__ = ["run_heating_sequence"]
@@ -103,9 +104,24 @@ def run_heating_sequence(scenario, out_dir, *, size, temperatures_K, frames=3, b
     model = build_model(sc)
     params = scenario_site_parameters(sc, model)
     if params is not None:  # the per-site engine has Metropolis moves only
-        mc_options = {k: v for k, v in mc_options.items() if k not in ("moves", "cluster_direction")}
+        mc_options = {k: v for k, v in mc_options.items()
+                      if k not in ("moves", "cluster_direction")}
     lat = model.lattice
-    folder = RunFolder(out_dir, resume=resume, overwrite=overwrite)
+    opts = {k: (list(v) if isinstance(v, tuple) else v) for k, v in mc_options.items()}
+    ident = scenario_identity(sc, temperatures_K=temps, frames_per_temperature=frames,
+                              steps_between_frames=between, warmup_steps=warmup, monte_carlo=opts)
+    folder = RunFolder(out_dir, resume=resume, overwrite=overwrite, kind="sequence",
+                       identity=ident)
+    try:
+        _frames(sc, model, params, lat, folder, temps, frames, between, warmup, resume,
+                progress, mc_options)
+    finally:
+        folder.close()
+    return folder
+
+
+def _frames(sc, model, params, lat, folder, temps, frames, between, warmup, resume, progress,
+            mc_options):
     n_frames = len(temps) * frames
     manifest = {"kind": "sequence", "scenario": sc.describe(), "lattice": lat.describe(),
                 "temperatures_K": temps, "frames_per_temperature": frames,
@@ -137,9 +153,9 @@ def run_heating_sequence(scenario, out_dir, *, size, temperatures_K, frames=3, b
                                   mc_sigma=sigma, m_order_series=series.astype(np.float32))
             folder.write_checkpoint(frame=k, spins=spins, mc_sigma=sigma)
             bar.update(1)
+            folder.write_manifest(manifest)  # the wall time so far
     finally:
         bar.close()
     (folder.path / "checkpoint.npz").unlink(missing_ok=True)  # finished: nothing to resume
     manifest["sampling"] = _sampling(folder, temps, frames, between)
     folder.write_manifest(manifest, finished=True)
-    return folder

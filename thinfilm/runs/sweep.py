@@ -26,7 +26,8 @@ from tqdm import tqdm
 from thinfilm._io import write_csv, write_json, write_npz
 from thinfilm.analysis.tc_rule import mode_keys
 from thinfilm.input.errors import InputError, ScenarioError, ThinFilmWarning, option
-from thinfilm.runs.folder import versions
+from thinfilm.runs.folder import RunFolder
+from thinfilm.runs.lifecycle import scenario_identity
 from thinfilm.runs.sweep_point import (
     ROW_COLUMNS,
     PointTask,
@@ -47,6 +48,7 @@ from thinfilm.runs.sweep_tables import (
 __all__ = ["run_sweep", "sweep_plan", "available_cores", "CONNECT_TIMEOUT_S"]
 
 CONNECT_TIMEOUT_S = 20  # seconds to wait for a Dask scheduler
+PARTIAL = "partial.npz"  # state of an unfinished Monte Carlo point (removed when it finishes)
 
 
 def available_cores():
@@ -109,8 +111,8 @@ def _warm_kernels(sc):
     load them from numba's on-disk cache instead of each compiling them at the same time."""
     from dataclasses import replace
 
-    d = replace(sc.dynamics, sweeps_warmup=2, sweeps_samples=20, duration_s=20 * sc.dynamics.time_step_s,
-                warmup_s=0.0, sample_every=1)
+    d = replace(sc.dynamics, sweeps_warmup=2, sweeps_samples=20,
+                duration_s=20 * sc.dynamics.time_step_s, warmup_s=0.0, sample_every=1)
     tiny = sc.with_changes(dynamics=d, sweep=replace(sc.sweep, snapshots=2))
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -154,14 +156,20 @@ def _executor(n_tasks, workers, cluster):
 
 
 def _write_point(out, res, name):
-    """Write a point folder; ``point.json`` last (the 'finished' mark)."""
+    """Write a point folder; ``point.json`` last (the 'finished' mark). Returns the point's
+    compute time (s), which goes to the manifest: the point's files hold results only, so an
+    interrupted and resumed sweep writes them byte for byte as an uninterrupted one."""
     d = out / "points" / name
+    details = dict(res["details"])
+    seconds = details.pop("compute_time_s", None)
     write_npz(d / "final.npz", **res["final"])
     write_csv(d / "timeseries.csv", *res["timeseries"])
     write_csv(d / "correlation.csv", ("r_nm", "C", "C_err"), res["correlation"])
     write_csv(d / "domain_sizes.csv", ("snapshot", "area_nm2", "diameter_nm", "sign"),
               res["domains"])
-    write_json(d / "point.json", {"row": res["row"], "details": res["details"]})
+    write_json(d / "point.json", {"row": res["row"], "details": details})
+    (d / PARTIAL).unlink(missing_ok=True)  # the point is finished
+    return seconds
 
 
 def _read_point(out, name):
@@ -182,10 +190,13 @@ def _final_spins(out, name):
     return np.divide(s, norm, out=np.zeros_like(s), where=norm > 0)  # vacancies stay empty
 
 
-def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
+def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None, on_point=None,
+                local=True):
     """Run the chains; fill rows {(L, T): row}; at most ``window`` tasks in flight.
 
-    start_from: {chain index: (spins, label)} for chains that continue another state.
+    start_from: {chain index: (spins, label)} for chains that continue another state;
+    on_point: called after each point is written; local: the workers share this file system
+    (they keep the state of an unfinished Monte Carlo point in ``points/<name>/partial.npz``).
     """
     pending = {}
     ready = []  # (chain, point index, spins, start label) waiting for a slot
@@ -210,7 +221,9 @@ def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
         while ready and len(pending) < window:
             ci, k, spins, start = ready.pop(0)
             L, t = chains[ci][k]
-            task = PointTask(sc, L, t, point_seed(sc.seed, L, t), spins, start)
+            partial = (str((out / "points" / point_name(L, t) / PARTIAL).resolve())
+                       if local else None)
+            task = PointTask(sc, L, t, point_seed(sc.seed, L, t), spins, start, partial)
             pending[executor.submit(compute_point, task)] = (ci, k)
 
     for ci in range(len(chains)):
@@ -223,9 +236,11 @@ def _run_chains(sc, out, chains, rows, executor, bar, window, start_from=None):
             res = fut.result()
             L, t = chains[ci][k]
             name = point_name(L, t)
-            _write_point(out, res, name)
+            seconds = _write_point(out, res, name)
             rows[(L, t)] = _read_point(out, name)
             bar.update(1)
+            if on_point is not None:
+                on_point(name, seconds)
             if k + 1 < len(chains[ci]):
                 advance(ci, k + 1)
         fill()
@@ -246,27 +261,6 @@ def _refine_chains(sc, chains, extra):
             parents[len(new)] = point_name(L, before[-1])
         new.append([(L, t) for t in temps])
     return new, parents
-
-
-def _prepare(out, sc, resume, overwrite):
-    if out.exists() and not out.is_dir():
-        raise InputError(f"{out}: exists and is not a folder; choose another output folder "
-                         f"({option('out_dir')})")
-    man = out / "manifest.json"
-    if man.exists() and not (resume or overwrite):
-        raise InputError(f"{out}: already holds a run (manifest.json). Use {option('resume')} to "
-                         f"continue it, {option('overwrite')} to replace it, or choose another "
-                         f"folder ({option('out_dir')})")
-    if resume and man.exists():
-        try:
-            old = json.loads(man.read_text())
-        except (OSError, ValueError):
-            old = {}
-        if old.get("scenario") not in (None, _jsonable(sc.describe())):
-            raise InputError(f"{out}: was written by a different scenario (manifest.json "
-                             f"'scenario' differs); resume it with the same scenario file, or "
-                             f"use {option('overwrite')} or another folder")
-    out.mkdir(parents=True, exist_ok=True)
 
 
 def _jsonable(obj):
@@ -305,28 +299,49 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
     sc = scenario
     _check(sc)
     out = Path(out_dir)
-    _prepare(out, sc, resume, overwrite)
-    started = time.time()
+    folder = RunFolder(out, resume=resume, overwrite=overwrite, kind="sweep",
+                       identity=scenario_identity(sc))
+    try:
+        _sweep(sc, out, folder, resume, workers, cluster, progress)
+    finally:
+        folder.close()
+    return out
+
+
+def _sweep(sc, out, folder, resume, workers, cluster, progress):
     chains = sweep_plan(sc)
     n_parallel = len(chains)
     manifest = {"kind": "sweep", "scenario": _jsonable(sc.describe()), "order": sc.sweep.order,
                 "method": sc.dynamics.method, "sizes": sorted({c[0][0] for c in chains}),
                 "temperatures_K": list(sc.sweep.temperatures_K), "refine": sc.sweep.refine,
                 "snapshots_per_point": sc.sweep.snapshots, "seed": sc.seed,
-                "instrument": sc.instrument, "finished": False}
+                "instrument": sc.instrument}
     executor, how, close = _executor(n_parallel, workers, cluster)
     if how["kind"] == "processes":
         _warm_kernels(sc)
     manifest["executor"] = how
     window = how.pop("window")
-    _write_manifest(out, manifest, started, [])
+    manifest["point_compute_time_s"] = dict((folder.earlier or {}).get("point_compute_time_s")
+                                            or {})
+    folder.write_manifest(manifest)
+    last = [time.time()]
+
+    def saved(name, seconds):
+        """After each finished point: its compute time, the manifest's wall time and file list
+        (written at most once a second)."""
+        manifest["point_compute_time_s"][name] = seconds
+        if time.time() - last[0] > 1.0:
+            folder.write_manifest(manifest)
+            last[0] = time.time()
+
     rows = {}
     if not resume:
         _clear_marks(out, chains)
     bar = tqdm(total=sum(map(len, chains)), unit="point", desc="sweep",
                disable=(not progress) or None, leave=False)
     try:
-        _run_chains(sc, out, chains, rows, executor, bar, window)
+        local = how["kind"] != "dask"
+        _run_chains(sc, out, chains, rows, executor, bar, window, on_point=saved, local=local)
         extra = []
         if sc.sweep.refine == "near-tc":
             extra = refine_temperatures(rows, sc.sweep.temperatures_K,
@@ -340,29 +355,21 @@ def run_sweep(scenario, out_dir, *, resume=False, overwrite=False, workers=None,
                 bar.refresh()
                 start = {ci: (_final_spins(out, p), f"points/{p}/final.npz")
                          for ci, p in parents.items()}
-                _run_chains(sc, out, rchains, rows, executor, bar, window, start)
+                _run_chains(sc, out, rchains, rows, executor, bar, window, start, on_point=saved,
+                            local=local)
     finally:
         bar.close()
         close()
-    _finish(out, sc, manifest, rows, started)
-    return out
+    _finish(out, sc, folder, manifest, rows)
 
 
 def _clear_marks(out, chains):
-    """Without resume every point is recomputed: drop stale 'finished' marks first."""
+    """Without resume every point is recomputed: drop stale 'finished' marks and states of
+    unfinished points first."""
     for chain in chains:
         for L, t in chain:
-            p = out / "points" / point_name(L, t) / "point.json"
-            if p.exists():
-                p.unlink()
-
-
-def _write_manifest(out, manifest, started, files):
-    m = dict(manifest)
-    m["versions"] = versions()
-    m["wall_time_s"] = round(time.time() - started, 3)
-    m["files"] = sorted(set(files) | {"manifest.json"})
-    write_json(out / "manifest.json", m)
+            for name in ("point.json", PARTIAL):
+                (out / "points" / point_name(L, t) / name).unlink(missing_ok=True)
 
 
 def _film_side(sc):
@@ -377,7 +384,7 @@ def _film_side(sc):
     return side
 
 
-def _finish(out, sc, manifest, rows, started):
+def _finish(out, sc, folder, manifest, rows):
     keys = sorted(rows)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
@@ -390,16 +397,11 @@ def _finish(out, sc, manifest, rows, started):
     write_csv(out / "observables.csv", columns, table)
     write_json(out / "columns.json", COLUMN_UNITS)
     write_json(out / "tc.json", tc)
-    points = [f"points/{point_name(*k)}/{f}" for k in keys
-              for f in ("final.npz", "timeseries.csv", "correlation.csv", "domain_sizes.csv",
-                        "point.json")]
     manifest["points"] = [point_name(*k) for k in keys]
-    manifest["finished"] = True
     manifest["tc_K"] = tc.get("tc_K")
     low = sorted(point_name(*k) for k in keys if rows[k]["n_effective"] < 50)
     manifest["points_with_few_samples"] = low
-    _write_manifest(out, manifest, started,
-                    ["observables.csv", "columns.json", "tc.json", *points])
+    folder.write_manifest(manifest, finished=True)
     if low:
         warnings.warn(f"{len(low)} of {len(keys)} sweep points have fewer than 50 effectively "
                       f"independent samples (e.g. {low[0]}); their error bars are unreliable: "

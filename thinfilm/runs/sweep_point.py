@@ -37,6 +37,7 @@ from thinfilm.input.units import MEV_J
 from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
 from thinfilm.runs.folder import SNAPSHOT_FORMAT
+from thinfilm.runs.point_state import checkpoint_every_s, load_partial, save_partial
 
 __all__ = ["PointTask", "compute_point", "point_seed", "point_name", "sized_scenario",
            "ROW_COLUMNS", "init_worker"]
@@ -86,6 +87,10 @@ class PointTask:
         Starting spins (heating/cooling chains); None starts from ``scenario.initial``.
     start : str
         Where the spins came from (for ``point.json``).
+    checkpoint : str or None
+        File for the state of an unfinished Monte Carlo point (:mod:`thinfilm.runs.point_state`:
+        written by the worker, read back when the point is computed again after a kill); None
+        (e.g. on a remote cluster) keeps no such state.
     """
 
     scenario: object
@@ -94,6 +99,7 @@ class PointTask:
     seed: int
     spins: object = None
     start: str = "initial"
+    checkpoint: object = None
 
 
 def point_seed(seed, size, temperature_K):
@@ -195,15 +201,38 @@ def _sample_mc(task, model, spins):
                                            "cluster_direction": d.cluster_direction}
     mc = make_monte_carlo(model, task.temperature_K, params, seed=task.seed, initial_spins=spins,
                           **extra)
-    mc.warmup(int(d.sweeps_warmup))
+    chunks = _split(n_samples, task.scenario.sweep.snapshots)
     parts, snaps, acc, probes = [], [], [], _Probes(model, n_samples)
-    for n in _split(n_samples, task.scenario.sweep.snapshots):
+    every_s, last = checkpoint_every_s(), time.time()
+    ck = load_partial(task, n_samples, len(chunks))
+    if ck is None:
+        mc.warmup(int(d.sweeps_warmup))
+        first = 0
+    else:  # continue a point a kill interrupted: its state after ck["done"] chunks
+        state = {"spins": ck["spins"], "sweep": int(ck["sweep"]), "sigma": float(ck["sigma"])}
+        if int(ck["clusters_per_sweep"]) >= 0:
+            state["clusters_per_sweep"] = int(ck["clusters_per_sweep"])
+        mc.state = state
+        first = int(ck["done"])
+        parts.append({"energy_J": ck["energy_J"], "m_vector": ck["m_vector"],
+                      "sweep": ck["sweeps"]})
+        acc.extend(float(a) for a in ck["acceptance"])
+        snaps.extend(np.array(x) for x in ck["snaps"])
+        probes.values = [float(v) for v in ck["probe_values"]]
+        probes.at = [int(v) for v in ck["probe_at"]]
+        probes.done = int(ck["probe_done"])
+    for i, n in enumerate(chunks):
+        if i < first:
+            continue
         for m in probes.stretches(n):
             r = mc.run(0, m, every, tune=False)
             parts.append(r)
             acc.append(r["acceptance"]["gaussian"])
             probes.after(mc.spins, m)
         snaps.append(mc.spins @ model.axis)  # S.n only: 8 bytes per site and snapshot
+        if task.checkpoint and i + 1 < len(chunks) and time.time() - last >= every_s:
+            save_partial(task, mc, n_samples, len(chunks), i + 1, parts, acc, snaps, probes)
+            last = time.time()
     series = {
         "energy_J": np.concatenate([p["energy_J"] for p in parts]),
         "m_vector": np.concatenate([p["m_vector"] for p in parts]),

@@ -12,15 +12,18 @@ from thinfilm.input.errors import ThinFilmWarning
 from thinfilm.model.disorder import scenario_site_parameters
 from thinfilm.model.parameters import build_model
 from thinfilm.runs.folder import RunFolder
+from thinfilm.runs.lifecycle import scenario_identity
 
 __all__ = ["run_dynamics"]
 
-CHECKPOINT_EVERY_S = 15.0  # wall-clock seconds between checkpoints
+CHECKPOINT_EVERY_S = 15.0  # at most this many wall-clock seconds between checkpoints
+CHECKPOINTS_PER_RUN = 50  # and at least this many per run: a kill loses at most 2 % of the steps
 
 
 def _row(sim, t_ps, temp, b, axis, direction):
     m, e = sim.measure(field_T=b)
-    return [t_ps, temp, float(b @ direction), m[0], m[1], m[2], float(m @ axis), e, b[0], b[1], b[2]]
+    return [t_ps, temp, float(b @ direction), m[0], m[1], m[2], float(m @ axis), e,
+            b[0], b[1], b[2]]
 
 
 def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=True):
@@ -39,28 +42,40 @@ def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=T
     Returns
     -------
     RunFolder
+        Closed (its lock released).
     """
-    import warnings
-
     sc = scenario
     d = sc.dynamics
     model = build_model(sc)
-    folder = RunFolder(out_dir, resume=resume, overwrite=overwrite)
+    folder = RunFolder(out_dir, resume=resume, overwrite=overwrite, kind="dynamics",
+                       identity=scenario_identity(sc))
+    try:
+        return _run(sc, d, model, folder, resume, progress)
+    finally:
+        folder.close()
+
+
+def _run(sc, d, model, folder, resume, progress):
+    import warnings
+
     dt = d.time_step_s
-    dt_ok = stable_time_step(model, max(sc.temperature_K, d.ramp_temperature_K or 0.0), d.damping, d.gamma)
+    dt_ok = stable_time_step(model, max(sc.temperature_K, d.ramp_temperature_K or 0.0),
+                             d.damping, d.gamma)
     if dt > dt_ok:
         warnings.warn(f"time step {dt * 1e15:g} fs is above the recommended {dt_ok * 1e15:.3g} fs; "
-                      f"results may be inaccurate", ThinFilmWarning, stacklevel=2)
+                      f"results may be inaccurate", ThinFilmWarning, stacklevel=3)
     n_warm = int(round(d.warmup_s / dt))
     n_run = max(1, int(round(d.duration_s / dt)))
-    every = max(1, int(round(sc.record_every_s / dt))) if sc.record_every_s else max(1, n_run // 200)
+    every = (max(1, int(round(sc.record_every_s / dt))) if sc.record_every_s
+             else max(1, n_run // 200))
     snap_every = (max(every, int(round(sc.snapshot_every_s / dt))) if sc.snapshot_every_s
                   else max(every, (n_run // 40 // every) * every or every))
     t0 = sc.temperature_K
     t1 = t0 if d.ramp_temperature_K is None else d.ramp_temperature_K
     b0 = np.asarray(sc.field_T, dtype=np.float64)
     b1 = b0 if d.ramp_field_T is None else np.asarray(d.ramp_field_T, dtype=np.float64)
-    bdir = b1 - b0 if np.linalg.norm(b1 - b0) > 0 else (b0 if np.linalg.norm(b0) > 0 else np.array([0, 0, 1.0]))
+    bdir = b1 - b0 if np.linalg.norm(b1 - b0) > 0 else (
+        b0 if np.linalg.norm(b0) > 0 else np.array([0, 0, 1.0]))
     bdir = bdir / np.linalg.norm(bdir)
     lat = model.lattice
 
@@ -72,14 +87,16 @@ def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=T
         spins = initial_spins(lat, sc.initial, seed=sc.seed, axis=model.axis,
                                width_nm=sc.initial_width_nm)
         step, rows, n_snap = 0, [], 0
-    sim = make_llg(model, scenario_site_parameters(sc, model), temperature_K=t0, damping=d.damping, time_step_s=dt, seed=sc.seed,
-                        spins=spins, gamma=d.gamma, step=step)
+    sim = make_llg(model, scenario_site_parameters(sc, model), temperature_K=t0,
+                   damping=d.damping, time_step_s=dt, seed=sc.seed, spins=spins, gamma=d.gamma,
+                   step=step)
     manifest = {"kind": "dynamics", "scenario": sc.describe(), "lattice": lat.describe(),
                 "steps": {"warmup": n_warm, "run": n_run, "record_every": every,
                           "snapshot_every": snap_every},
                 "recommended_time_step_fs": dt_ok * 1e15,
                 "instrument": sc.instrument, "columns": {
-                    "time_ps": "ps", "temperature_K": "K", "field_T": "T (along the field direction)",
+                    "time_ps": "ps", "temperature_K": "K",
+                    "field_T": "T (along the field direction)",
                     "mx": "per spin", "my": "per spin", "mz": "per spin",
                     "m_axis": "per spin, along the anisotropy axis", "energy_meV": "meV per spin"}}
     folder.write_manifest(manifest)
@@ -92,9 +109,8 @@ def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=T
     total = n_warm + n_run
     bar = tqdm(total=total, initial=sim.step, unit="step", disable=(not progress) or None,
                desc="sLLG", mininterval=1.0, leave=False)
-    last_ck = time.time()
-    if sim.step == 0 and n_warm == 0 or sim.step == n_warm and not rows:
-        pass
+    last_ck, last_ck_step = time.time(), sim.step
+    ck_every = max(every, (total // CHECKPOINTS_PER_RUN // every) * every)
     try:
         while sim.step < total:
             if sim.step < n_warm:
@@ -105,7 +121,8 @@ def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=T
                 if k == 0 and not rows:
                     temp, b = protocol(0)
                     rows.append(_row(sim, 0.0, temp, b, model.axis, bdir))
-                    folder.write_snapshot(f"snap_{0:06d}", sim.spins, lat, time_ps=0.0, temperature_K=temp, field_T=b)
+                    folder.write_snapshot(f"snap_{0:06d}", sim.spins, lat, time_ps=0.0,
+                                          temperature_K=temp, field_T=b)
                     n_snap = 1
                 n = min(every - k % every, total - sim.step)
                 temp, b = protocol(k)
@@ -120,18 +137,23 @@ def run_dynamics(scenario, out_dir, *, resume=False, overwrite=False, progress=T
                                           temperature_K=temp, field_T=b)
                     n_snap += 1
             bar.update(n)
-            if time.time() - last_ck > CHECKPOINT_EVERY_S:
+            if (sim.step - last_ck_step >= ck_every or time.time() - last_ck > CHECKPOINT_EVERY_S) \
+                    and sim.step < total:
                 folder.write_timeseries(rows)
-                folder.write_checkpoint(spins=sim.spins, step=sim.step, rows=np.asarray(rows, dtype=float),
+                folder.write_checkpoint(spins=sim.spins, step=sim.step,
+                                        rows=np.asarray(rows, dtype=float).reshape(-1, 11),
                                         n_snapshots=n_snap)
-                last_ck = time.time()
+                folder.write_manifest(manifest)  # the wall time so far
+                last_ck, last_ck_step = time.time(), sim.step
     finally:
         bar.close()
         if rows:
             folder.write_timeseries(rows)
         folder.write_checkpoint(spins=sim.spins, step=sim.step,
-                                rows=np.asarray(rows, dtype=float).reshape(-1, 11), n_snapshots=n_snap)
-    folder.write_snapshot("final", sim.spins, lat, time_ps=n_run * dt * 1e12, temperature_K=t1, field_T=b1)
+                                rows=np.asarray(rows, dtype=float).reshape(-1, 11),
+                                n_snapshots=n_snap)
+    folder.write_snapshot("final", sim.spins, lat, time_ps=n_run * dt * 1e12, temperature_K=t1,
+                          field_T=b1)
     arr = np.asarray(rows)
     half = arr[len(arr) // 2:]
     manifest["summary"] = {

@@ -190,14 +190,11 @@ def observables(s, code, periodic, jt, kt, axis, b, work):
     exchange -jt sum_<ij> S_i.S_j (bonds once), anisotropy -(kt/2) sum (S.n)^2,
     Zeeman -sum B.S. Multiply by mu_s (J/T) for joules. ``work`` (ny, nx, 3) is not used
     (kept for the callers' signature); the neighbour sums come from the neighbour table.
+    Rows are summed in parallel into a table, then the rows are added in row order, so the
+    totals are bitwise the same on any number of threads.
     """
     ny, nx = s.shape[0], s.shape[1]
-    mx = 0.0
-    my = 0.0
-    mz = 0.0
-    e_ex = 0.0
-    e_an = 0.0
-    e_ze = 0.0
+    rows = np.empty((ny, 6))
     for i in nb.prange(ny):
         rx = 0.0
         ry = 0.0
@@ -217,10 +214,23 @@ def observables(s, code, periodic, jt, kt, axis, b, work):
             sn = sx * axis[0] + sy * axis[1] + sz * axis[2]
             ran += sn * sn
             rze += sx * b[0] + sy * b[1] + sz * b[2]
-        mx += rx
-        my += ry
-        mz += rz
-        e_ex += rex
-        e_an += ran
-        e_ze += rze
+        rows[i, 0] = rx
+        rows[i, 1] = ry
+        rows[i, 2] = rz
+        rows[i, 3] = rex
+        rows[i, 4] = ran
+        rows[i, 5] = rze
+    mx = 0.0
+    my = 0.0
+    mz = 0.0
+    e_ex = 0.0
+    e_an = 0.0
+    e_ze = 0.0
+    for i in range(ny):  # fixed order: independent of the thread count
+        mx += rows[i, 0]
+        my += rows[i, 1]
+        mz += rows[i, 2]
+        e_ex += rows[i, 3]
+        e_an += rows[i, 4]
+        e_ze += rows[i, 5]
     return mx, my, mz, -0.5 * jt * e_ex, -0.5 * kt * e_an, -e_ze
