@@ -9,8 +9,8 @@ the ghost rows current, so T alone is the whole state between sweeps.
 :func:`banded_row_sums` evaluates exactly the expressions of
 :func:`thinfilm.engines._kernels.metropolis_measure.row_sums` in the same order (neighbour sum
 left, right, up, down, diagonals; row sums in increasing column order), so its results are
-bitwise equal to converting T to (ny, nx, 3) and calling ``row_sums``. It reads whole columns (rows of one
-parity at a time) into per-band accumulators, branch-free.
+bitwise equal to converting T to (ny, nx, 3) and calling ``row_sums``. It reads whole columns
+(rows of one parity at a time) into per-band accumulators, branch-free.
 
 Dispatch. Cached compiled functions here never call a ``parallel=True`` function: a cached
 caller of a parallel callee that was itself loaded from the cache can segfault when it is
