@@ -23,7 +23,8 @@ HERE = Path(__file__).resolve().parent
 
 SCENARIO = """name: cli-rate
 lattice: {{shape: square, cells: [{n}, {n}], spacing: "0.4 nm", edges: periodic}}
-material: {{moment: "2 muB", exchange: "2 meV", anisotropy: {{constant: "0.2 meV", axis: [0, 0, 1]}}}}
+material: {{moment: "2 muB", exchange: "2 meV",
+  anisotropy: {{constant: "0.2 meV", axis: [0, 0, 1]}}}}
 field: {{value: [0, 0, 0.1], unit: T}}
 temperature: "10 K"
 dynamics: {{method: llg, damping: 0.1, timestep: "1 fs", duration: "{ps} ps"}}

@@ -29,13 +29,15 @@ def llg(shape, edges):
     return dict(BASE, name=f"fp-llg-{shape}-{edges}",
                 lattice={"shape": shape, "cells": [24, 20], "spacing": "0.4 nm", "edges": edges},
                 temperature="15 K", initial="random",
-                dynamics={"method": "llg", "damping": 0.1, "timestep": "1 fs", "duration": "0.6 ps"},
+                dynamics={"method": "llg", "damping": 0.1, "timestep": "1 fs",
+                          "duration": "0.6 ps"},
                 record={"every": "0.1 ps", "snapshots": "0.3 ps"})
 
 
 def mc(shape):
     return dict(BASE, name=f"fp-mc-{shape}",
-                lattice={"shape": shape, "cells": [16, 16], "spacing": "0.4 nm", "edges": "periodic"},
+                lattice={"shape": shape, "cells": [16, 16], "spacing": "0.4 nm",
+                         "edges": "periodic"},
                 temperature={"start": "20 K", "stop": "30 K", "step": "5 K"}, sizes=[8, 16],
                 initial="up",
                 dynamics={"method": "monte-carlo", "sweeps": {"warmup": 50, "samples": 200}},

@@ -42,7 +42,8 @@ class NumpyHeun:
 
     def field(self, s, noise):
         sn = s @ self.axis
-        return self.jt * self.neighbour_sum(s) + self.kt * sn[..., None] * self.axis + self.b + noise
+        return (self.jt * self.neighbour_sum(s) + self.kt * sn[..., None] * self.axis + self.b
+                + noise)
 
     def rhs(self, s, h):
         c = np.cross(s, h)

@@ -33,7 +33,8 @@ def _field(s, i, j, ny, nx, jt, kt, ax, ay, az, b, nz):
     sn = kt * (s[i, j, 0] * ax + s[i, j, 1] * ay + s[i, j, 2] * az)
     hx = jt * (s[i, jr, 0] + s[i, jl, 0] + s[iu, j, 0] + s[idn, j, 0]) + sn * ax + b[0] + nz[j]
     hy = jt * (s[i, jr, 1] + s[i, jl, 1] + s[iu, j, 1] + s[idn, j, 1]) + sn * ay + b[1] + nz[nx + j]
-    hz = jt * (s[i, jr, 2] + s[i, jl, 2] + s[iu, j, 2] + s[idn, j, 2]) + sn * az + b[2] + nz[2 * nx + j]
+    hz = (jt * (s[i, jr, 2] + s[i, jl, 2] + s[iu, j, 2] + s[idn, j, 2]) + sn * az + b[2]
+          + nz[2 * nx + j])
     return hx, hy, hz
 
 

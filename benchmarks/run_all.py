@@ -304,7 +304,8 @@ def main(argv=None):
                      kernel_over_plain_fused=ker["kernel"] / ker["plain_fused"],
                      kernel_over_plain_two_sweep=ker["kernel"] / ker["plain_two_sweep"])
     ct = compile_times()
-    extra.update(compile_first_call_s=ct[0]["first_call_s"], cached_first_call_s=ct[1]["first_call_s"])
+    extra.update(compile_first_call_s=ct[0]["first_call_s"],
+                 cached_first_call_s=ct[1]["first_call_s"])
     for k, v in extra.items():
         rows.append(dict(kernel=k, shape="", size="", threads=max_threads, rate_M_per_s=round(v, 4),
                          cpu_rate_M_per_s="", numpy_peer_M_per_s="", ratio_vs_numpy="",

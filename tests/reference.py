@@ -13,7 +13,8 @@ def effective_field(lattice, spins, *, exchange_T, anisotropy_T, axis, field_T):
         ok = idx >= 0
         total[ok] += s[idx[ok]]
     axis = np.asarray(axis, float)
-    h = exchange_T * total + anisotropy_T * (s @ axis)[:, None] * axis[None, :] + np.asarray(field_T)
+    h = (exchange_T * total + anisotropy_T * (s @ axis)[:, None] * axis[None, :]
+         + np.asarray(field_T))
     return h.reshape(spins.shape)
 
 

@@ -18,7 +18,8 @@ def tiny_sweep(*, temps=("1.5 K", "2.5 K", "3.5 K"), sizes=(6, 8), order="indepe
         "temperature": temperature,
         "dynamics": {"method": method, "damping": 1.0, "timestep": "5 fs",
                      "sample_every": 1 if method == "monte-carlo" else 10,
-                     **({"sweeps": {"warmup": warmup, "samples": samples}} if method == "monte-carlo"
+                     **({"sweeps": {"warmup": warmup, "samples": samples}}
+                        if method == "monte-carlo"
                         else {"duration": "2 ps", "warmup": "0.5 ps"})},
         "sweep": {"order": order, "snapshots": snapshots},
         "initial": initial,

@@ -19,13 +19,15 @@ GOOD = {
 def test_check_prints_resolved_parameters(capsys):
     assert main(["check", str(DEFAULT_SCENARIO)]) == 0
     out = capsys.readouterr().out
-    assert "mean-field Tc estimate" in out and "meV" in out and "largest recommended time step" in out
+    assert ("mean-field Tc estimate" in out and "meV" in out
+            and "largest recommended time step" in out)
     assert "initial     up" in out
 
 
 def test_check_names_a_labyrinth_start(tmp_path, capsys):
     f = tmp_path / "lab.yaml"
-    f.write_text(yaml.safe_dump(dict(GOOD, lattice={"shape": "honeycomb", "cells": [16, 12], "spacing": "0.25 nm"},
+    f.write_text(yaml.safe_dump(dict(GOOD, lattice={"shape": "honeycomb", "cells": [16, 12],
+                                                    "spacing": "0.25 nm"},
                                      initial={"labyrinth": "0.9 nm"})))
     assert main(["check", str(f)]) == 0
     assert "initial     labyrinth of up and down domains 0.9 nm wide" in capsys.readouterr().out
@@ -54,7 +56,8 @@ def test_run_then_rerun_without_resume_is_refused(tmp_path, capsys):
 
 
 def test_module_entry_point_runs():
-    r = subprocess.run([sys.executable, "-m", "thinfilm", "--version"], capture_output=True, text=True)
+    r = subprocess.run([sys.executable, "-m", "thinfilm", "--version"], capture_output=True,
+                       text=True)
     assert r.returncode == 0 and "thinfilm" in r.stdout
 
 
@@ -73,7 +76,8 @@ def test_image_command_writes_analysis_and_rejects_bad_pixel_size(tmp_path, caps
     out = tmp_path / "ana"
     assert main(["image", str(f), "--pixel-size", "5 nm", "-o", str(out)]) == 0
     res = json.loads((out / "image_analysis.json").read_text())
-    assert res["pixel_size_nm"] == 5.0 and res["correlation_length_nm"] > 5.0 and res["domain_count"] > 1
+    assert (res["pixel_size_nm"] == 5.0 and res["correlation_length_nm"] > 5.0
+            and res["domain_count"] > 1)
     capsys.readouterr()
     assert main(["image", str(f), "--pixel-size", "5 kelvin", "-o", str(tmp_path / "x")]) == 2
     err = capsys.readouterr().err

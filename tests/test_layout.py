@@ -57,7 +57,8 @@ def _imports(mod):
             out |= {a.name for a in node.names if a.name.split(".")[0] == "thinfilm"}
         elif isinstance(node, ast.ImportFrom):
             if node.level:
-                src = ".".join(base[: len(base) - node.level + 1] + ([node.module] if node.module else []))
+                src = ".".join(base[: len(base) - node.level + 1]
+                               + ([node.module] if node.module else []))
             else:
                 src = node.module or ""
             if src.split(".")[0] != "thinfilm":

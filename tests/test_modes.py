@@ -25,7 +25,8 @@ FILM = {
 # one scenario of each mode, with only keys that act in it
 MODE_BASE = {
     "run": {"temperature": "2 K", "dynamics": {"method": "llg", "duration": "0.05 ps"}},
-    "llg-set": {"temperature": ["2 K", "3 K"], "dynamics": {"method": "llg", "duration": "0.05 ps"}},
+    "llg-set": {"temperature": ["2 K", "3 K"],
+                "dynamics": {"method": "llg", "duration": "0.05 ps"}},
     "mc-set": {"temperature": ["2 K", "3 K"],
                "dynamics": {"method": "monte-carlo", "sweeps": {"warmup": 5, "samples": 20}}},
 }
@@ -107,7 +108,8 @@ def test_refine_needs_several_temperatures_in_a_set():
         load_scenario(d)
 
 
-@pytest.mark.parametrize("spelling", ["2 K", ["2 K"], {"start": "2 K", "stop": "2 K", "step": "1 K"}])
+@pytest.mark.parametrize("spelling",
+                         ["2 K", ["2 K"], {"start": "2 K", "stop": "2 K", "step": "1 K"}])
 def test_one_temperature_means_the_same_however_written(spelling):
     d = scenario("mc-set") | {"temperature": spelling, "sizes": [6, 8]}
     sc = load_scenario(d)
@@ -116,7 +118,8 @@ def test_one_temperature_means_the_same_however_written(spelling):
     assert sc.sweep.sizes == (6, 8)
 
 
-@pytest.mark.filterwarnings("ignore::thinfilm.input.errors.ThinFilmWarning")  # few samples, on purpose
+# few samples, on purpose
+@pytest.mark.filterwarnings("ignore::thinfilm.input.errors.ThinFilmWarning")
 def test_monte_carlo_at_one_temperature_is_a_finite_size_set(tmp_path):
     d = scenario("mc-set") | {"temperature": "2 K", "sizes": [6, 8], "sweep": {"snapshots": 2}}
     out = run(d, tmp_path / "set", workers=1, progress=False)
@@ -178,4 +181,5 @@ def test_the_recommended_time_step_counts_the_dipolar_field():
     d["material"] = dict(d["material"], moment="40 muB")  # strong dipolar field (0.3 T scale)
     model = build_model(load_scenario(d))
     # at T = 0 only the precession limit counts: a larger field bound gives a smaller step
-    assert stable_time_step(replace(model, dipolar=True), 0.0, 0.1) < stable_time_step(model, 0.0, 0.1)
+    assert (stable_time_step(replace(model, dipolar=True), 0.0, 0.1)
+            < stable_time_step(model, 0.0, 0.1))

@@ -30,7 +30,8 @@ FAST = {"llg_size": 8, "llg_duration": "4 ps", "n_boot": 150}
 
 SCENARIO = {
     "name": "synthetic-ising",
-    "lattice": {"shape": "square", "cells": [L, L], "spacing": f"{SPACING} nm", "edges": "periodic"},
+    "lattice": {"shape": "square", "cells": [L, L], "spacing": f"{SPACING} nm",
+                "edges": "periodic"},
     "material": {"moment": "1 muB", "exchange": "1 meV",
                  "anisotropy": {"constant": "1 meV", "axis": [0, 0, 1]}},
     "temperature": [f"{t} K" for t in TEMPS],
@@ -69,7 +70,8 @@ def make_synthetic_sweep(folder, *, tc_json=True, seed=5, scenario=SCENARIO):
     names = ["size", "temperature_K", *cols]
     rows = [[L, t[i], *(float(cols[c][i]) for c in cols)] for i in range(t.size)]
     write_csv(folder / "observables.csv", names, rows)
-    write_json(folder / "tc.json", {"tc_K": TC + 0.05, "tc_err_K": 0.15, "method": "binder_crossing"}
+    write_json(folder / "tc.json",
+               {"tc_K": TC + 0.05, "tc_err_K": 0.15, "method": "binder_crossing"}
                if tc_json else {"tc_K": None, "tc_err_K": None, "method": None})
     desc = json.loads(json.dumps(sc.describe(), default=lambda o: o.tolist()))
     write_json(folder / "manifest.json", {"kind": "sweep", "finished": True, "scenario": desc})
@@ -116,7 +118,8 @@ def test_verdicts_and_timescale_note(plan):
     res, _ = plan
     p = res["plan"]
     # ps fluctuations against a 10 ms exposure: everything is time-averaged
-    assert {q["verdict"] for q in p["points"]} <= {"averaged out to grey", "averaged to the mean contrast"}
+    assert {q["verdict"] for q in p["points"]} <= {"averaged out to grey",
+                                                    "averaged to the mean contrast"}
     assert "orders of magnitude shorter than the exposure" in p["timescale_note"]
     above = [q for q in p["points"] if q["temperature_K"] > TC + 1]
     assert above and all(q["verdict"] == "averaged out to grey" for q in above)

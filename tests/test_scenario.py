@@ -60,7 +60,8 @@ def test_field_in_millitesla_and_temperature_sweep():
 
 
 @pytest.mark.parametrize("path,value,match", [
-    ("material.exchnge", "1 meV", r"material\.exchnge: unknown key 'exchnge'.*Did you mean 'exchange'"),
+    ("material.exchnge", "1 meV",
+     r"material\.exchnge: unknown key 'exchnge'.*Did you mean 'exchange'"),
     ("material.exchange", "1.5", r"material\.exchange: '1\.5' has no unit"),
     ("material.exchange", "1.5 nm", r"material\.exchange: .*wrong kind of unit.*energy"),
     ("material.exchange", 1.5, r"material\.exchange: must be a quantity with a unit"),
@@ -69,7 +70,8 @@ def test_field_in_millitesla_and_temperature_sweep():
     ("temperature", "nan K", r"temperature: 'nan K' is not a finite number"),
     ("lattice.cells", [100000, 100000], r"lattice\.cells: .*sites need about"),
     ("lattice.shape", "hexagon", r"lattice\.shape: must be one of square, triangular, honeycomb"),
-    ("material.anisotropy.axis", [0, 0, 0], r"material\.anisotropy\.axis: must be a non-zero 3-vector"),
+    ("material.anisotropy.axis", [0, 0, 0],
+     r"material\.anisotropy\.axis: must be a non-zero 3-vector"),
     ("field", [0, 0, 1], r"field: must be written as \{value: \[x, y, z\], unit: T\}"),
     ("initial", "upp", r"initial: .*Did you mean 'up'"),
     ("dynamics.damping", 0, r"dynamics\.damping: must be positive"),
@@ -138,7 +140,8 @@ def test_continuum_scenario_and_shape_anisotropy():
     omega_t = (0.4e-9) ** 2 * 0.7e-9
     # thin-film shape anisotropy K_eff = Ku - mu0 Ms^2 / 2 (textbook, e.g. Johnson et al.,
     # Rep. Prog. Phys. 59, 1409, 1996; from memory)
-    assert math.isclose(sc.material.anisotropy_J, (1.2e6 - mu0 * 1.1e6**2 / 2) * omega_t, rel_tol=1e-9)
+    assert math.isclose(sc.material.anisotropy_J, (1.2e6 - mu0 * 1.1e6**2 / 2) * omega_t,
+                        rel_tol=1e-9)
     d["material"]["exchange"] = "1 meV"
     with pytest.raises(ScenarioError, match="either lattice parameters"):
         load_scenario(d)

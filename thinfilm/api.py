@@ -25,7 +25,8 @@ def _refuse_worker_import(name):
             f"example in help(thinfilm)); a notebook needs no guard")
 
 
-def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None, progress=True):
+def run(source, out_dir, *, resume=False, overwrite=False, workers=None, cluster=None,
+        progress=True):
     """Run a scenario (path, dict or Scenario) into ``out_dir``; return the folder path.
 
     An equilibrium set runs as a sweep (:mod:`thinfilm.runs.sweep`; several disorder
@@ -75,7 +76,8 @@ def _run(sc, out_dir, resume, overwrite, workers, cluster, progress):
             from thinfilm.render.movie import write_movie
 
             frames = Path(out_dir) / "realisations" / "r00" if ensemble else out_dir
-            write_movie(frames, Path(out_dir) / ("sweep_movie.gif" if sc.movie["gif"] else "sweep_movie.mp4"),
+            movie_name = "sweep_movie.gif" if sc.movie["gif"] else "sweep_movie.mp4"
+            write_movie(frames, Path(out_dir) / movie_name,
                         fps=max(1, min(sc.movie["fps"], 4)), colour=sc.movie["colour"],
                         gif=sc.movie["gif"], source="sweep",
                         instrument=True if sc.movie["instrument"] and sc.instrument else None)
@@ -98,8 +100,8 @@ def plot_run(run_dir):
     run_dir = Path(run_dir)
     man = run_dir / "manifest.json"
     if not man.is_file():
-        raise InputError(f"{run_dir}: not a run folder (no manifest.json); give a folder written by "
-                         f"'thinfilm run' or 'thinfilm demo'")
+        raise InputError(f"{run_dir}: not a run folder (no manifest.json); "
+                         f"give a folder written by 'thinfilm run' or 'thinfilm demo'")
     kind = json.loads(man.read_text()).get("kind")
     from thinfilm.render import plots
     from thinfilm.runs.folder import refresh_file_list

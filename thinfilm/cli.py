@@ -42,9 +42,12 @@ def _print_check(sc):
 
         print_calibration(mat["calibration"], prefix="  exchange    ")
     else:
-        print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond (E = -J Si.Sj, each bond once)")
+        print(f"  exchange    J = {mat['exchange_meV']:.4g} meV per bond "
+              f"(E = -J Si.Sj, each bond once)")
+    kind = ("easy axis" if model.anisotropy_J > 0 else "easy plane" if model.anisotropy_J < 0
+            else "none")
     print(f"  anisotropy  K = {mat['anisotropy_meV']:.4g} meV per site along {mat['axis']} "
-          f"({'easy axis' if model.anisotropy_J > 0 else 'easy plane' if model.anisotropy_J < 0 else 'none'})")
+          f"({kind})")
     if model.dmi_J:
         print(f"  DMI         d = {model.dmi_meV:.4g} meV per bond (E = sum D_ij.(Si x Sj), "
               "D_ij = d z x r_ij, interfacial)")
@@ -55,13 +58,16 @@ def _print_check(sc):
                                   .format(*site["size_nm"])))
     if "continuum" in mat:
         c = mat["continuum"]
-        print(f"  (from A = {c['stiffness_J_per_m']:.4g} J/m, Ku = {c['anisotropy_density_J_per_m3']:.4g} J/m^3, "
+        print(f"  (from A = {c['stiffness_J_per_m']:.4g} J/m, "
+              f"Ku = {c['anisotropy_density_J_per_m3']:.4g} J/m^3, "
               f"Ms = {c['magnetisation_A_per_m']:.4g} A/m, t = {c['thickness_nm']:.4g} nm)")
-        print(f"  exchange length  {exchange_length_nm(c['stiffness_J_per_m'], c['magnetisation_A_per_m']):.3g} nm")
+        lex = exchange_length_nm(c['stiffness_J_per_m'], c['magnetisation_A_per_m'])
+        print(f"  exchange length  {lex:.3g} nm")
     print(f"  field       {d['field_T']} T")
     if sc.sweep:
         t = sc.sweep.temperatures_K
-        print(f"  sweep       {len(t)} temperatures {t[0]:g} .. {t[-1]:g} K, sizes {sc.sweep.sizes or [lat['cells'][0]]}, "
+        print(f"  sweep       {len(t)} temperatures {t[0]:g} .. {t[-1]:g} K, "
+              f"sizes {sc.sweep.sizes or [lat['cells'][0]]}, "
               f"order {sc.sweep.order}, method {sc.dynamics.method}")
     else:
         given = sc.raw.get("temperature") if isinstance(sc.raw, dict) else None
@@ -78,8 +84,8 @@ def _print_check(sc):
     shape = dipolar_shape_cost_J(model)
     if shape:
         k_eff = (model.anisotropy_J - shape) / MEV_J
-        print(f"  dipolar shape anisotropy {shape / MEV_J:.4g} meV per site (infinite film): K_eff = "
-              f"K - {shape / MEV_J:.4g} = {k_eff:.4g} meV, "
+        print(f"  dipolar shape anisotropy {shape / MEV_J:.4g} meV per site (infinite film): "
+              f"K_eff = K - {shape / MEV_J:.4g} = {k_eff:.4g} meV, "
               f"{'perpendicular' if k_eff > 0 else 'in-plane'} uniform state")
     w = wall_parameter_nm(model)
     if w is not None:
@@ -100,7 +106,8 @@ def _print_check(sc):
                           f"{ds['wall_energy_J_per_m2_times_t']:.4g} J/m")
             print(f"  |D| / D_c = {ds['critical_ratio']:.3g} (D_c = 4 sqrt(A K_eff) / pi): {state}")
     dy = sc.dynamics
-    tmax = max(sc.sweep.temperatures_K) if sc.sweep else max(sc.temperature_K, dy.ramp_temperature_K or 0)
+    tmax = (max(sc.sweep.temperatures_K) if sc.sweep
+            else max(sc.temperature_K, dy.ramp_temperature_K or 0))
     dt_ok = stable_time_step(model, tmax, dy.damping, dy.gamma)
     flag = "ok" if dy.time_step_s <= dt_ok else "TOO LARGE"
     print(f"  largest recommended time step {dt_ok * 1e15:.3g} fs at {tmax:g} K "
@@ -149,9 +156,11 @@ def _cmd_image(args):
     print(f"image {args.file}: pixel {res['pixel_size_nm']:g} nm, threshold "
           f"{'Otsu' if res['threshold_method'] == 'otsu' else 'median'} + level {res['level']:g}, "
           f"up area fraction {res['up_area_fraction']:.3g}")
-    print(f"  correlation length  {res['correlation_length_nm']:.4g} +- {res['correlation_length_nm_err']:.2g} nm "
+    print(f"  correlation length  {res['correlation_length_nm']:.4g} "
+          f"+- {res['correlation_length_nm_err']:.2g} nm "
           f"(second moment); {res['correlation_length_fit_nm']:.4g} nm (Ornstein-Zernike fit)")
-    print(f"  domains             {res['domain_count']}, mean area {res['mean_domain_area_nm2']:.4g} nm^2")
+    print(f"  domains             {res['domain_count']}, "
+          f"mean area {res['mean_domain_area_nm2']:.4g} nm^2")
     print(f"  written to {Path(args.output) / 'image_analysis.json'} and image_analysis.png")
     return 0
 
@@ -184,7 +193,8 @@ def _cmd_movie(args):
     else:
         info = write_movie(args.run_dir, out, fps=args.fps, colour=args.colour,
                            instrument=instrument, gif=args.gif)
-    print(f"movie: {info.path} ({info.n_frames} frames, {info.width} x {info.height} px, {info.fps} fps)")
+    print(f"movie: {info.path} ({info.n_frames} frames, {info.width} x {info.height} px, "
+          f"{info.fps} fps)")
     return 0
 
 
@@ -217,17 +227,20 @@ def build_parser():
     p.add_argument("--threads", type=int, default=None, help="kernel threads (default: all cores)")
     sub = p.add_subparsers(dest="command", required=True)
 
-    s = sub.add_parser("demo", help="run the embedded demo scenario (an invented film) into outputs/")
+    s = sub.add_parser("demo",
+                       help="run the embedded demo scenario (an invented film) into outputs/")
     s.add_argument("-o", "--output", default=None, help="run folder (default outputs/demo-<time>)")
     s.add_argument("--film", choices=["monolayer", "stripes", "grains"], default="monolayer",
                    help="monolayer: sweep through Tc, heating movie, plan (default); stripes: "
-                        "domains of a dipolar film heated until they narrow and break up, with a movie; "
+                        "domains of a dipolar film heated until they narrow and break up, "
+                        "with a movie; "
                         "grains: a polycrystalline film over two disorder realisations")
     s.add_argument("--workers", type=int, default=None, help="local worker processes for the sweep")
     s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
     s.set_defaults(func=_cmd_demo)
 
-    s = sub.add_parser("check", help="validate a scenario and print resolved parameters and derived scales")
+    s = sub.add_parser("check", help="validate a scenario and print resolved parameters "
+                                     "and derived scales")
     s.add_argument("file")
     s.set_defaults(func=_cmd_check)
 
@@ -243,7 +256,8 @@ def build_parser():
     s.add_argument("-q", "--quiet", action="store_true", help="no progress bars")
     s.set_defaults(func=_cmd_run)
 
-    s = sub.add_parser("image", help="domain and correlation analysis of a measured microscope image")
+    s = sub.add_parser("image",
+                       help="domain and correlation analysis of a measured microscope image")
     s.add_argument("file", help="PNG or TIFF, greyscale")
     s.add_argument("--pixel-size", required=True, help='pixel size with unit, e.g. "5 nm"')
     s.add_argument("-o", "--output", required=True, help="output folder")
@@ -267,9 +281,11 @@ def build_parser():
     s.add_argument("--fps", type=int, default=20)
     s.add_argument("--colour", choices=["mz", "angle"], default="mz")
     s.add_argument("--gif", action="store_true", help="write a GIF instead of an MP4")
-    s.add_argument("--fwhm", default=None, help='instrument resolution for a side-by-side view, e.g. "30 nm"')
+    s.add_argument("--fwhm", default=None,
+                   help='instrument resolution for a side-by-side view, e.g. "30 nm"')
     s.add_argument("--pixel", default=None, help='instrument pixel size, e.g. "10 nm"')
-    s.add_argument("--noise", type=float, default=0.0, help="instrument noise (fraction of full contrast)")
+    s.add_argument("--noise", type=float, default=0.0,
+                   help="instrument noise (fraction of full contrast)")
     s.set_defaults(func=_cmd_movie)
 
     s = sub.add_parser("plot", help="PNG figures of a run folder (sweep curves or time series)")

@@ -24,7 +24,8 @@ from thinfilm.render.plots import plot_timeseries
 from thinfilm.render.rundir import iter_snapshots, load_snapshot
 from thinfilm.render.stripe_plot import STRIPE_COLUMNS, plot_stripes
 
-__all__ = ["demo", "run_demo", "run_stripe_demo", "run_grains_demo", "stripe_table", "FILMS", "STRIPE_SCENARIO"]
+__all__ = ["demo", "run_demo", "run_stripe_demo", "run_grains_demo", "stripe_table", "FILMS",
+           "STRIPE_SCENARIO"]
 
 STRIPE_SCENARIO = DEFAULT_SCENARIO.with_name("stripe_demo.yaml")
 FILMS = ("monolayer", "stripes", "grains")
@@ -131,7 +132,8 @@ def run_demo(out_dir, scenario_path, *, workers=None, progress=True):
     print(f"[3/4] stochastic LLG after a step to {1.03 * tc:.3g} K (1.03 Tc), with a movie")
     step = _step_scenario(sc, 1.03 * tc)
     run(step, out_dir / "step", progress=progress, overwrite=True)
-    write_movie(out_dir / "step", out_dir / "step" / "movie.mp4", fps=(sc.movie or {}).get("fps", 15))
+    write_movie(out_dir / "step", out_dir / "step" / "movie.mp4",
+                fps=(sc.movie or {}).get("fps", 15))
     plot_timeseries(out_dir / "step")
     rel = step_relaxation(out_dir / "step", out_dir)
     print(f"      m_z {rel['m_axis_start']:.2f} -> {rel['m_axis_end_mean_last_quarter']:.2f} "
@@ -187,7 +189,8 @@ def stripe_table(run_dir, lattice, *, time_offset_ps=0.0):
             lam = lam_mean = q = nb = math.nan
         m = s.reshape(-1, 3).mean(axis=0)
         ch = wall_chirality(s, periodic=lattice.periodic)
-        rows.append((fr.get("time_ps", math.nan) + time_offset_ps, fr.get("temperature_K", math.nan),
+        rows.append((fr.get("time_ps", math.nan) + time_offset_ps,
+                     fr.get("temperature_K", math.nan),
                      lam, lam_mean, q, nb, float(np.abs(f).mean()), float(math.hypot(m[0], m[1])),
                      ch["neel_index"], ch["bloch_index"]))
     return tuple(STRIPE_COLUMNS), rows
@@ -340,8 +343,8 @@ def demo(out_dir=None, *, film="monolayer", workers=None, progress=True, n_threa
     if film not in FILMS:
         raise InputError(f"demo film must be one of {', '.join(FILMS)}; got {film!r}")
     if out_dir is None:
-        out_dir = Path("outputs") / time.strftime(f"demo-{'' if film == 'monolayer' else film + '-'}"
-                                                  "%Y%m%d-%H%M%S")
+        prefix = f"demo-{'' if film == 'monolayer' else film + '-'}"
+        out_dir = Path("outputs") / time.strftime(prefix + "%Y%m%d-%H%M%S")
     if film == "stripes":
         return run_stripe_demo(Path(out_dir), n_threads=n_threads, progress=progress)
     if film == "grains":

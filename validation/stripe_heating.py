@@ -104,7 +104,8 @@ def main(argv=None):
         sm = ndimage.gaussian_filter(f, 1.5, mode="wrap") > 0
         cuts = np.sum(sm != np.roll(sm, 1, 0)) + np.sum(sm != np.roll(sm, 1, 1))
         lw = f.size / max(cuts, 1) * 4 / np.pi
-        print(f"{stage:5s} t = {t_ps:7.1f} ps  T = {temp:6.2f} K  L = {half:6.2f} / {mean_half:6.2f} sites  "
+        print(f"{stage:5s} t = {t_ps:7.1f} ps  T = {temp:6.2f} K  "
+              f"L = {half:6.2f} / {mean_half:6.2f} sites  "
               f"Lw = {lw:6.2f}  "
               f"Q = {q:.3f}  <|mz|> = {float(np.abs(f).mean()):.3f}  "
               f"[{time.time() - t_start:.0f} s]", flush=True)

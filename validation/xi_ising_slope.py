@@ -81,7 +81,8 @@ def main():
     for t, r, xe in zip(ts, rows, exact, strict=True):
         print(f"  {t:.3f}  {size_for(t, args.factor):4d}  {r[0]:7.3f} +- {r[1]:5.3f}   "
               f"{r[2]:7.3f} +- {r[3]:5.3f}   {xe:7.3f}")
-    print(f"log-log slope of the OZ-fit xi: {slope:.3f}; exact curve over the same t {slope_exact:.3f}; "
+    print(f"log-log slope of the OZ-fit xi: {slope:.3f}; "
+          f"exact curve over the same t {slope_exact:.3f}; "
           f"asymptotic -nu = -1 (2D Ising)")
     print(f"wall time {time.time() - t0:.0f} s")
 

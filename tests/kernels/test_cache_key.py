@@ -15,7 +15,8 @@ def test_key_changes_when_a_dependency_changes(tmp_path, monkeypatch):
     monkeypatch.setattr(kernels, "_SOURCES", copies)
     before = kernels._source_key()
     assert before == kernels.KEY  # same sources, same key
-    nb = next(q for q in copies if q.name == "neighbours.py" and "OFFSETS = np.zeros" in q.read_text())
+    nb = next(q for q in copies
+              if q.name == "neighbours.py" and "OFFSETS = np.zeros" in q.read_text())
     nb.write_text(nb.read_text() + "\n# edited\n")
     assert kernels._source_key() != before
 

@@ -8,7 +8,8 @@ from thinfilm.engines._kernels.neighbours import site_neighbour_sum
 from thinfilm.model.lattice import Lattice
 from thinfilm.model.neighbours import COUNT, SHAPE_CODE, neighbour_offsets
 
-# Coordination numbers: square 4, triangular 6, honeycomb 3 (textbook lattice facts, common practice)
+# Coordination numbers: square 4, triangular 6, honeycomb 3
+# (textbook lattice facts, common practice)
 Z = {"square": 4, "triangular": 6, "honeycomb": 3}
 
 

@@ -66,8 +66,9 @@ def _sm_open(dist, c_entries, site_area, fit):
 
     ``xi^2 = M2 / (4 M0)`` with ``Mn = sum_d r^n (C(d) - B)`` over displacement vectors inside
     ``r_c = 3 xi_fit`` (times the area per vector), plus the exact tail integrals of the fitted
-    ``A K0(r / xi)`` beyond r_c: ``2 pi A xi^2 t K1(t)`` and ``2 pi A xi^4 (t^3 K1(t) + 2 t^2 K2(t))``
-    at ``t = r_c / xi``. B is the fitted offset left by removing the sample mean.
+    ``A K0(r / xi)`` beyond r_c: ``2 pi A xi^2 t K1(t)`` and
+    ``2 pi A xi^4 (t^3 K1(t) + 2 t^2 K2(t))`` at ``t = r_c / xi``. B is the fitted offset left by
+    removing the sample mean.
     """
     xi, _, amp, off = fit[:4]
     if not np.isfinite(xi):

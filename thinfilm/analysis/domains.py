@@ -1,4 +1,5 @@
-"""Up/down domains: thresholding, connected-component labelling on grids or lattices, size statistics."""
+"""Up/down domains: thresholding, connected-component labelling on grids or lattices, size
+statistics."""
 
 import numpy as np
 from scipy import ndimage, sparse
@@ -115,7 +116,8 @@ def label_domains(
         else:
             if positions_nm is None or (periodic and box_nm is None):
                 raise InputError(
-                    "label_domains: smoothing on a lattice needs positions_nm (and box_nm if periodic)"
+                    "label_domains: smoothing on a lattice needs positions_nm "
+                    "(and box_nm if periodic)"
                 )
             f = _smooth_sites(f, valid, positions_nm, box_nm, float(smoothing_nm), periodic)
     up = (f > level) & valid
@@ -141,7 +143,8 @@ def label_domains(
         nb = np.asarray(neighbours)
         if nb.ndim != 2 or nb.shape[0] != f.size:
             raise InputError(
-                f"label_domains: neighbours must have shape ({f.size}, z) for a field of shape {f.shape}; got {nb.shape}"
+                f"label_domains: neighbours must have shape ({f.size}, z) for a field of shape "
+                f"{f.shape}; got {nb.shape}"
             )
         src = np.repeat(np.arange(f.size), nb.shape[1])
         dst = nb.ravel()

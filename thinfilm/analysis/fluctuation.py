@@ -27,7 +27,8 @@ __all__ = ["fluctuation_time", "exposure_verdict", "VERDICTS", "FROZEN_RATIO", "
 FROZEN_RATIO = 10.0
 #: tau / exposure below which the pattern is averaged over many independent states.
 AVERAGED_RATIO = 0.1
-VERDICTS = ("frozen", "blurred/partly averaged", "averaged out to grey", "averaged to the mean contrast")
+VERDICTS = ("frozen", "blurred/partly averaged", "averaged out to grey",
+            "averaged to the mean contrast")
 WINDOW_C = 5.0  # Sokal's window constant, as in integrated_autocorrelation_time
 
 

@@ -87,8 +87,8 @@ def _read_grey(path, what):
         data = channels[..., 0]
     if data.ndim != 2:
         raise InputError(
-            f"{what} {path}: has shape {data.shape}; a single 2D greyscale image (rows, columns) is "
-            f"needed (split multi-page stacks into single frames)"
+            f"{what} {path}: has shape {data.shape}; a single 2D greyscale image (rows, columns) "
+            f"is needed (split multi-page stacks into single frames)"
         )
     if not np.issubdtype(data.dtype, np.number) or np.iscomplexobj(data):
         raise InputError(f"{what} {path}: pixel type {data.dtype} is not a real number type")
@@ -138,7 +138,8 @@ def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=
     img = _read_grey(path, "image")
     if min(img.shape) < 8:
         raise InputError(
-            f"image {path}: is only {img.shape[1]} x {img.shape[0]} pixels; at least 8 x 8 are needed"
+            f"image {path}: is only {img.shape[1]} x {img.shape[0]} pixels; "
+            f"at least 8 x 8 are needed"
         )
     valid = np.ones(img.shape, dtype=bool)
     if mask is not None:
@@ -180,8 +181,8 @@ def load_image(path, *, pixel_size, mask=None, background=None, highpass_length=
     scale = np.max(np.abs(img[valid]))
     if not scale > 1e-12 * max(1.0, float(np.max(np.abs(img)))):
         raise InputError(
-            f"image {path}: has no contrast (all valid pixels equal after background '{background}' "
-            f"removal); there is nothing to analyse"
+            f"image {path}: has no contrast (all valid pixels equal after background "
+            f"'{background}' removal); there is nothing to analyse"
         )
     return np.where(valid, img / scale, 0.0), valid, pixel_nm
 

@@ -44,7 +44,8 @@ def rasterise(values, positions_nm, box_nm, pixel_nm, *, periodic=True, origin_n
     box = np.asarray(box_nm, dtype=float)
     if pos.ndim != 3 or pos.shape[2] != 2 or vals.shape[:2] != pos.shape[:2]:
         raise InputError(
-            f"rasterise: values {vals.shape} and positions_nm {pos.shape} must share the (ny, nx) grid"
+            f"rasterise: values {vals.shape} and positions_nm {pos.shape} "
+            f"must share the (ny, nx) grid"
         )
     if not (np.isfinite(pixel_nm) and pixel_nm > 0) or box.shape != (2,) or np.any(box <= 0):
         raise InputError(
@@ -114,7 +115,8 @@ def instrument_view(
     f = np.asarray(field, dtype=float)
     if pos.ndim != 3 or pos.shape[2] != 2 or f.shape != pos.shape[:2]:
         raise InputError(
-            f"instrument_view: field {f.shape} and positions_nm {pos.shape} must share the (ny, nx) grid"
+            f"instrument_view: field {f.shape} and positions_nm {pos.shape} "
+            f"must share the (ny, nx) grid"
         )
     d = np.diff(pos.reshape(-1, 2)[: min(pos.shape[1], 2) + 1], axis=0)
     spacing = float(np.min(np.hypot(d[:, 0], d[:, 1]))) if d.size else pixel_nm

@@ -56,14 +56,15 @@ def _geometry(field, positions_nm, box_nm, period, periodic, valid=None, stack=F
         valid = np.asarray(valid, dtype=bool)
         if valid.shape != (ny, nx):
             raise InputError(
-                f"correlation analysis: the validity mask must have shape ({ny}, {nx}); got {valid.shape}"
+                f"correlation analysis: the validity mask must have shape ({ny}, {nx}); "
+                f"got {valid.shape}"
             )
     if valid.sum() < 2:
         raise InputError("correlation analysis: fewer than two valid sites remain after masking")
     if not np.all(np.isfinite(f[:, valid])):
         raise InputError(
-            "correlation analysis: the field holds NaN or infinite values at valid sites; mark them "
-            "invalid with a mask"
+            "correlation analysis: the field holds NaN or infinite values at valid sites; "
+            "mark them invalid with a mask"
         )
     cell = np.array([box[0] * pc / nx, box[1] * pr / ny])
     for a in range(pr):

@@ -50,7 +50,8 @@ def structure_factor_length(snapshots, positions_nm, box_nm, period=(1, 1), *, s
         raise InputError("structure_factor_length: give at least two snapshots")
     kx, ky, _ = structure_factor(snaps[0], positions_nm, box_nm, period)
     if spacing_nm:
-        k2 = (2 / spacing_nm) ** 2 * (np.sin(kx * spacing_nm / 2) ** 2 + np.sin(ky * spacing_nm / 2) ** 2)
+        k2 = (2 / spacing_nm) ** 2 * (np.sin(kx * spacing_nm / 2) ** 2
+                                      + np.sin(ky * spacing_nm / 2) ** 2)
     else:
         k2 = kx**2 + ky**2
     nonzero = k2 > 0

@@ -1,1 +1,2 @@
-"""Samplers: stochastic LLG (time-resolved) and Monte Carlo (equilibrium); numba kernels in _kernels."""
+"""Samplers: stochastic LLG (time-resolved) and Monte Carlo (equilibrium); numba kernels in
+_kernels."""

@@ -64,7 +64,8 @@ def stable_time_step(model, temperature_K, damping, gamma=GAMMA_E_RAD_PER_S_T):
 
 def initial_spins(lattice, kind, *, seed=0, axis=(0.0, 0.0, 1.0), width_nm=None):
     """Initial spin array (ny, nx, 3): 'random', 'up' (+axis), 'down', 'stripes', 'labyrinth'
-    (domains ``width_nm`` wide, :func:`thinfilm.model.labyrinth.labyrinth_spins`) or an .npz path."""
+    (domains ``width_nm`` wide, :func:`thinfilm.model.labyrinth.labyrinth_spins`) or an .npz
+    path."""
     ny, nx = lattice.ny, lattice.nx
     if kind == "labyrinth":
         return labyrinth_spins(lattice, width_nm, seed=seed, axis=axis)
@@ -88,7 +89,8 @@ def initial_spins(lattice, kind, *, seed=0, axis=(0.0, 0.0, 1.0), width_nm=None)
     with np.load(kind) as data:
         s = np.array(data["spins"], dtype=np.float64)
     if s.shape != (ny, nx, 3):
-        raise ValueError(f"snapshot {kind} holds spins of shape {s.shape}, the lattice needs {(ny, nx, 3)}")
+        raise ValueError(f"snapshot {kind} holds spins of shape {s.shape}, "
+                         f"the lattice needs {(ny, nx, 3)}")
     norm = np.linalg.norm(s, axis=-1, keepdims=True)  # snapshots hold float32: renormalise
     return np.ascontiguousarray(np.divide(s, norm, out=np.zeros_like(s), where=norm > 0))
 

@@ -78,9 +78,11 @@ def continuum_to_lattice(shape, a, stiffness, anisotropy_density, magnetisation,
         n = np.asarray(axis, dtype=float)
         n = n / np.linalg.norm(n)
         if abs(abs(n[2]) - 1.0) > 1e-9:
-            raise ValueError("shape_anisotropy can be folded in only with the axis along the film normal [0, 0, 1]")
+            raise ValueError("shape_anisotropy can be folded in only with the axis along the "
+                             "film normal [0, 0, 1]")
         ku = ku - MU0 * magnetisation**2 / 2
-    return magnetisation * omega * thickness, exchange_factor(shape) * stiffness * thickness, ku * omega * thickness
+    return (magnetisation * omega * thickness, exchange_factor(shape) * stiffness * thickness,
+            ku * omega * thickness)
 
 
 COARSE_SPACING_NM = 0.6  # a continuum film on sites at least this far apart is a cell model

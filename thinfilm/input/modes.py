@@ -60,7 +60,8 @@ KEY_MODES = {
                                    "set dynamics.method: monte-carlo"),
     "dynamics.sample_every": (SETS, "steps (llg-set) or sweeps (mc-set) between samples",
                               "a time-resolved run records at record.every"),
-    "disorder.realisations": (SETS, "several disorder realisations, averaged, with the spread of Tc",
+    "disorder.realisations": (SETS,
+                              "several disorder realisations, averaged, with the spread of Tc",
                               "a time-resolved run follows one realisation; remove it or make "
                               "the scenario a set"),
     "record": (("run",), "time-series and snapshot intervals of the run",

@@ -25,7 +25,8 @@ class Reader:
         return f"{self.prefix}.{name}" if self.prefix else name
 
     def error(self, message, name):
-        return ScenarioError(message, path=self.path, key=self.key(name) if name else self.prefix or None)
+        return ScenarioError(message, path=self.path,
+                             key=self.key(name) if name else self.prefix or None)
 
     def check_keys(self, allowed):
         for k in self.data:
@@ -33,7 +34,8 @@ class Reader:
                 close = difflib.get_close_matches(str(k), list(allowed), n=1, cutoff=0.6)
                 hint = f" Did you mean {close[0]!r}?" if close else ""
                 raise self.error(
-                    f"unknown key {k!r}; allowed keys here are {', '.join(sorted(allowed))}.{hint}", k
+                    f"unknown key {k!r}; allowed keys here are "
+                    f"{', '.join(sorted(allowed))}.{hint}", k
                 )
 
     def has(self, name):
@@ -69,7 +71,8 @@ class Reader:
         if val is None:
             return None
         kind = "an integer" if integer else "a number"
-        if isinstance(val, bool) or not isinstance(val, (int, float)) or (integer and not float(val).is_integer()):
+        if (isinstance(val, bool) or not isinstance(val, (int, float))
+                or (integer and not float(val).is_integer())):
             raise self.error(f"must be {kind}, got {val!r}", name)
         if not math.isfinite(val):
             raise self.error(f"must be finite, got {val!r}", name)

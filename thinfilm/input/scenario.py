@@ -19,6 +19,7 @@ from thinfilm.input.dipolar_spec import parse_dipolar
 from thinfilm.input.disorder_spec import parse_disorder
 from thinfilm.input.errors import ScenarioError
 from thinfilm.input.initial_spec import labyrinth_width_nm
+from thinfilm.input.instrument_spec import parse_instruments
 from thinfilm.input.modes import check_keys_for_mode, metropolis_where_needed, scenario_mode
 from thinfilm.input.reader import Reader
 from thinfilm.input.spec import (
@@ -60,7 +61,8 @@ def _temperatures(r, path):
             except ValueError as exc:
                 raise ScenarioError(str(exc), path=path, key=f"temperature[{k}]") from None
             if t < 0:
-                raise ScenarioError(f"must not be negative, got {v!r}", path=path, key=f"temperature[{k}]")
+                raise ScenarioError(f"must not be negative, got {v!r}", path=path,
+                                    key=f"temperature[{k}]")
             temps.append(t)
         return temps[0], tuple(sorted(temps)), None
     t = r.sub("temperature")
@@ -80,15 +82,17 @@ def _temperatures(r, path):
 
 def _material(r, lat):
     m = r.sub("material", required=True)
-    continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness", "shape_anisotropy"}
+    continuum_keys = {"stiffness", "anisotropy_density", "magnetisation", "thickness",
+                      "shape_anisotropy"}
     lattice_keys = {"moment", "exchange", "anisotropy"}
     m.check_keys(continuum_keys | lattice_keys | {"axis", "dipolar", "dmi", curie.KEY})
     given_c = continuum_keys & set(m.data)
     given_l = lattice_keys & set(m.data)
     if given_c and given_l:
         raise m.error(
-            f"give either lattice parameters (moment, exchange, anisotropy) or continuum parameters "
-            f"(stiffness, anisotropy_density, magnetisation, thickness), not both; got {sorted(m.data)}", "")
+            f"give either lattice parameters (moment, exchange, anisotropy) or continuum "
+            f"parameters (stiffness, anisotropy_density, magnetisation, thickness), not both; "
+            f"got {sorted(m.data)}", "")
     if given_c:
         ku = m.quantity("anisotropy_density", "energy_density", default="0 J/m^3")
         ms = m.quantity("magnetisation", "magnetisation", required=True, positive=True)
@@ -105,7 +109,8 @@ def _material(r, lat):
         mu, jj, kk = continuum_to_lattice(lat.shape, lat.spacing_nm * 1e-9, a, ku, ms, t,
                                           shape_anisotropy=shape_aniso, axis=axis)
         dmi = m.quantity("dmi", "dmi_density", default="0 J/m^2")
-        cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku, "magnetisation_A_per_m": ms,
+        cont = {"stiffness_J_per_m": a, "anisotropy_density_J_per_m3": ku,
+                "magnetisation_A_per_m": ms,
                 "thickness_nm": t * 1e9, "shape_anisotropy": shape_aniso, "dmi_J_per_m2": dmi,
                 "shape_anisotropy_density_J_per_m3": MU0 * ms**2 / 2 if shape_aniso else 0.0}
         return MaterialSpec(mu, jj, kk, axis / np.linalg.norm(axis), cont, dipolar, dip_t, calib,
@@ -168,7 +173,8 @@ def _dynamics(r):
     method = d.choice("method", METHODS, default="llg")
     damping = d.number("damping", default=0.1, lo=0.0)
     if not damping > 0:
-        raise d.error("must be positive (the thermal field is proportional to the damping), got 0", "damping")
+        raise d.error("must be positive (the thermal field is proportional to the damping), got 0",
+                      "damping")
     dt = d.quantity("timestep", "time", default="1 fs", positive=True)
     duration = d.quantity("duration", "time", default="10 ps", positive=True)
     warm = d.quantity("warmup", "time", default="0 ps", nonneg=True)
@@ -180,7 +186,8 @@ def _dynamics(r):
         except ValueError as exc:
             raise d.error(str(exc), "gyromagnetic_ratio") from None
     if duration / dt > 2e9:
-        raise d.error(f"duration/timestep = {duration / dt:.3g} steps; at most 2e9 allowed", "duration")
+        raise d.error(f"duration/timestep = {duration / dt:.3g} steps; at most 2e9 allowed",
+                      "duration")
     ramp_t = ramp_b = None
     if d.has("ramp"):
         rp = d.sub("ramp")
@@ -206,7 +213,8 @@ def _dynamics(r):
 def _gamma(text):
     """Gyromagnetic ratio from e.g. "1.76e11 rad/(s T)" or "28 GHz/T" (2 pi applied for Hz)."""
     if not isinstance(text, str):
-        raise ValueError(f"must be a string with a unit such as \"1.76e11 rad/(s T)\", got {text!r}")
+        raise ValueError(f"must be a string with a unit such as \"1.76e11 rad/(s T)\", "
+                         f"got {text!r}")
     from thinfilm.input.units import ureg
 
     try:
@@ -242,53 +250,6 @@ def _initial(r, path, lat):
         raise r.error(f"must be one of {', '.join(INITIAL_STATES)}, {{labyrinth: <domain width>}} "
                       f"or the path of an existing .npz snapshot; got {val!r}.{hint}", "initial")
     return str(p), None
-
-
-def _one_instrument(ins, named):
-    keys = {"resolution", "pixel", "noise", "exposure", "field_of_view"}
-    ins.check_keys(keys | ({"name"} if named else set()))
-    out = {}
-    if named:
-        name = ins.raw("name", required=True)
-        if not isinstance(name, str) or not name.strip() or not name.replace("-", "").isalnum():
-            raise ins.error(f"must be a short name of letters, digits and '-', got {name!r}", "name")
-        out["name"] = name
-    for key, kind, name in (("resolution", "length", "resolution_nm"), ("pixel", "length", "pixel_nm"),
-                            ("field_of_view", "length", "field_of_view_nm")):
-        v = ins.quantity(key, kind, positive=True)
-        if v is not None:
-            out[name] = v * 1e9
-    exp = ins.quantity("exposure", "time", positive=True)
-    if exp is not None:
-        out["exposure_s"] = exp
-    noise = ins.number("noise", lo=0.0)
-    if noise is not None:
-        out["noise"] = noise
-    if "resolution_nm" in out and "field_of_view_nm" in out and out["resolution_nm"] >= out["field_of_view_nm"]:
-        raise ins.error(f"resolution ({out['resolution_nm']:g} nm) must be smaller than the field of view "
-                        f"({out['field_of_view_nm']:g} nm)", "resolution")
-    return out
-
-
-def _instruments(r):
-    """The instrument (a mapping) or instruments (a list of mappings, each with a name).
-
-    Returns (primary instrument dict, tuple of all instrument dicts); the first of a list is
-    the primary one (the sweep's instrument-limited lengths and the movie use it).
-    """
-    val = r.raw("instrument")
-    if not isinstance(val, list):
-        one = _one_instrument(r.sub("instrument"), named=False)
-        return one, ((one,) if one else ())
-    if not val:
-        raise r.error("an instrument list must not be empty", "instrument")
-    out = []
-    for k, item in enumerate(val):
-        out.append(_one_instrument(Reader(item, r.path, f"instrument[{k}]"), named=True))
-    names = [o["name"] for o in out]
-    if len(set(names)) != len(names):
-        raise r.error(f"instrument names must differ, got {names}", "instrument")
-    return out[0], tuple(out)
 
 
 def _disorder(r, path, lat, sizes, mat, dyn):
@@ -348,8 +309,8 @@ def load_scenario(source):
             raise ScenarioError("is empty; see scenarios/ for examples", path=path)
     r = Reader(data, path)
     r.check_keys({"name", "description", "lattice", "material", "field", "temperature", "sizes",
-                  "dynamics", "initial", "record", "seed", "sweep", "instrument", "movie", "analysis",
-                  "disorder"})
+                  "dynamics", "initial", "record", "seed", "sweep", "instrument", "movie",
+                  "analysis", "disorder"})
     lat = _lattice(r)
     mat = _material(r, lat)
     field_T = r.vector("field", unit_kind="field", default={"value": [0, 0, 0], "unit": "T"})
@@ -358,10 +319,13 @@ def load_scenario(source):
     sizes = r.raw("sizes")
     if sizes is not None:
         if (not isinstance(sizes, list) or not sizes
-                or not all(isinstance(s, int) and not isinstance(s, bool) and s >= 2 for s in sizes)):
-            raise r.error(f"must be a list of lattice sizes L >= 2 (L x L cells), got {sizes!r}", "sizes")
+                or not all(isinstance(s, int) and not isinstance(s, bool) and s >= 2
+                           for s in sizes)):
+            raise r.error(f"must be a list of lattice sizes L >= 2 (L x L cells), got {sizes!r}",
+                          "sizes")
         if lat.shape in ("triangular", "honeycomb") and lat.periodic and any(s % 2 for s in sizes):
-            raise r.error(f"a periodic {lat.shape} lattice needs even sizes, got {sizes!r}", "sizes")
+            raise r.error(f"a periodic {lat.shape} lattice needs even sizes, got {sizes!r}",
+                          "sizes")
         sizes = tuple(sorted(set(sizes)))
     _check_memory(r, lat, sizes)
     dyn = _dynamics(r)
@@ -378,7 +342,8 @@ def load_scenario(source):
     order = sw.choice("order", ORDERS, default="independent")
     cluster = sw.raw("cluster")
     if cluster is not None and (not isinstance(cluster, str) or "://" not in cluster):
-        raise sw.error(f"must be a scheduler address such as 'tcp://host:8786', got {cluster!r}", "cluster")
+        raise sw.error(f"must be a scheduler address such as 'tcp://host:8786', got {cluster!r}",
+                       "cluster")
     n_snap = sw.number("snapshots", default=20, lo=1, integer=True)
     sweep = None if mode == "run" else SweepSpec(temps, sizes, refine, order, cluster, n_snap)
     rec = r.sub("record")
@@ -395,7 +360,8 @@ def load_scenario(source):
         m.check_keys({"fps", "colour", "gif", "instrument"})
         movie = {"fps": m.number("fps", default=20, lo=1, hi=120, integer=True),
                  "colour": m.choice("colour", COLOURS, default="mz"),
-                 "gif": m.flag("gif", default=False), "instrument": m.flag("instrument", default=False)}
+                 "gif": m.flag("gif", default=False),
+                 "instrument": m.flag("instrument", default=False)}
     an = r.sub("analysis")
     an.check_keys({"level", "smoothing"})
     analysis = {"level": an.number("level", default=0.0, lo=-1.0, hi=1.0)}
@@ -403,7 +369,7 @@ def load_scenario(source):
     if sm:
         analysis["smoothing_nm"] = sm * 1e9
     name = r.raw("name", Path(path).stem if path != "<dict>" else "scenario")
-    primary, instruments = _instruments(r)
+    primary, instruments = parse_instruments(r)
     disorder = _disorder(r, path, lat, sizes, mat, dyn)
     dyn = metropolis_where_needed(r, path, mat, disorder, dyn)
     initial, width_nm = _initial(r, path, replace(lat, nx=min(sizes), ny=min(sizes)) if sizes

@@ -6,7 +6,8 @@ import numpy as np
 
 from thinfilm.input.units import MEV_J, MU_B_J_PER_T
 
-__all__ = ["LatticeSpec", "MaterialSpec", "DynamicsSpec", "SweepSpec", "Scenario", "SHAPES", "box_nm"]
+__all__ = ["LatticeSpec", "MaterialSpec", "DynamicsSpec", "SweepSpec", "Scenario", "SHAPES",
+           "box_nm"]
 
 SHAPES = ("square", "triangular", "honeycomb")
 _SQ3 = 3.0 ** 0.5
@@ -124,7 +125,8 @@ class Scenario:
                          "axis": [float(v) for v in m.axis]},
             "field_T": [float(v) for v in self.field_T],
             "temperature_K": self.temperature_K,
-            "dynamics": {"method": d.method, "damping": d.damping, "time_step_fs": d.time_step_s * 1e15,
+            "dynamics": {"method": d.method, "damping": d.damping,
+                         "time_step_fs": d.time_step_s * 1e15,
                          "duration_ps": d.duration_s * 1e12, "gamma_rad_per_s_T": d.gamma,
                          "warmup_sweeps": d.sweeps_warmup, "sample_sweeps": d.sweeps_samples,
                          "sample_every": d.sample_every, "warmup_ps": d.warmup_s * 1e12},

@@ -61,7 +61,8 @@ class Lattice:
             if self.shape == "triangular" and self.ny % 2:
                 raise ValueError("a periodic triangular lattice needs an even number of rows")
             if self.shape == "honeycomb" and (self.nx % 2 or self.ny % 2):
-                raise ValueError("a periodic honeycomb lattice needs even numbers of rows and columns")
+                raise ValueError("a periodic honeycomb lattice needs even numbers of rows and "
+                                 "columns")
 
     @property
     def code(self):

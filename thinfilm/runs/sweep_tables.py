@@ -56,11 +56,13 @@ COLUMN_UNITS = {
                                         "(ordered phase)"),
     "correlation_length_connected_nm_err": "nm, jackknife over 20 stretches of the run",
     "second_moment_connected": "1 where correlation_length_nm is the connected form, else 0",
-    "correlation_length_sk_nm": ("nm, Ornstein-Zernike fit 1/S(k) = (1 + k^2 xi^2)/chi at small k != 0 "
+    "correlation_length_sk_nm": ("nm, Ornstein-Zernike fit 1/S(k) = (1 + k^2 xi^2)/chi "
+                                 "at small k != 0 "
                                  "(connected correlations, both sides of Tc)"),
     "correlation_length_sk_nm_err": "nm, jackknife over snapshots",
     "correlation_length_instrument_nm": ("nm, as correlation_length_nm (second moment) but of the "
-                                         "instrument view (Gaussian PSF of FWHM = resolution, pixel size)"),
+                                         "instrument view (Gaussian PSF of FWHM = resolution, "
+                                         "pixel size)"),
     "correlation_length_instrument_nm_err": "nm, jackknife over snapshots",
     "correlation_length_fit_nm_err": "nm, jackknife over snapshots",
     "mean_domain_area_nm2": "nm^2, mean area of up and down domains, mean over snapshots",
@@ -69,7 +71,8 @@ COLUMN_UNITS = {
     "domain_count": "domains per snapshot (up and down), mean over snapshots",
     "largest_domain_fraction": "largest domain area / film area, mean over snapshots",
     "stripe_period_nm": "nm, period from the radial peak of S(k) of S.n, mean over snapshots",
-    "stripe_order": "dimensionless, nematic orientation order of the pattern (0 isotropic, 1 stripes)",
+    "stripe_order": ("dimensionless, nematic orientation order of the pattern "
+                     "(0 isotropic, 1 stripes)"),
     "bubble_count": "round (bubble) domains per snapshot, mean over snapshots",
     "wall_on_boundary_fraction": ("fraction of domain-wall bonds that lie on grain boundaries, "
                                   "mean over snapshots (films with grains)"),

@@ -7,10 +7,10 @@ at row i = bands[b] + P - 1, column j of band b; P = 0 and P = band length + 1 a
 the ghost rows current, so T alone is the whole state between sweeps.
 
 :func:`banded_row_sums` evaluates exactly the expressions of
-:func:`thinfilm.engines._kernels.metropolis_measure.row_sums` in the same order (neighbour sum left, right,
-up, down, diagonals; row sums in increasing column order), so its results are bitwise equal to
-converting T to (ny, nx, 3) and calling ``row_sums``. It reads whole columns (rows of one
-parity at a time) into per-band accumulators, branch-free.
+:func:`thinfilm.engines._kernels.metropolis_measure.row_sums` in the same order (neighbour sum
+left, right, up, down, diagonals; row sums in increasing column order), so its results are
+bitwise equal to converting T to (ny, nx, 3) and calling ``row_sums``. It reads whole columns
+(rows of one parity at a time) into per-band accumulators, branch-free.
 
 Dispatch. Cached compiled functions here never call a ``parallel=True`` function: a cached
 caller of a parallel callee that was itself loaded from the cache can segfault when it is
@@ -183,7 +183,8 @@ def _row_sums_serial(T, zc, bands, code, periodic, jt, kt, axis, b, rows):
 
 def banded_row_sums(T, zc, bands, code, periodic, jt, kt, axis, b, rows, parallel):
     """Per-row sums into rows (ny, 4): mx, my, mz and the energy (units of mu_s * T), as
-    :func:`thinfilm.engines._kernels.metropolis_measure.row_sums` (bitwise equal), read from the banded T."""
+    :func:`thinfilm.engines._kernels.metropolis_measure.row_sums` (bitwise equal), read from the
+    banded T."""
     kern = _row_sums_par if parallel else _row_sums_serial
     kern(T, zc, bands, code, periodic, jt, kt, axis, b, rows)
 
