@@ -10,6 +10,7 @@ import os
 import re
 import sys
 import textwrap
+import time
 
 import numpy as np
 import pytest
@@ -17,12 +18,14 @@ from run_folder_helpers import (
     DIPOLAR,
     DYNAMICS,
     ENSEMBLE,
+    LOCK_NAME,
     SEQUENCE_OPTIONS,
     SWEEP,
     assert_same_folder,
     cli,
     kill_at_random_times,
     start,
+    wait_for,
     write_yaml,
 )
 
@@ -84,11 +87,17 @@ def _campaign(kind, tmp_path, kills):
     path = write_yaml(tmp_path / f"{kind}.yaml", data)
     ref, out = tmp_path / "ref", tmp_path / "cut"
     first, _ = _commands(kind, path, ref, extra, tmp_path)
-    reference = start(first)  # uninterrupted, alongside the campaign
+    # the uninterrupted reference runs first and times the run from its lock to its end, so
+    # the kills fall inside the run however fast this machine is (a span fixed in seconds
+    # missed every run on a fast machine)
+    reference = start(first)
+    wait_for(ref / LOCK_NAME, reference)
+    t0 = time.monotonic()
+    assert reference.wait(timeout=600) == 0
+    span = min(span, 0.6 * (time.monotonic() - t0))
     first, resume = _commands(kind, path, out, extra, tmp_path)
     rng = np.random.default_rng([SEED, len(kind), kills])
     hits = kill_at_random_times(first, resume, out, rng, kills, span)
-    assert reference.wait(timeout=600) == 0
     assert hits >= 1  # at least one kill stopped a running process
     if kind == "plan":  # the plan names its folder and says how its sweep was obtained
         assert_same_folder(ref, out, ignore_keys=("sweep",), normalise=_provenance)
