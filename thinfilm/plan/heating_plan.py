@@ -1,7 +1,7 @@
 """Heating plan for a film and an imaging instrument.
 
-:func:`make_plan` runs (through the given runner, by default a plain sweep) or reuses a temperature sweep in a
-folder and answers, for the largest simulated size:
+:func:`make_plan` runs (through the given runner, by default a plain sweep) or reuses a
+temperature sweep in a folder and answers, for the largest simulated size:
 
 * Tc with its error, by the stated rule of :mod:`thinfilm.analysis.tc_rule` applied to the
   sweep's observables.csv (the same record as the folder's ``tc.json``, rewritten when it
@@ -82,7 +82,8 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
         stored = stored_identity(m)
         if stored is not None:
             check_identity(out, stored, scenario_identity(sc), doing="reuse")
-        done = m.get("finished") and (out / "observables.csv").is_file() and (out / "tc.json").is_file()
+        done = (m.get("finished") and (out / "observables.csv").is_file()
+                and (out / "tc.json").is_file())
         # a sweep killed after its tables but before its figures: the runner draws them
         figures_missing = runner is not run_sweep and not (out / "plots").is_dir()
         if done and not figures_missing:
@@ -129,8 +130,8 @@ def _fluctuations(sc, temps, size, duration_s, progress, out):
             runs = list(old.get("runs") or [])[:len(temps)]
     from tqdm import tqdm
 
-    for i, temp in enumerate(tqdm(temps, desc="LLG fluctuation runs", disable=(not progress) or None,
-                                  leave=False)):
+    for i, temp in enumerate(tqdm(temps, desc="LLG fluctuation runs",
+                                  disable=(not progress) or None, leave=False)):
         if i < len(runs):
             continue
         runs.append(_clean(fluctuation_time(model, temp, damping=dy.damping,
@@ -144,8 +145,9 @@ def _interp_tau(temp, runs):
     ts = np.array([r["temperature_K"] for r in runs])
     lt = np.log([r["tau_ps"] for r in runs])
     le = np.array([r["tau_err_ps"] / r["tau_ps"] for r in runs])
-    return float(np.exp(np.interp(temp, ts, lt))), float(np.exp(np.interp(temp, ts, lt)) * np.interp(temp, ts, le)), \
-        bool(temp < ts[0] or temp > ts[-1])
+    return (float(np.exp(np.interp(temp, ts, lt))),
+            float(np.exp(np.interp(temp, ts, lt)) * np.interp(temp, ts, le)),
+            bool(temp < ts[0] or temp > ts[-1]))
 
 
 def _points(a, runs, ins, tc):
@@ -167,7 +169,8 @@ def _points(a, runs, ins, tc):
                     "domains_resolved": bool(dt > ins["resolution_nm"]),
                     "fluctuation_time_ps": tau, "fluctuation_time_err_ps": tau_err,
                     "fluctuation_time_extrapolated": extrap,
-                    "fluctuation_time_over_exposure": tau * 1e-12 / ins["exposure_s"], "verdict": verdict})
+                    "fluctuation_time_over_exposure": tau * 1e-12 / ins["exposure_s"],
+                    "verdict": verdict})
     return out
 
 
@@ -300,7 +303,8 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
     points = _points(a, runs, ins, a["tc_K"])
     low, high = _edge(a["low"]), _edge(a["high"])
     rlo, rhi = a["resolved_low"], a["resolved_high"]
-    resolved = None if rhi["bound"] == "never" or rlo["bound"] == "never" else [rlo["value_K"], rhi["value_K"]]
+    resolved = (None if rhi["bound"] == "never" or rlo["bound"] == "never"
+                else [rlo["value_K"], rhi["value_K"]])
     xs = a["xi_smooth_nm"]
     k_max = int(np.nanargmax(xs)) if np.isfinite(xs).any() else None
     plan = dict(head, **{

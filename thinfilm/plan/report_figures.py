@@ -66,11 +66,13 @@ def _captions(plan):
     if (plan.get("extrapolation") or {}).get("curve"):
         curves.insert(1, INFINITE_FILM_CURVE)
     return {
-        f"{_stem(plan)}_xi.png": f"Lengths of the simulated film (scenario {plan['scenario']}, lattice size "
+        f"{_stem(plan)}_xi.png": f"Lengths of the simulated film (scenario {plan['scenario']}, "
+        "lattice size "
         f"L = {plan['size']}) against the temperature, with the instrument limits. {common}\n\n"
         + definition_list([t_item, ("length", "nm", "the curves of the legend:")]) + "\n"
         + "\n".join(f"  - {name}: {text}" for name, text in curves),
-        f"{_stem(plan)}_tau.png": "Fluctuation time of the order against the temperature, compared with "
+        f"{_stem(plan)}_tau.png": "Fluctuation time of the order against the temperature, "
+        "compared with "
         f"the exposure ({_duration(ins['exposure_s'])} = {exp_ps:.3g} ps; dashed line when it lies "
         f"within a factor 100 of the plotted times). {common}\n\n"
         + definition_list([
@@ -78,7 +80,8 @@ def _captions(plan):
             ("τ", "ps", "integrated autocorrelation time of m along the order axis in stochastic "
              f"LLG runs on {plan['llg']['size']} x {plan['llg']['size']} sites (points with error "
              "bars), interpolated in ln τ at the schedule temperatures (crosses)")]),
-        f"{_stem(plan)}_schedule.png": "Recommended heating schedule on the order-parameter curve of the "
+        f"{_stem(plan)}_schedule.png": "Recommended heating schedule on the order-parameter "
+        "curve of the "
         f"sweep (lattice size L = {plan['size']}). {common}\n\n"
         + definition_list([
             t_item,

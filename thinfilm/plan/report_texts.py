@@ -203,22 +203,27 @@ def markdown(plan):
     lines = [f"# Heating plan: {plan['scenario']}", "",
              "A model estimate for planning an experiment; not a measurement.", "",
              "## Instrument", "",
-             f"- resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s, field of view "
+             f"- resolution {ins['resolution_nm']:g} nm, exposure {ins['exposure_s']:g} s, "
+             "field of view "
              + (f"{fov:g} nm" if fov is not None else "not given")
-             + f" (from: {', '.join(f'{k} {v}' for k, v in plan['instrument_source'].items())})", "",
+             + " (from: "
+             + f"{', '.join(f'{k} {v}' for k, v in plan['instrument_source'].items())})", "",
              "## Answers", "",
              *_tc_lines(plan),
              f"- **Domain pattern breaks up** between {_edge_text(lo, elo, blo)} and "
-             f"{_edge_text(hi, ehi, bhi)}: from where the typical domain diameter falls below the view "
-             f"limit ({plan['view_limit_nm']:.3g} nm) to where the {plan['breakup_upper_edge_from']} "
+             f"{_edge_text(hi, ehi, bhi)}: from where the typical domain diameter falls below "
+             f"the view limit ({plan['view_limit_nm']:.3g} nm) to where the "
+             f"{plan['breakup_upper_edge_from']} "
              f"falls below the resolution.",
              f"- **Resolved window**: {_resolved_text(plan)}. " + plan["resolved_note"],
              f"- **Time scales**: {plan['timescale_note']}", "",
              "## Schedule", "",
              f"{plan['n_points']} temperatures, fine steps where |m| and ln xi change fast; dwell "
-             f"{_dwell(plan['dwell_s'])} per point (the user's choice), {_dwell(plan['total_dwell_s'])} in "
+             f"{_dwell(plan['dwell_s'])} per point (the user's choice), "
+             f"{_dwell(plan['total_dwell_s'])} in "
              f"all, plus settling time.", "",
-             "| T (K) | phase | xi, smoothed (nm) | mean domain d (nm) | typical d (nm) | xi resolved "
+             "| T (K) | phase | xi, smoothed (nm) | mean domain d (nm) | typical d (nm) "
+             "| xi resolved "
              "| tau (ps) | verdict |",
              "|---|---|---|---|---|---|---|---|"]
     for p in plan["points"]:
@@ -226,7 +231,8 @@ def markdown(plan):
         xi = "n/a" if p["correlation_length_nm"] is None else f"{p['correlation_length_nm']:.3g}"
         res = {True: "yes", False: "no"}.get(p["resolved"], "n/a")
         lines.append(f"| {p['temperature_K']:g} | {p['phase']} | {xi} | "
-                     f"{p['mean_domain_diameter_nm']:.3g} | {p['typical_domain_diameter_nm']:.3g} | "
+                     f"{p['mean_domain_diameter_nm']:.3g} | "
+                     f"{p['typical_domain_diameter_nm']:.3g} | "
                      f"{res} | {p['fluctuation_time_ps']:.3g}{star} | {p['verdict']} |")
     lines += ["", "\\* outside the LLG temperatures: nearest run's value.", "",
               "Verdict: *frozen* when tau > 10 x exposure, *averaged* when tau < exposure / 10 "
@@ -248,19 +254,24 @@ def markdown(plan):
               f"- View limit = the smaller of the field of view and the simulated film side "
               f"({plan['box_nm']:.3g} nm): simulated domains cannot be larger than the film, so a "
               "film that is one domain stands for domains larger than the view.",
-              "- Window edges: crossings of kernel-smoothed ln-curves, linear interpolation; error = "
+              "- Window edges: crossings of kernel-smoothed ln-curves, linear interpolation; "
+              "error = "
               f"half the 16-84 % spread of {plan['bootstrap']['n_boot']} parametric bootstrap "
               f"replicas (seed {plan['bootstrap']['seed']}).",
               "- Schedule: equal arclength along the normalised curve (|m|, ln xi) of the sweep "
               "with 15 % uniform spacing, rounded to 0.1 K.",
-              f"- Fluctuation time: integrated autocorrelation time (Sokal window, c = 5) of m along "
-              f"the order axis in stochastic LLG runs on {llg['size']} x {llg['size']} sites, damping "
-              f"{llg['damping']:g}, {llg['duration_ps']:.4g} ps each after Metropolis equilibration; "
+              "- Fluctuation time: integrated autocorrelation time (Sokal window, c = 5) of m "
+              f"along the order axis in stochastic LLG runs on {llg['size']} x {llg['size']} "
+              f"sites, damping {llg['damping']:g}, {llg['duration_ps']:.4g} ps each after "
+              "Metropolis equilibration; "
               "interpolated in ln tau between run temperatures. Runs:", ""]
-    lines += ["| T (K) | tau (ps) | run (ps) | step (fs) | independent samples | seed |", "|---|---|---|---|---|---|"]
+    lines += ["| T (K) | tau (ps) | run (ps) | step (fs) | independent samples | seed |",
+              "|---|---|---|---|---|---|"]
     for r in llg["runs"]:
-        lines.append(f"| {r['temperature_K']:g} | {fmt_pm(r['tau_ps'], r['tau_err_ps'], unit='')} | "
-                     f"{r['duration_ps']:.4g} | {r['time_step_fs']:.3g} | {r['n_independent']:.0f} | {r['seed']} |")
+        lines.append(f"| {r['temperature_K']:g} | "
+                     f"{fmt_pm(r['tau_ps'], r['tau_err_ps'], unit='')} | "
+                     f"{r['duration_ps']:.4g} | {r['time_step_fs']:.3g} | "
+                     f"{r['n_independent']:.0f} | {r['seed']} |")
     lines += beyond_lines(plan)
     lines += ["", "## Reproduce", "", "```", plan["command"], "```", "",
               "Figures: " + ", ".join(plan["figures"]), ""]
@@ -292,7 +303,8 @@ def summary_text(plan):
         f"verdicts: {', '.join(verdicts)}",
         f"  schedule     {len(sched)} points {sched[0]:g}..{sched[-1]:g} K: "
         + ", ".join(f"{s:g}" for s in sched),
-        f"  dwell        {_dwell(plan['dwell_s'])} per point (your choice), {_dwell(plan['total_dwell_s'])} total",
+        f"  dwell        {_dwell(plan['dwell_s'])} per point (your choice), "
+        f"{_dwell(plan['total_dwell_s'])} total",
         *_beyond_summary(plan),
         "  caution      model estimate; mind sample heating limits and sensor-film offsets; local "
         "lab rules and the instrument maker's limits come first.",

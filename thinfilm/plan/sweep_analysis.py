@@ -124,10 +124,12 @@ def analyse_sweep(out_dir, instrument, *, tc, box_nm=None, n_points=15, n_boot=4
     xi, xi_err = cols["correlation_length_nm"], fill_errors(cols["correlation_length_nm"],
                                                             _col(cols, "correlation_length_nm_err"))
     area = cols["mean_domain_area_nm2"]
-    rel_area = fill_errors(area, _col(cols, "mean_domain_area_nm2_err")) / np.where(area > 0, area, np.nan)
+    rel_area = (fill_errors(area, _col(cols, "mean_domain_area_nm2_err"))
+                / np.where(area > 0, area, np.nan))
     d_mean = _diameter(area)
     aw = _col(cols, "area_weighted_domain_area_nm2")
-    typical = "area_weighted_domain_area_nm2" if np.isfinite(aw).sum() >= 3 else "mean_domain_area_nm2"
+    typical = ("area_weighted_domain_area_nm2" if np.isfinite(aw).sum() >= 3
+               else "mean_domain_area_nm2")
     d_typ = _diameter(aw) if typical != "mean_domain_area_nm2" else d_mean
     d_typ_err = 0.5 * rel_area * d_typ  # relative error of a diameter = half that of the area
     limit_nm = fov if box_nm is None else (box_nm if fov is None else min(fov, box_nm))
@@ -152,9 +154,11 @@ def analyse_sweep(out_dir, instrument, *, tc, box_nm=None, n_points=15, n_boot=4
     fit_t = fit_xi["temperature_K"][keep]
     fit_in = np.interp(t, fit_t[np.argsort(fit_t)], fit_xi["correlation_length_nm"][keep][
         np.argsort(fit_t)]) if keep.any() else np.full_like(t, np.nan)
-    return {"size": size, "temperature_K": t, "m_abs": cols["m_abs"], "xi_nm": xi, "xi_err_nm": xi_err,
+    return {"size": size, "temperature_K": t, "m_abs": cols["m_abs"], "xi_nm": xi,
+            "xi_err_nm": xi_err,
             "xi_smooth_nm": xi_smooth, "xi_extrapolation_input_nm": fit_in,
-            "d_mean_nm": d_mean, "d_typ_nm": d_typ, "d_typ_err_nm": d_typ_err, "typical_column": typical,
+            "d_mean_nm": d_mean, "d_typ_nm": d_typ, "d_typ_err_nm": d_typ_err,
+            "typical_column": typical,
             "tc_K": tc["tc_K"], "tc_err_K": tc["tc_err_K"], "tc_method": tc["method_text"],
             "tc_json": tc, "low": low, "high": high, "high_from": high_from, "resolved_low": rlo,
             "resolved_high": rhi, "view_limit_nm": limit_nm, "schedule_K": sched}
