@@ -69,13 +69,15 @@ def beyond_figure(plan, path):
             continue
         r = np.geomspace(0.3 * a / res, 3e-2, 30)
         ax.plot(r, a / r, ls, color=GREY, lw=1,
-                label=f"A/|t| {side} Tc: sets the window width (its position carries the error of Tc)")
+                label=f"A/|t| {side} Tc: sets the window width "
+                      "(its position carries the error of Tc)")
     ax.axhline(res, color=VERMILION, ls="--", label=f"resolution {res:g} nm")
     ax.axhline(plan["box_nm"] / 10, color=GREY, ls=":",
                label="film side / 10 (largest sweep size)")
     ax.set_xscale("log")
     ax.set_yscale("log")
-    ax.set(xlabel="|T - Tc| / Tc (1)", ylabel="ξ (nm)", title="correlation length beyond the lattice")
+    ax.set(xlabel="|T - Tc| / Tc (1)", ylabel="ξ (nm)",
+           title="correlation length beyond the lattice")
     shared_legend(fig)
     return save_png(fig, path, dpi=120)
 
@@ -104,7 +106,8 @@ def infinite_film_overlay(ax, plan):
 def beyond_caption(plan):
     """Caption markdown of the figure."""
     return ("Correlation length of the infinite film against the reduced distance from Tc on log "
-            f"axes ({tc_text(plan.get('tc') or plan)}). Filled blue markers: the fitted form at sweep "
+            f"axes ({tc_text(plan.get('tc') or plan)}). Filled blue markers: the fitted form at "
+            "sweep "
             "temperatures where a lattice size converged (film side >= 10 ξ, or two sizes "
             "agree); open blue markers: where no size converged and the value rests on the "
             "finite-size scaling form ξ_L = L f(t L^(1/ν)) fitted to every size; small "
@@ -155,7 +158,8 @@ def beyond_lines(plan):
                if fit.get("finite_size") else "the rows converged in the film size")
         out.append(f"- xi (second moment, S(0) from the whole run) fitted as A |t|^-nu "
                    f"(1 + c |t|), nu = {fit['nu']:g}, "
-                   f"A = {fmt_pm(fit['amplitude_nm'], fit['amplitude_err_nm'], unit='nm')}, through {how}: {fit['n_points']} points, "
+                   f"A = {fmt_pm(fit['amplitude_nm'], fit['amplitude_err_nm'], unit='nm')}, "
+                   f"through {how}: {fit['n_points']} points, "
                    f"{fit.get('n_converged_rows', 0)} rows converged in size (film side >= 10 "
                    f"xi, or two sizes agree within 2 errors). Values in extrapolation.csv are "
                    f"flagged measured (a size converged) / finite-size scaling / extrapolated / "

@@ -1,7 +1,7 @@
 """Heating plan for a film and an imaging instrument.
 
-:func:`make_plan` runs (through the given runner, by default a plain sweep) or reuses a temperature sweep in a
-folder and answers, for the largest simulated size:
+:func:`make_plan` runs (through the given runner, by default a plain sweep) or reuses a
+temperature sweep in a folder and answers, for the largest simulated size:
 
 * Tc with its error, by the stated rule of :mod:`thinfilm.analysis.tc_rule` applied to the
   sweep's observables.csv (the same record as the folder's ``tc.json``, rewritten when it
@@ -26,14 +26,13 @@ import numpy as np
 
 from thinfilm._io import atomic_write_text, write_json
 from thinfilm.analysis.fluctuation import exposure_verdict, fluctuation_time
-from thinfilm.analysis.tc_rule import choose_tc
 from thinfilm.input.errors import InputError, ScenarioError, option
 from thinfilm.input.scenario import Scenario, load_scenario
-from thinfilm.plan.beyond_lattice import _lengths, beyond_lattice, infinite_film_points
+from thinfilm.plan.beyond_lattice import beyond_lattice, infinite_film_points
 from thinfilm.plan.curves import clean_json as _clean
-from thinfilm.plan.curves import crossing, fill_errors, schedule, smooth_log
 from thinfilm.plan.instrument import _quantity, instrument_values
-from thinfilm.runs.folder import read_csv_table, refresh_file_list
+from thinfilm.plan.sweep_analysis import NEEDED, _read_sweep, analyse_sweep, tc_record
+from thinfilm.runs.folder import refresh_file_list
 from thinfilm.runs.lifecycle import (
     check_identity,
     hold,
@@ -43,11 +42,11 @@ from thinfilm.runs.lifecycle import (
 )
 from thinfilm.runs.sweep import run_sweep
 
-__all__ = ["make_plan", "instrument_values", "analyse_sweep", "LLG_FRACTIONS"]
+__all__ = ["make_plan", "instrument_values", "analyse_sweep", "tc_record", "LLG_FRACTIONS",
+           "NEEDED"]
 
 #: LLG run temperatures as fractions of Tc (those inside the sweep range are used).
 LLG_FRACTIONS = (0.8, 0.9, 0.97, 1.03, 1.1, 1.25, 1.5)
-NEEDED = ("temperature_K", "m_abs", "correlation_length_nm", "mean_domain_area_nm2")
 
 
 def _scenario(source):
@@ -83,7 +82,8 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
         stored = stored_identity(m)
         if stored is not None:
             check_identity(out, stored, scenario_identity(sc), doing="reuse")
-        done = m.get("finished") and (out / "observables.csv").is_file() and (out / "tc.json").is_file()
+        done = (m.get("finished") and (out / "observables.csv").is_file()
+                and (out / "tc.json").is_file())
         # a sweep killed after its tables but before its figures: the runner draws them
         figures_missing = runner is not run_sweep and not (out / "plots").is_dir()
         if done and not figures_missing:
@@ -94,142 +94,6 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
     return "ran"
 
 
-def _read_sweep(out):
-    """The observables table (all sizes) and the curves of the largest size."""
-    path = out / "observables.csv"
-    tab = read_csv_table(path)
-    missing = [c for c in NEEDED + ("size",) if c not in tab]
-    if missing:
-        raise InputError(f"{path}: lacks the column(s) {', '.join(missing)} the heating plan needs")
-    sizes = tab["size"][np.isfinite(tab["size"])]
-    if not sizes.size:
-        raise InputError(f"{path}: has no rows with a lattice size; run the sweep again")
-    size = int(np.max(sizes))
-    keep = (tab["size"] == size) & np.isfinite(tab["temperature_K"])
-    order = np.argsort(tab["temperature_K"][keep])
-    cols = {k: v[keep][order] for k, v in tab.items() if v.dtype.kind == "f"}
-    return size, cols, tab
-
-
-def _col(cols, name):
-    v = cols.get(name)
-    return np.full_like(cols["temperature_K"], np.nan) if v is None else v
-
-
-def tc_record(scenario, out, tab=None):
-    """The one Tc of a sweep folder, by :func:`thinfilm.analysis.tc_rule.choose_tc` on its
-    observables.csv. A ``tc.json`` holding something else (written by an earlier version) is
-    rewritten, with the manifest's ``tc_K``, so the folder and the plan give one answer.
-
-    Returns
-    -------
-    (dict, bool)
-        The record (tc.json content) and whether tc.json was rewritten.
-    """
-    out = Path(out)
-    if tab is None:
-        tab = read_csv_table(out / "observables.csv")
-    try:
-        old = json.loads((out / "tc.json").read_text())
-    except (OSError, ValueError):
-        old = {}
-    if not isinstance(old, dict):
-        old = {}
-    rec = choose_tc(tab, anisotropy=scenario.material.anisotropy_J)
-    for k in ("tc_realisations_K", "tc_spread_K", "warnings"):
-        if k in old:
-            rec[k] = old[k]
-    rec["cross_checks"] += [c for c in old.get("cross_checks") or []
-                            if isinstance(c, dict) and c.get("method") == "realisation_mean"]
-
-    def same(a, b):
-        if a is None or b is None:
-            return a is b
-        return abs(float(a) - float(b)) <= 1e-9 * max(1.0, abs(float(a)))
-
-    stale = (old.get("status") != rec["status"] or old.get("method") != rec["method"]
-             or not same(old.get("tc_K"), rec["tc_K"])
-             or not same(old.get("tc_err_K"), rec["tc_err_K"]))
-    if stale:
-        write_json(out / "tc.json", rec)
-        man = out / "manifest.json"
-        try:
-            m = json.loads(man.read_text())
-        except (OSError, ValueError):
-            m = None
-        if isinstance(m, dict) and "tc_K" in m and m.get("tc_K") != rec["tc_K"]:
-            m["tc_K"] = rec["tc_K"]
-            write_json(man, m)
-    return rec, stale
-
-
-def _diameter(area):
-    return np.sqrt(4.0 * np.asarray(area, dtype=np.float64) / math.pi)
-
-
-def analyse_sweep(out_dir, instrument, *, tc, box_nm=None, n_points=15, n_boot=400, seed=0):
-    """Windows, curves and schedule from a finished sweep folder (no LLG runs).
-
-    Parameters
-    ----------
-    out_dir : str or Path
-        Folder with ``observables.csv``.
-    instrument : dict
-        As returned by :func:`instrument_values`.
-    tc : dict
-        The folder's Tc record (:func:`tc_record`) with status "found".
-    box_nm : float, optional
-        Side of the largest simulated film (nm); domains cannot be larger. Default: the field
-        of view only.
-    n_points : int
-        Schedule length.
-
-    Returns
-    -------
-    dict
-        Plain data for :func:`make_plan` (see its ``plan.json`` keys).
-    """
-    out = Path(out_dir)
-    size, cols, tab = _read_sweep(out)
-    t = cols["temperature_K"]
-    res, fov = instrument["resolution_nm"], instrument["field_of_view_nm"]
-    xi, xi_err = cols["correlation_length_nm"], fill_errors(cols["correlation_length_nm"],
-                                                            _col(cols, "correlation_length_nm_err"))
-    area = cols["mean_domain_area_nm2"]
-    rel_area = fill_errors(area, _col(cols, "mean_domain_area_nm2_err")) / np.where(area > 0, area, np.nan)
-    d_mean = _diameter(area)
-    aw = _col(cols, "area_weighted_domain_area_nm2")
-    typical = "area_weighted_domain_area_nm2" if np.isfinite(aw).sum() >= 3 else "mean_domain_area_nm2"
-    d_typ = _diameter(aw) if typical != "mean_domain_area_nm2" else d_mean
-    d_typ_err = 0.5 * rel_area * d_typ  # relative error of a diameter = half that of the area
-    limit_nm = fov if box_nm is None else (box_nm if fov is None else min(fov, box_nm))
-    low = crossing("fall_from_start", t, d_typ, d_typ_err, limit_nm, n_boot=n_boot, seed=seed)
-    rlo = crossing("rise_before_peak", t, xi, xi_err, res, n_boot=n_boot, seed=seed + 1)
-    rhi = crossing("fall_after_peak", t, xi, xi_err, res, n_boot=n_boot, seed=seed + 2)
-    high, high_from = rhi, "correlation length"
-    if rhi["bound"] == "never":
-        high = crossing("fall_from_start", t, d_typ, d_typ_err, res, n_boot=n_boot, seed=seed + 3)
-        high_from = "domain diameter (the correlation length never exceeds the resolution)"
-    # the plan's one xi curve: the smoothed ln xi of the crossings, at the sweep temperatures
-    # where xi was measured (NaN elsewhere; no curve from fewer than two points)
-    okx = np.isfinite(xi) & (xi > 0)
-    xi_smooth = np.full_like(t, np.nan)
-    if okx.sum() >= 2:
-        sm = np.exp(smooth_log(t[okx], np.log(xi[okx]), (xi[okx] / xi_err[okx]) ** 2))
-        xi_smooth = np.where((t >= t[okx][0]) & (t <= t[okx][-1]), np.interp(t, t[okx], sm),
-                             np.nan)
-    sched = schedule(t, cols["m_abs"], xi, n_points)
-    fit_xi = _lengths(tab)
-    keep = fit_xi["size"] == size
-    fit_t = fit_xi["temperature_K"][keep]
-    fit_in = np.interp(t, fit_t[np.argsort(fit_t)], fit_xi["correlation_length_nm"][keep][
-        np.argsort(fit_t)]) if keep.any() else np.full_like(t, np.nan)
-    return {"size": size, "temperature_K": t, "m_abs": cols["m_abs"], "xi_nm": xi, "xi_err_nm": xi_err,
-            "xi_smooth_nm": xi_smooth, "xi_extrapolation_input_nm": fit_in,
-            "d_mean_nm": d_mean, "d_typ_nm": d_typ, "d_typ_err_nm": d_typ_err, "typical_column": typical,
-            "tc_K": tc["tc_K"], "tc_err_K": tc["tc_err_K"], "tc_method": tc["method_text"],
-            "tc_json": tc, "low": low, "high": high, "high_from": high_from, "resolved_low": rlo,
-            "resolved_high": rhi, "view_limit_nm": limit_nm, "schedule_K": sched}
 
 
 def _llg_temperatures(tc, t_lo, t_hi, given):
@@ -266,8 +130,8 @@ def _fluctuations(sc, temps, size, duration_s, progress, out):
             runs = list(old.get("runs") or [])[:len(temps)]
     from tqdm import tqdm
 
-    for i, temp in enumerate(tqdm(temps, desc="LLG fluctuation runs", disable=(not progress) or None,
-                                  leave=False)):
+    for i, temp in enumerate(tqdm(temps, desc="LLG fluctuation runs",
+                                  disable=(not progress) or None, leave=False)):
         if i < len(runs):
             continue
         runs.append(_clean(fluctuation_time(model, temp, damping=dy.damping,
@@ -281,8 +145,9 @@ def _interp_tau(temp, runs):
     ts = np.array([r["temperature_K"] for r in runs])
     lt = np.log([r["tau_ps"] for r in runs])
     le = np.array([r["tau_err_ps"] / r["tau_ps"] for r in runs])
-    return float(np.exp(np.interp(temp, ts, lt))), float(np.exp(np.interp(temp, ts, lt)) * np.interp(temp, ts, le)), \
-        bool(temp < ts[0] or temp > ts[-1])
+    return (float(np.exp(np.interp(temp, ts, lt))),
+            float(np.exp(np.interp(temp, ts, lt)) * np.interp(temp, ts, le)),
+            bool(temp < ts[0] or temp > ts[-1]))
 
 
 def _points(a, runs, ins, tc):
@@ -304,7 +169,8 @@ def _points(a, runs, ins, tc):
                     "domains_resolved": bool(dt > ins["resolution_nm"]),
                     "fluctuation_time_ps": tau, "fluctuation_time_err_ps": tau_err,
                     "fluctuation_time_extrapolated": extrap,
-                    "fluctuation_time_over_exposure": tau * 1e-12 / ins["exposure_s"], "verdict": verdict})
+                    "fluctuation_time_over_exposure": tau * 1e-12 / ins["exposure_s"],
+                    "verdict": verdict})
     return out
 
 
@@ -437,7 +303,8 @@ def _plan(sc, out, ins, reuse, workers, progress, n_points, dwell_s, llg_size, l
     points = _points(a, runs, ins, a["tc_K"])
     low, high = _edge(a["low"]), _edge(a["high"])
     rlo, rhi = a["resolved_low"], a["resolved_high"]
-    resolved = None if rhi["bound"] == "never" or rlo["bound"] == "never" else [rlo["value_K"], rhi["value_K"]]
+    resolved = (None if rhi["bound"] == "never" or rlo["bound"] == "never"
+                else [rlo["value_K"], rhi["value_K"]])
     xs = a["xi_smooth_nm"]
     k_max = int(np.nanargmax(xs)) if np.isfinite(xs).any() else None
     plan = dict(head, **{

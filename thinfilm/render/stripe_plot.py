@@ -45,7 +45,8 @@ def plot_stripes(csv_path, out_dir, *, name="stripes_vs_temperature.png"):
     """
     path = Path(csv_path)
     if not path.is_file():
-        raise InputError(f"{path}: no stripe table; it is written by 'thinfilm demo --film stripes'")
+        raise InputError(f"{path}: no stripe table; it is written by "
+                         "'thinfilm demo --film stripes'")
     tab = read_table(path)
     if "temperature_K" not in tab or not len(tab["temperature_K"]):
         raise InputError(f"{path} has no 'temperature_K' column or no rows")
