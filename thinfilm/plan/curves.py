@@ -8,6 +8,8 @@ import math
 
 import numpy as np
 
+from thinfilm.analysis.tc_methods import clean_json
+
 __all__ = ["smooth_log", "crossing", "schedule", "fill_errors", "clean_json"]
 
 
@@ -201,18 +203,3 @@ def schedule(t, m_abs, xi_nm, n_points, *, floor=0.15, t_range=None, step_K=0.1)
     temps = np.interp(np.linspace(0, s[-1], int(n_points)), s, grid)
     temps = np.clip(np.round(temps / step_K) * step_K, lo, hi)
     return [float(round(x, 6)) for x in np.unique(temps)]
-
-
-def clean_json(v):
-    """JSON-ready copy: arrays to lists, NaN and inf to None."""
-    if isinstance(v, dict):
-        return {k: clean_json(x) for k, x in v.items()}
-    if isinstance(v, (list, tuple, np.ndarray)):
-        return [clean_json(x) for x in (v.tolist() if isinstance(v, np.ndarray) else v)]
-    if isinstance(v, (bool, np.bool_)):
-        return bool(v)
-    if isinstance(v, (float, np.floating)):
-        return float(v) if math.isfinite(v) else None
-    if isinstance(v, np.integer):
-        return int(v)
-    return v

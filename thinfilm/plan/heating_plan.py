@@ -84,8 +84,10 @@ def _ensure_sweep(sc, out, reuse, workers, progress, runner, overwrite=False):
             check_identity(out, stored, scenario_identity(sc), doing="reuse")
         done = (m.get("finished") and (out / "observables.csv").is_file()
                 and (out / "tc.json").is_file())
-        # a sweep killed after its tables but before its figures: the runner draws them
-        figures_missing = runner is not run_sweep and not (out / "plots").is_dir()
+        # a sweep killed after its tables but before or while drawing its figures (captions.md
+        # is written last): the runner draws them
+        figures_missing = (runner is not run_sweep
+                           and not (out / "plots" / "captions.md").is_file())
         if done and not figures_missing:
             return "reused"
         runner(sc, out, resume=True, workers=workers, progress=progress)
