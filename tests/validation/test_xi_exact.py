@@ -58,9 +58,10 @@ def test_square_lengths_match_onsager_at_four_temperatures():
     rows = xe.run("square", (0.05, 0.1, 0.2, 0.4), site_sweeps=2.5e8, max_sweeps=150000,
                   seed=11)
     for r in rows:
-        # errors measured 0.25-0.44 %: at most 0.5 % keeps 3 errors + 0.1 % below 1.6 %, so a
-        # 2 % bias of the length (or of the temperature scale, which moves xi by more) fails
-        assert r["err"] < 0.005 * r["xi_1p"], r
+        # errors measured 0.25-0.55 % (0.55 % at t = 0.05, L = 94, on a clean clone): at most
+        # 0.6 % keeps 3 errors + 0.1 % below 1.9 %, so a 2 % bias of the length (or of the
+        # temperature scale, which moves xi by more) still fails
+        assert r["err"] < 0.006 * r["xi_1p"], r
         assert abs(r["xi"] - r["xi_1p"]) < 3 * r["err"] + 0.001 * r["xi_1p"], r
     # the comparison resolves the finite-K shift: at t = 0.05 the exact length at the bare
     # coupling J/kB T is 5 % longer (more than 5 errors away at this precision)
