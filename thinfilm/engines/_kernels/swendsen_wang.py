@@ -41,7 +41,7 @@ import numpy as np
 from thinfilm.engines._kernels.banded import _row_sums_par, _row_sums_serial, row_totals
 from thinfilm.engines._kernels.metropolis import _sweeps_t, _sweeps_t_serial
 from thinfilm.engines._kernels.rng import hash64, key, uniform01
-from thinfilm.engines._kernels.wolff import banded_addresses
+from thinfilm.engines._kernels.wolff import banded_addresses, reflect_site
 
 __all__ = ["make_sw_work", "sw_move", "sw_mixed_sweeps", "sw_mixed_samples", "SW_COUNTER",
            "SW_CHUNKS"]
@@ -208,16 +208,7 @@ def _sw_move_py(Tf, addr, gaddr, LP, nbr, beta, jt, b, frame, mode, seed, stream
     for c in nb.prange(nch):
         for f in range(cb[c] * nx, cb[c + 1] * nx):
             if flip[lab[f]] != 0:
-                w = 2.0 * sig[f]
-                a = addr[f]
-                Tf[a] -= w * rx
-                Tf[a + LP] -= w * ry
-                Tf[a + 2 * LP] -= w * rz
-                a = gaddr[f]
-                if a >= 0:
-                    Tf[a] -= w * rx
-                    Tf[a + LP] -= w * ry
-                    Tf[a + 2 * LP] -= w * rz
+                reflect_site(Tf, addr, gaddr, f, LP, 2.0 * sig[f], rx, ry, rz)
     stats[0] += made
     stats[1] += n
     stats[2] += flipped

@@ -92,6 +92,20 @@ def make_cluster_work(T, bands, periodic, neighbours, axis, mode):
 
 
 @nb.njit(inline="always", **_OPT)
+def reflect_site(Tf, addr, gaddr, f, LP, w, rx, ry, rz):
+    """Reflect site f (and its ghost copy, if any) by S -= w r, with w = 2 (S.r)."""
+    a = addr[f]
+    Tf[a] -= w * rx
+    Tf[a + LP] -= w * ry
+    Tf[a + 2 * LP] -= w * rz
+    a = gaddr[f]
+    if a >= 0:
+        Tf[a] -= w * rx
+        Tf[a + LP] -= w * ry
+        Tf[a + 2 * LP] -= w * rz
+
+
+@nb.njit(inline="always", **_OPT)
 def _proj(Tf, a, LP, rx, ry, rz):
     return Tf[a] * rx + Tf[a + LP] * ry + Tf[a + 2 * LP] * rz
 
@@ -170,16 +184,7 @@ def wolff_clusters(Tf, addr, gaddr, LP, nbr, beta, jt, b, frame, mode, seed, str
             f = queue[m]
             mark[f] = 0
             if acc:
-                w = 2.0 * sig[m]
-                a = addr[f]
-                Tf[a] -= w * rx
-                Tf[a + LP] -= w * ry
-                Tf[a + 2 * LP] -= w * rz
-                a = gaddr[f]
-                if a >= 0:
-                    Tf[a] -= w * rx
-                    Tf[a + LP] -= w * ry
-                    Tf[a + 2 * LP] -= w * rz
+                reflect_site(Tf, addr, gaddr, f, LP, 2.0 * sig[m], rx, ry, rz)
         stats[0] += 1.0
         stats[1] += size
         stats[2] += 1.0 if acc else 0.0
